@@ -1,0 +1,118 @@
+"""Derating policies: how far below its ratings a part should run, and the grading rule.
+
+A policy multiplies each rating by a factor to get the largest stress it allows; a stress above
+that but within the rating is *marginal*, above the rating it is *over*. The substitution
+engine and the operating check both grade through :func:`grade`, so a number means the same
+everywhere. Works on plain floats and on numpy arrays alike.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+OK, MARGINAL, OVER, UNKNOWN = "ok", "marginal", "over", "unknown"
+
+
+@dataclass(frozen=True)
+class Policy:
+    """A named derating policy. Factors are fractions of the rating (0 < f <= 1)."""
+
+    name: str
+    voltage: float
+    """Largest Vce (DC + peak + transient) as a fraction of Vceo; also applied to Vcbo."""
+    current: float
+    """Largest Ic as a fraction of Ic max."""
+    power: float
+    """Largest dissipation as a fraction of Ptot derated to the operating temperature."""
+    tj_margin: float
+    """The junction must stay this many kelvin below Tj max..."""
+    tj_cap: float | None
+    """...and, when set, at or below this absolute temperature in °C."""
+    source: str
+    description: str = ""
+    extra: dict[str, Any] = field(default_factory=dict)
+
+    def factors(self) -> dict[str, float | None]:
+        return {"voltage": self.voltage, "current": self.current, "power": self.power,
+                "tj_margin": self.tj_margin, "tj_cap": self.tj_cap}
+
+    def tj_limit(self, tj_max: Any) -> Any:
+        """Highest junction temperature the policy allows for a part rated ``tj_max``."""
+        limit = np.asarray(tj_max, dtype=float) - self.tj_margin
+        if self.tj_cap is not None:
+            limit = np.minimum(limit, self.tj_cap)
+        return limit if np.ndim(limit) else float(limit)
+
+
+BUILTIN_POLICIES: dict[str, Policy] = {
+    # A repair bench's own rule (common practice, no standard): keep a fifth of headroom on
+    # voltage and current and 30 % on power; junction 20 K below its maximum.
+    "workshop": Policy(
+        name="workshop", voltage=0.80, current=0.80, power=0.70, tj_margin=20.0, tj_cap=None,
+        source="common practice (bench rule, not a published standard)",
+        description="General repair work: 80 % voltage and current, 70 % power, Tj 20 K below max.",
+    ),
+    # MIL-STD-975M (NASA Standard Electrical, Electronic and Electromechanical Parts List,
+    # 1994), Appendix A, derating of bipolar transistors: power 0.50, current 0.75,
+    # voltage (DC + AC peak + transient) 0.75, junction at or below 125 °C.
+    # (Read in a secondary copy; see DOMAIN notes.)
+    "mil-std-975m": Policy(
+        name="mil-std-975m", voltage=0.75, current=0.75, power=0.50, tj_margin=0.0, tj_cap=125.0,
+        source="MIL-STD-975M Appendix A, transistors (bipolar)",
+        description="High reliability: 75 % voltage and current, 50 % power, Tj <= 125 °C.",
+    ),
+    # NASA EEE-INST-002 (2003), section on transistors, bipolar: power 0.50, current 0.75,
+    # voltage 0.75, Tj <= 125 °C or Tj max - 40 K, whichever is lower. Values from memory.
+    "eee-inst-002": Policy(
+        name="eee-inst-002", voltage=0.75, current=0.75, power=0.50, tj_margin=40.0,
+        tj_cap=125.0,
+        source="NASA EEE-INST-002, bipolar transistors (factors from memory)",
+        description="High reliability, stricter on Tj: 75 % V and I, 50 % P, Tj <= min(125, max-40).",
+    ),
+}
+
+DEFAULT_POLICY = "workshop"
+
+
+class PolicyError(ValueError):
+    pass
+
+
+def policy_from_mapping(name: str, data: Mapping[str, Any]) -> Policy:
+    """Build a user policy from a config table; every factor must lie in (0, 1]."""
+    known = {"voltage", "current", "power", "tj_margin", "tj_cap", "source", "description"}
+    unknown = set(data) - known
+    if unknown:
+        raise PolicyError(f"policy {name!r}: unknown keys {sorted(unknown)}; known: {sorted(known)}")
+    base = BUILTIN_POLICIES[DEFAULT_POLICY]
+    values: dict[str, Any] = {}
+    for key in ("voltage", "current", "power"):
+        v = data.get(key, getattr(base, key))
+        if not isinstance(v, int | float) or not 0 < v <= 1:
+            raise PolicyError(f"policy {name!r}: {key} = {v!r}; expected a fraction in (0, 1]")
+        values[key] = float(v)
+    margin = data.get("tj_margin", 0.0)
+    cap = data.get("tj_cap")
+    if not isinstance(margin, int | float) or margin < 0:
+        raise PolicyError(f"policy {name!r}: tj_margin = {margin!r}; expected kelvin >= 0")
+    if cap is not None and not isinstance(cap, int | float):
+        raise PolicyError(f"policy {name!r}: tj_cap = {cap!r}; expected a temperature in °C")
+    return Policy(name=name, tj_margin=float(margin), tj_cap=None if cap is None else float(cap),
+                  source=str(data.get("source", "user policy")),
+                  description=str(data.get("description", "")), **values)
+
+
+def grade(stress: Any, rating: Any, factor: float) -> Any:
+    """Status of a stress against a rating: ok (<= factor x rating), marginal (<= rating), over.
+
+    Missing values (None / NaN) grade ``unknown``. Scalars give a str, arrays an array of str.
+    """
+    s = np.asarray(stress, dtype=float)
+    r = np.asarray(rating, dtype=float)
+    out = np.where(np.isnan(s) | np.isnan(r), UNKNOWN,
+                   np.where(s <= factor * r, OK, np.where(s <= r, MARGINAL, OVER)))
+    return str(out) if out.ndim == 0 else out

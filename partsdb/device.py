@@ -1,0 +1,290 @@
+"""The device record: one transistor type, its fields, and the rules a valid record obeys.
+
+``FIELDS`` is the single table of every device field (CSV column name, unit, kind, plausible
+range). The CSV importer, the CLI options, the TUI forms and the JSON output all read it, so a
+field is added in one place. Values are kept in SI base units (temperatures in °C, see
+:mod:`partsdb.units`); an optional field that was not given is ``None``, never 0.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import math
+from collections.abc import Mapping
+from dataclasses import dataclass, field
+from typing import Any, Literal
+
+from partsdb.designations import normalize
+from partsdb.units import UnitError, format_quantity, parse_quantity
+
+FieldKind = Literal["quantity", "choice", "text", "bool", "count"]
+
+
+@dataclass(frozen=True)
+class FieldSpec:
+    """How one device field is read, checked and shown."""
+
+    name: str
+    """CSV column and JSON key."""
+    label: str
+    """Short label for tables and forms."""
+    kind: FieldKind
+    unit: str = ""
+    """Unit symbol for quantities ("" for dimensionless such as hFE)."""
+    choices: tuple[str, ...] = ()
+    low: float | None = None
+    """Smallest plausible value (inclusive)."""
+    high: float | None = None
+    """Largest plausible value (inclusive)."""
+    required: bool = False
+    help: str = ""
+
+
+# Plausible ranges are wide on purpose: they catch a wrong prefix ("40 kV" for 40 V), not
+# unusual parts (common practice).
+FIELDS: tuple[FieldSpec, ...] = (
+    FieldSpec("designation", "Designation", "text", required=True, help="as written on the part"),
+    FieldSpec("kind", "Kind", "choice", choices=("bjt", "darlington"), required=True),
+    FieldSpec("polarity", "Polarity", "choice", choices=("npn", "pnp"), required=True),
+    FieldSpec("material", "Material", "choice", choices=("si", "ge", "other"), required=True),
+    FieldSpec("vceo", "Vceo", "quantity", "V", low=0.5, high=20e3, help="collector-emitter, base open"),
+    FieldSpec("vcbo", "Vcbo", "quantity", "V", low=0.5, high=20e3, help="collector-base, emitter open"),
+    FieldSpec("vebo", "Vebo", "quantity", "V", low=0.1, high=100, help="emitter-base, collector open"),
+    FieldSpec("ic_max", "Ic max", "quantity", "A", low=1e-4, high=2000, help="continuous collector current"),
+    FieldSpec("ptot", "Ptot", "quantity", "W", low=1e-3, high=5000, help="total dissipation at 25 °C"),
+    FieldSpec("ptot_ref", "Ptot ref", "choice", choices=("ambient", "case"),
+              help="whether Ptot is rated in free air (ambient) or at the case"),
+    FieldSpec("tj_max", "Tj max", "quantity", "°C", low=40, high=300, help="maximum junction temperature"),
+    FieldSpec("hfe_min", "hFE min", "quantity", "", low=1, high=100_000),
+    FieldSpec("hfe_max", "hFE max", "quantity", "", low=1, high=100_000),
+    FieldSpec("hfe_ic", "hFE at Ic", "quantity", "A", low=1e-7, high=2000, help="test current of the hFE window"),
+    FieldSpec("ft", "fT", "quantity", "Hz", low=1e3, high=100e9, help="transition frequency"),
+    FieldSpec("vbe_on", "Vbe(on)", "quantity", "V", low=0.05, high=5, help="base-emitter voltage at vbe_ic"),
+    FieldSpec("vbe_ic", "Vbe at Ic", "quantity", "A", low=1e-7, high=2000, help="test current of Vbe(on)"),
+    FieldSpec("vce_sat", "Vce(sat)", "quantity", "V", low=1e-3, high=10),
+    FieldSpec("icbo", "Icbo", "quantity", "A", low=1e-15, high=0.1, help="collector-base leakage at 25 °C"),
+    FieldSpec("package", "Package", "text", help="outline such as TO-92, TO-18, TO-126, TO-220, TO-3, SOT-23"),
+    FieldSpec("pinout", "Pinout", "text",
+              help="lead order as E/B/C letters, read left to right facing the flat (marked) side, "
+                   "leads down; for metal cans and SOT-23: pin 1, 2, 3"),
+    FieldSpec("application", "Application", "text", help="class such as audio, rf, switching, power"),
+    FieldSpec("obsolete", "Obsolete", "bool"),
+    FieldSpec("notes", "Notes", "text"),
+    FieldSpec("low_stock", "Low stock", "count", low=0, high=10_000_000,
+              help="warn when the stock of this device falls below this count"),
+)
+
+FIELD_BY_NAME: dict[str, FieldSpec] = {f.name: f for f in FIELDS}
+FIELD_NAMES: tuple[str, ...] = tuple(f.name for f in FIELDS)
+QUANTITY_FIELDS: tuple[str, ...] = tuple(f.name for f in FIELDS if f.kind == "quantity")
+
+# Junction temperature assumed when a record has none (common practice: germanium parts were
+# rated 75-90 °C, silicon 150 °C or more). Reported as assumed wherever it is used.
+DEFAULT_TJ_MAX: dict[str, float] = {"ge": 85.0, "si": 150.0, "other": 150.0}
+
+_TRUE = {"yes", "y", "true", "t", "1"}
+_FALSE = {"no", "n", "false", "f", "0", ""}
+
+
+class InvalidRecord(ValueError):
+    """One or more fields of a record are invalid; ``problems`` lists (field, message)."""
+
+    def __init__(self, problems: list[tuple[str, str]]) -> None:
+        self.problems = problems
+        super().__init__("; ".join(msg for _, msg in problems))
+
+
+@dataclass
+class Device:
+    """One device type with its ratings. Quantities in SI base units, temperatures in °C."""
+
+    designation: str
+    kind: str = "bjt"
+    polarity: str = "npn"
+    material: str = "si"
+    vceo: float | None = None
+    vcbo: float | None = None
+    vebo: float | None = None
+    ic_max: float | None = None
+    ptot: float | None = None
+    ptot_ref: str | None = None
+    tj_max: float | None = None
+    hfe_min: float | None = None
+    hfe_max: float | None = None
+    hfe_ic: float | None = None
+    ft: float | None = None
+    vbe_on: float | None = None
+    vbe_ic: float | None = None
+    vce_sat: float | None = None
+    icbo: float | None = None
+    package: str | None = None
+    pinout: str | None = None
+    application: str | None = None
+    obsolete: bool = False
+    notes: str | None = None
+    low_stock: int | None = None
+    warnings: list[str] = field(default_factory=list)
+    """Consistency warnings (designation vs fields), stored with the record."""
+
+    @property
+    def key(self) -> str:
+        """The normalised designation, unique in the database."""
+        return normalize(self.designation)
+
+    def tj_max_or_default(self) -> tuple[float, bool]:
+        """Tj max and whether it was assumed from the material (True when assumed)."""
+        if self.tj_max is not None:
+            return self.tj_max, False
+        return DEFAULT_TJ_MAX.get(self.material, 150.0), True
+
+    def to_dict(self) -> dict[str, Any]:
+        """Plain values keyed by the CSV column names (SI base units)."""
+        return {name: getattr(self, name) for name in FIELD_NAMES}
+
+    def display(self, name: str) -> str:
+        """One field formatted for people: engineering notation, yes/no, or text."""
+        spec = FIELD_BY_NAME[name]
+        value = getattr(self, name)
+        if value is None:
+            return "—"
+        if spec.kind == "quantity":
+            return format_quantity(value, spec.unit)
+        if spec.kind == "bool":
+            return "yes" if value else "no"
+        return str(value)
+
+
+def parse_bool(value: object, field: str) -> bool:
+    if isinstance(value, bool):
+        return value
+    if isinstance(value, int | float) and not (isinstance(value, float) and math.isnan(value)):
+        if value in (0, 1):
+            return bool(value)
+    text = "" if value is None else str(value).strip().lower()
+    if text in _TRUE:
+        return True
+    if text in _FALSE:
+        return False
+    raise UnitError(field, value, "yes/no, true/false or 1/0")
+
+
+def _blank(value: object) -> bool:
+    if value is None:
+        return True
+    if isinstance(value, float) and math.isnan(value):
+        return True
+    return isinstance(value, str) and value.strip() in ("", "—")
+
+
+def parse_field(name: str, value: object) -> Any:
+    """Read one raw value (text or number) into its stored form; blank -> None.
+
+    Raises :class:`UnitError` naming the field, the value and what was expected.
+    """
+    spec = FIELD_BY_NAME[name]
+    if spec.kind == "bool":
+        return parse_bool(value, name)
+    if _blank(value):
+        if spec.required:
+            raise UnitError(name, value, "a value (this field is required)")
+        return None
+    if spec.kind == "text":
+        return str(value).strip()
+    if spec.kind == "choice":
+        text = str(value).strip().lower()
+        aliases = {"germanium": "ge", "silicon": "si", "darl": "darlington", "free-air": "ambient",
+                   "free air": "ambient", "air": "ambient"}
+        text = aliases.get(text, text)
+        if text not in spec.choices:
+            raise UnitError(name, value, "one of " + ", ".join(spec.choices))
+        return text
+    if spec.kind == "count":
+        number = parse_quantity(value, "", name)
+        if number != int(number) or number < 0:
+            raise UnitError(name, value, "a whole number of parts, 0 or more")
+        return int(number)
+    number = parse_quantity(value, spec.unit, name)
+    if number <= 0:
+        raise UnitError(name, value, f"a positive {spec.label} ({describe_range(spec)})")
+    return number
+
+
+def describe_range(spec: FieldSpec) -> str:
+    return f"{format_quantity(spec.low, spec.unit)} to {format_quantity(spec.high, spec.unit)}"
+
+
+def check_record(values: Mapping[str, Any]) -> list[tuple[str, str]]:
+    """Cross-field and range rules on parsed values; returns (field, message) problems."""
+    problems: list[tuple[str, str]] = []
+    for spec in FIELDS:
+        v = values.get(spec.name)
+        if spec.kind not in ("quantity", "count") or v is None:
+            continue
+        if (spec.low is not None and v < spec.low) or (spec.high is not None and v > spec.high):
+            problems.append((spec.name, f"{spec.name}: {format_quantity(v, spec.unit)} is outside "
+                                        f"the plausible range {describe_range(spec)}"))
+    lo, hi = values.get("hfe_min"), values.get("hfe_max")
+    if lo is not None and hi is not None and lo > hi:
+        problems.append(("hfe_min", f"hfe_min: {lo:g} is above hfe_max {hi:g}; expected min <= max"))
+    vceo, vcbo = values.get("vceo"), values.get("vcbo")
+    # A transistor's Vcbo is never below its Vceo (BVceo = BVcbo / (1+hFE)^(1/n); common practice).
+    if vceo is not None and vcbo is not None and vcbo < vceo:
+        problems.append(("vcbo", f"vcbo: {format_quantity(vcbo, 'V')} is below vceo "
+                                 f"{format_quantity(vceo, 'V')}; expected vcbo >= vceo"))
+    if values.get("vbe_on") is not None and values.get("vbe_ic") is None:
+        problems.append(("vbe_ic", "vbe_ic: missing; expected the test current of vbe_on"))
+    if values.get("pinout"):
+        pin = str(values["pinout"]).upper().replace("-", "").replace(" ", "")
+        if len(pin) != 3 or sorted(pin) != ["B", "C", "E"]:
+            problems.append(("pinout", f"pinout: {values['pinout']!r} is not valid; expected the "
+                                       "three letters E, B, C in lead order, such as EBC or ECB"))
+    if values.get("ptot") is not None and values.get("ptot_ref") is None:
+        problems.append(("ptot_ref", "ptot_ref: missing; expected 'ambient' or 'case' for the "
+                                     "Ptot rating"))
+    if "designation" in values and not normalize(str(values["designation"] or "")):
+        problems.append(("designation", "designation: empty; expected the part number"))
+    return problems
+
+
+def parse_device(raw: Mapping[str, Any]) -> Device:
+    """Build a valid :class:`Device` from raw values (text with units or numbers).
+
+    Unknown keys are refused. Every problem is collected, then raised together as
+    :class:`InvalidRecord`, so a user fixes a row in one pass.
+    """
+    unknown = [k for k in raw if k not in FIELD_BY_NAME]
+    problems: list[tuple[str, str]] = [
+        (k, f"{k}: unknown field; known fields are {', '.join(FIELD_NAMES)}") for k in unknown
+    ]
+    values: dict[str, Any] = {}
+    for spec in FIELDS:
+        if spec.name not in raw:
+            if spec.required:
+                problems.append((spec.name, f"{spec.name}: missing; expected "
+                                 + ("one of " + ", ".join(spec.choices) if spec.choices
+                                    else "a value")))
+            continue
+        try:
+            values[spec.name] = parse_field(spec.name, raw[spec.name])
+        except UnitError as err:
+            problems.append((spec.name, str(err)))
+    if values.get("pinout"):
+        values["pinout"] = str(values["pinout"]).upper().replace("-", "").replace(" ", "")
+    seen = {name for name, _ in problems}
+    problems.extend(p for p in check_record(values) if p[0] not in seen)
+    if problems:
+        raise InvalidRecord(problems)
+    return Device(**values)
+
+
+def replace(device: Device, **changes: Any) -> Device:
+    """A copy of ``device`` with raw ``changes`` parsed and the whole record re-checked."""
+    raw = device.to_dict()
+    raw.update(changes)
+    new = parse_device(raw)
+    new.warnings = device.warnings
+    return new
+
+
+def fields_of(device: Device) -> dict[str, Any]:
+    return dataclasses.asdict(device)

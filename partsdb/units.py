@@ -1,0 +1,168 @@
+"""Engineering notation in and out: the one place where text becomes a number with a unit.
+
+Technicians type what they read off a datasheet: "40 V", "200mA", "300 MHz", "2k2", "4R7".
+quantiphy does the arithmetic of SI prefixes, but it is lax (it reads "2k2" as 2 with the unit
+"k2" and "4O0V" as 4 with the unit "O0V"), so every text is first checked here against a strict
+pattern: a number, an optional SI prefix, an optional unit that must be the field's own.
+
+R-notation (IEC 60062 "RKM" code: the prefix letter stands where the decimal point goes, "R" or
+"E" for the unit multiplier) is accepted for resistances, and the prefix-as-decimal-point form
+("2k2", "4m7") for any unit.
+
+Temperatures are kept in degrees Celsius, the unit of every datasheet and of the derating
+formulas; every other quantity is kept in SI base units (V, A, W, Hz, ohm, K/W).
+"""
+
+from __future__ import annotations
+
+import math
+import re
+from dataclasses import dataclass
+
+from quantiphy import Quantity
+
+# SI prefixes (BIPM SI Brochure, 9th ed., table 7), plus "K" for kilo and "u" for micro,
+# which are how workshops write them (common practice).
+PREFIXES: dict[str, float] = {
+    "T": 1e12,
+    "G": 1e9,
+    "M": 1e6,
+    "k": 1e3,
+    "K": 1e3,
+    "": 1.0,
+    "m": 1e-3,
+    "u": 1e-6,
+    "µ": 1e-6,
+    "μ": 1e-6,
+    "n": 1e-9,
+    "p": 1e-12,
+    "f": 1e-15,
+}
+
+# The units a field may carry, by canonical symbol, with the spellings accepted for each.
+UNIT_SPELLINGS: dict[str, tuple[str, ...]] = {
+    "V": ("v",),
+    "A": ("a",),
+    "W": ("w",),
+    "Hz": ("hz",),
+    "Ω": ("ω", "ohm", "ohms", "r"),
+    "°C": ("°c", "c", "degc"),
+    "K/W": ("k/w", "°c/w", "c/w"),
+    "": ("",),
+}
+
+
+class UnitError(ValueError):
+    """A text that is not a valid quantity for its field; the message names field, value, unit."""
+
+    def __init__(self, field: str, value: object, expected: str) -> None:
+        self.field = field
+        self.value = value
+        self.expected = expected
+        super().__init__(f"{field}: {value!r} is not valid; expected {expected}")
+
+
+_NUMBER = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
+_PREFIX = r"[TGMkKmuµμnpf]?"
+# "40", "40V", "40 V", "200mA", "1.5e-3 A", "0.3 GHz"
+_PLAIN = re.compile(rf"^(?P<num>{_NUMBER})\s*(?P<prefix>{_PREFIX})\s*(?P<unit>[^\d\s].*)?$")
+# "2k2", "4m7", "1M5" (+ optional unit): prefix letter as decimal point
+_RKM = re.compile(r"^(?P<int>\d+)(?P<prefix>[TGMkKmuµμnp])(?P<frac>\d+)\s*(?P<unit>[^\d\s].*)?$")
+# "4R7", "R47", "47R", "4E7" : resistance only
+_RKM_R = re.compile(r"^(?P<int>\d*)[RE](?P<frac>\d*)\s*(?P<unit>ohms?|Ω)?$", re.IGNORECASE)
+
+
+def _unit_matches(text: str | None, unit: str) -> bool:
+    if not text:
+        return True
+    return text.strip().lower() in UNIT_SPELLINGS.get(unit, (unit.lower(),))
+
+
+def describe(unit: str) -> str:
+    """Human wording of what a field expects, used in error messages."""
+    if unit == "":
+        return "a plain number"
+    examples = {
+        "V": "a voltage such as 40V or 1.2 kV",
+        "A": "a current such as 200mA or 1.5 A",
+        "W": "a power such as 625mW or 30 W",
+        "Hz": "a frequency such as 300MHz",
+        "Ω": "a resistance such as 2k2, 4R7 or 47 kΩ",
+        "°C": "a temperature in °C such as 150",
+        "K/W": "a thermal resistance such as 8 K/W",
+    }
+    return examples.get(unit, f"a number in {unit}")
+
+
+def parse_quantity(text: object, unit: str, field: str = "value") -> float:
+    """Parse ``text`` as a quantity in ``unit`` and return it in the base unit.
+
+    Accepts numbers (taken in the base unit), engineering notation with an optional unit that
+    must be the field's own, and RKM notation. Raises :class:`UnitError` naming the field.
+    """
+    if isinstance(text, bool):
+        raise UnitError(field, text, describe(unit))
+    if isinstance(text, int | float):
+        value = float(text)
+        if not math.isfinite(value):
+            raise UnitError(field, text, describe(unit))
+        return value
+    if not isinstance(text, str):
+        raise UnitError(field, text, describe(unit))
+    s = text.strip()
+    if not s:
+        raise UnitError(field, text, describe(unit))
+
+    m = _PLAIN.match(s)
+    if m and _unit_matches(m.group("unit"), unit) and not (unit == "" and m.group("prefix")):
+        # quantiphy knows "k" and "u", not the workshop spellings "K" and "µ".
+        prefix = {"K": "k", "µ": "u", "μ": "u"}.get(m.group("prefix"), m.group("prefix"))
+        value = float(Quantity(m.group("num") + prefix))
+        if math.isfinite(value):
+            return value
+
+    m = _RKM.match(s)
+    if m and unit != "" and _unit_matches(m.group("unit"), unit):
+        return float(f"{m.group('int')}.{m.group('frac')}") * PREFIXES[m.group("prefix")]
+
+    if unit == "Ω":
+        m = _RKM_R.match(s)
+        if m and (m.group("int") or m.group("frac")):
+            return float(f"{m.group('int') or 0}.{m.group('frac') or 0}")
+
+    raise UnitError(field, text, describe(unit))
+
+
+def format_quantity(value: float | None, unit: str, digits: int = 3) -> str:
+    """Format a base-unit value with an SI prefix: 0.2, "A" -> "200 mA". None -> "—"."""
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return "—"
+    if unit in ("°C", "K/W", ""):
+        text = f"{value:.{digits}g}"
+        return f"{text} {unit}".strip()
+    q = Quantity(value, "Ω" if unit == "Ω" else unit)
+    return q.render(prec=digits - 1, strip_zeros=True)
+
+
+@dataclass(frozen=True)
+class Range:
+    """A closed interval of a quantity such as an hFE window "60..180"."""
+
+    low: float
+    high: float
+
+
+def parse_range(text: str, unit: str, field: str) -> Range:
+    """Parse "60..180", "60-180" (when unambiguous) or a single value "100" as a range."""
+    s = str(text).strip()
+    parts = re.split(r"\s*\.\.\s*|\s*(?<=\d)\s*(?:to|…)\s*", s)
+    if len(parts) == 1:
+        v = parse_quantity(parts[0], unit, field)
+        return Range(v, v)
+    if len(parts) != 2:
+        raise UnitError(field, text, "a range such as 60..180")
+    low = parse_quantity(parts[0], unit, field)
+    high = parse_quantity(parts[1], unit, field)
+    if low > high:
+        raise UnitError(field, text, f"a range whose low end is not above its high end ({s})")
+    return Range(low, high)
