@@ -1,0 +1,182 @@
+"""What every CLI command shares: the database handle, option types, output and errors.
+
+Commands are thin: parse options (units through :class:`QuantityParam`), make one service or
+domain call, format the result. Heavy modules (numpy, pandas, sqlalchemy, scipy) are imported
+inside command bodies so that ``partsdb --help`` stays fast.
+
+Exit codes: 0 success, 1 not found, 2 bad usage or invalid input (message on stderr).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+import sys
+from collections.abc import Callable, Iterable, Sequence
+from dataclasses import dataclass, field
+from typing import TYPE_CHECKING, Any, NoReturn
+
+import click
+
+if TYPE_CHECKING:
+    from partsdb.device import Device
+    from partsdb.storage.database import Database
+
+EXIT_NOT_FOUND = 1
+EXIT_INVALID = 2
+
+
+@dataclass
+class CliState:
+    """Per-invocation state: which database, opened lazily on first use."""
+
+    db_url: str | None = None
+    read_only: bool = False
+    quiet: bool = False
+    _db: Database | None = field(default=None, repr=False)
+
+    def database(self) -> Database:
+        if self._db is None:
+            from partsdb.storage.database import open_database
+
+            self._db = open_database(self.db_url, read_only=self.read_only,
+                                     notify=None if self.quiet else _notice)
+        return self._db
+
+
+def _notice(message: str) -> None:
+    click.echo(message, err=True)
+
+
+pass_state = click.make_pass_decorator(CliState, ensure=True)
+
+
+def fail(message: str, code: int = EXIT_INVALID) -> NoReturn:
+    """Print ``error: message`` on stderr and exit with ``code`` (nothing is written)."""
+    click.echo(f"error: {message}", err=True)
+    sys.exit(code)
+
+
+class QuantityParam(click.ParamType):
+    """A click option value in engineering notation ("40V", "200mA", "2k2") -> float, base unit."""
+
+    name = "quantity"
+
+    def __init__(self, unit: str, field: str | None = None, positive: bool = True) -> None:
+        self.unit = unit
+        self.field = field
+        self.positive = positive
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None) -> float:
+        from partsdb.units import UnitError, parse_quantity
+
+        if isinstance(value, float):
+            return value
+        name = self.field or (param.name if param and param.name else "value")
+        try:
+            number = parse_quantity(value, self.unit, name)
+        except UnitError as err:
+            self.fail(str(err), param, ctx)
+        if self.positive and number <= 0:
+            self.fail(f"{name}: {value!r} must be positive", param, ctx)
+        return number
+
+
+class RangeParam(click.ParamType):
+    """A window such as "60..180" -> (low, high); a single value gives (v, v)."""
+
+    name = "range"
+
+    def __init__(self, unit: str = "", field: str | None = None) -> None:
+        self.unit = unit
+        self.field = field
+
+    def convert(self, value: Any, param: click.Parameter | None,
+                ctx: click.Context | None) -> tuple[float, float]:
+        from partsdb.units import UnitError, parse_range
+
+        if isinstance(value, tuple):
+            return value
+        name = self.field or (param.name if param and param.name else "value")
+        try:
+            r = parse_range(value, self.unit, name)
+        except UnitError as err:
+            self.fail(str(err), param, ctx)
+        if r.low <= 0:
+            self.fail(f"{name}: {value!r} must be positive", param, ctx)
+        return (r.low, r.high)
+
+
+def format_option(*choices: str, default: str = "table") -> Callable[[Callable[..., Any]], Any]:
+    """``--format`` with the given choices; the value arrives as the ``fmt`` keyword."""
+    return click.option("--format", "fmt", type=click.Choice(choices), default=default,
+                        show_default=True, help="Output format.")
+
+
+def _json_default(value: Any) -> Any:
+    if hasattr(value, "item"):  # numpy scalars
+        return value.item()
+    if hasattr(value, "isoformat"):
+        return value.isoformat()
+    raise TypeError(f"not JSON serialisable: {type(value).__name__}")
+
+
+def _clean(value: Any) -> Any:
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    if isinstance(value, dict):
+        return {k: _clean(v) for k, v in value.items()}
+    if isinstance(value, list | tuple):
+        return [_clean(v) for v in value]
+    return value
+
+
+def emit_json(data: Any) -> None:
+    """Print ``data`` as JSON (NaN and infinities become null)."""
+    click.echo(json.dumps(_clean(data), indent=2, ensure_ascii=False, default=_json_default))
+
+
+def emit_csv(columns: Sequence[str], rows: Iterable[Sequence[Any]]) -> None:
+    import csv
+
+    writer = csv.writer(sys.stdout, lineterminator="\n")
+    writer.writerow(columns)
+    for row in rows:
+        writer.writerow(["" if v is None else v for v in row])
+
+
+def print_table(title: str | None, columns: Sequence[str], rows: Iterable[Sequence[Any]],
+                caption: str | None = None) -> None:
+    """A rich table on stdout."""
+    from rich.console import Console
+    from rich.table import Table
+
+    table = Table(title=title, caption=caption, header_style="bold")
+    for col in columns:
+        table.add_column(col)
+    for row in rows:
+        table.add_row(*["—" if v is None else str(v) for v in row])
+    Console().print(table)
+
+
+def load_device(state: CliState, designation: str) -> Device:
+    """The stored device for ``designation`` or exit 1 with close spellings suggested."""
+    from partsdb.services import catalog
+
+    with state.database().session() as session:
+        device = catalog.get_device(session, designation)
+        if device is None:
+            hints = catalog.suggest(session, designation, limit=3)
+    if device is None:
+        hint = f" (did you mean: {', '.join(hints)}?)" if hints else ""
+        fail(f"device {designation!r} not found{hint}", EXIT_NOT_FOUND)
+    return device
+
+
+def launch_tui(state: CliState) -> None:
+    """Open the terminal UI on the state's database."""
+    try:
+        from tui.app import run_app
+    except ModuleNotFoundError:
+        fail("the terminal UI is not installed in this build")
+    run_app(state.database())

@@ -1,0 +1,208 @@
+"""CLI: the ``stock`` group: receive, take, return, move, count, where, low, ledger."""
+
+from __future__ import annotations
+
+from datetime import datetime
+
+import click
+
+from partsdb.cli.common import (
+    CliState,
+    emit_csv,
+    emit_json,
+    format_option,
+    pass_state,
+    print_table,
+)
+
+QTY = click.IntRange(min=1)
+CONDITION = click.Choice(["new", "used", "pulled", "tested"], case_sensitive=False)
+
+
+@click.group()
+def stock() -> None:
+    """Stock by place: every change is written to the ledger in the same transaction."""
+
+
+def _said(verb: str, view: object) -> None:
+    from partsdb.services.stock import LotView
+
+    assert isinstance(view, LotView)
+    low = "  (below low-stock mark)" if view.low else ""
+    click.echo(f"{verb}: {view.designation} at {view.location} ({view.condition}) now "
+               f"{view.quantity}{low}")
+
+
+@stock.command("receive")
+@click.argument("designation")
+@click.argument("qty", type=QTY)
+@click.option("--to", "to", required=True, metavar="LOC", help="Place, such as C2/D14.")
+@click.option("--condition", type=CONDITION, default="new", show_default=True)
+@click.option("--job", metavar="REF", help="Job or order reference.")
+@click.option("--note")
+@pass_state
+def receive(state: CliState, designation: str, qty: int, to: str, condition: str,
+            job: str | None, note: str | None) -> None:
+    """Parts arrive (bought, salvaged) into a drawer."""
+    from partsdb.services import stock as svc
+
+    with state.database().session() as session:
+        view = svc.receive(session, designation, qty, to, condition.lower(), job, note)
+    _said("received", view)
+
+
+@stock.command("take")
+@click.argument("designation")
+@click.argument("qty", type=QTY)
+@click.option("--from", "from_", required=True, metavar="LOC", help="Place, such as C2/D14.")
+@click.option("--condition", type=CONDITION, help="Which lot, when the place holds several.")
+@click.option("--job", metavar="REF", help="Job the parts go to.")
+@click.option("--note")
+@pass_state
+def take(state: CliState, designation: str, qty: int, from_: str, condition: str | None,
+         job: str | None, note: str | None) -> None:
+    """Take parts out of a drawer (refused, changing nothing, if fewer are there)."""
+    from partsdb.services import stock as svc
+
+    with state.database().session() as session:
+        view = svc.take(session, designation, qty, from_, condition, job, note)
+    _said("took", view)
+
+
+@stock.command("return")
+@click.argument("designation")
+@click.argument("qty", type=QTY)
+@click.option("--to", "to", required=True, metavar="LOC")
+@click.option("--condition", type=CONDITION,
+              help="Lot to return into (default: the one there, else a new 'used' lot).")
+@click.option("--job", metavar="REF")
+@click.option("--note")
+@pass_state
+def return_(state: CliState, designation: str, qty: int, to: str, condition: str | None,
+            job: str | None, note: str | None) -> None:
+    """Put unused parts back from a job."""
+    from partsdb.services import stock as svc
+
+    with state.database().session() as session:
+        view = svc.return_parts(session, designation, qty, to, condition, job, note)
+    _said("returned", view)
+
+
+@stock.command("move")
+@click.argument("designation")
+@click.argument("qty", type=QTY)
+@click.option("--from", "from_", required=True, metavar="LOC")
+@click.option("--to", "to", required=True, metavar="LOC")
+@click.option("--condition", type=CONDITION, help="Which lot, when the place holds several.")
+@click.option("--note")
+@pass_state
+def move(state: CliState, designation: str, qty: int, from_: str, to: str,
+         condition: str | None, note: str | None) -> None:
+    """Move parts from one place to another."""
+    from partsdb.services import stock as svc
+
+    with state.database().session() as session:
+        source, target = svc.move(session, designation, qty, from_, to, condition, None, note)
+    _said("moved from", source)
+    _said("moved to", target)
+
+
+@stock.command("count")
+@click.argument("designation")
+@click.argument("qty", type=click.IntRange(min=0))
+@click.option("--at", "at", required=True, metavar="LOC")
+@click.option("--condition", type=CONDITION)
+@click.option("--note")
+@pass_state
+def count(state: CliState, designation: str, qty: int, at: str, condition: str | None,
+          note: str | None) -> None:
+    """Record a stock-take: set the counted quantity; the ledger keeps the difference."""
+    from partsdb.services import stock as svc
+
+    with state.database().session() as session:
+        view, diff = svc.count(session, designation, qty, at, condition, None, note)
+    _said(f"counted ({diff:+d})", view)
+
+
+@stock.command("where")
+@click.argument("designation")
+@format_option("table", "json", "csv")
+@pass_state
+def where(state: CliState, designation: str, fmt: str) -> None:
+    """Where a device is kept and how many are in each place."""
+    from partsdb.services import stock as svc
+
+    with state.database().session() as session:
+        lots = svc.where(session, designation)
+    if fmt == "json":
+        emit_json([v.to_json() for v in lots])
+    elif fmt == "csv":
+        emit_csv(["designation", "location", "quantity", "condition", "note"],
+                 [[v.designation, v.location, v.quantity, v.condition, v.note] for v in lots])
+    else:
+        total = sum(v.quantity for v in lots)
+        print_table(f"{designation}: {total} in stock", ["Location", "Qty", "Condition", "Note"],
+                    [[v.location, v.quantity, v.condition, v.note] for v in lots])
+
+
+@stock.command("low")
+@format_option("table", "json", "csv")
+@pass_state
+def low(state: CliState, fmt: str) -> None:
+    """Devices whose stock is below their low-stock mark."""
+    from partsdb.services import stock as svc
+
+    with state.database().session() as session:
+        items = svc.low_stock(session)
+    rows = [[i.designation, i.quantity, i.threshold, ", ".join(i.locations)] for i in items]
+    if fmt == "json":
+        emit_json([{"designation": i.designation, "quantity": i.quantity,
+                    "low_stock": i.threshold, "locations": i.locations} for i in items])
+    elif fmt == "csv":
+        emit_csv(["designation", "quantity", "low_stock", "locations"], rows)
+    else:
+        print_table("Below the low-stock mark", ["Designation", "Qty", "Mark", "Where"], rows)
+
+
+def _date(text: str | None, name: str) -> datetime | None:
+    if text is None:
+        return None
+    try:
+        return datetime.fromisoformat(text)
+    except ValueError:
+        from partsdb.cli.common import fail
+
+        fail(f"{name}: {text!r} is not a date; expected YYYY-MM-DD or YYYY-MM-DDTHH:MM")
+
+
+@stock.command("ledger")
+@click.argument("designation", required=False)
+@click.option("--at", "location", metavar="LOC", help="Only this place and the places in it.")
+@click.option("--job", metavar="REF", help="Only this job.")
+@click.option("--since", metavar="DATE", help="From this date (YYYY-MM-DD).")
+@click.option("--until", metavar="DATE", help="Up to this date.")
+@click.option("--limit", type=click.IntRange(min=1), default=50, show_default=True)
+@format_option("table", "json", "csv")
+@pass_state
+def ledger(state: CliState, designation: str | None, location: str | None, job: str | None,
+           since: str | None, until: str | None, limit: int, fmt: str) -> None:
+    """The movement ledger, newest first."""
+    from partsdb.services import stock as svc
+
+    with state.database().session() as session:
+        entries = svc.ledger(session, designation, location, job, _date(since, "--since"),
+                             _date(until, "--until"), limit)
+    if fmt == "json":
+        emit_json([e.to_json() for e in entries])
+        return
+    rows = [[e.at.strftime("%Y-%m-%d %H:%M"), e.designation, e.location, e.condition,
+             f"{e.change:+d}", e.reason, e.job, e.note] for e in entries]
+    if fmt == "csv":
+        emit_csv(["at", "designation", "location", "condition", "change", "reason", "job",
+                  "note"], rows)
+    else:
+        print_table("Ledger", ["When (UTC)", "Device", "Place", "Cond.", "Change", "Reason",
+                               "Job", "Note"], rows)
+
+
+COMMANDS = (stock,)

@@ -1,0 +1,199 @@
+"""The device catalog: look up, add, edit, remove and list device records.
+
+Every face (CLI, TUI, importer) goes through these functions, so the rules hold everywhere:
+designations are compared by their normalised key, a second record with the same key is
+refused with a pointer to the first, and consistency warnings are stored with the record.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+from sqlalchemy import func, select
+from sqlalchemy.orm import Session
+
+from partsdb.designations import normalize
+from partsdb.device import FIELD_NAMES, Device, parse_device
+from partsdb.storage.models import DeviceRow, LotRow, MovementRow
+
+STORED_FIELDS: tuple[str, ...] = FIELD_NAMES
+
+
+class CatalogError(ValueError):
+    """A catalog operation refused; the message says why and what to do."""
+
+
+class NotFound(LookupError):
+    pass
+
+
+def consistency_warnings(device: Device) -> list[str]:
+    """What the designation implies that the record contradicts (empty when none)."""
+    try:
+        from partsdb.consistency import consistency_warnings as check
+    except ImportError:  # pragma: no cover - the checker ships with the package
+        return []
+    return check(device)
+
+
+def row_to_device(row: DeviceRow) -> Device:
+    values = {name: getattr(row, name) for name in STORED_FIELDS}
+    values["obsolete"] = bool(values["obsolete"])
+    device = Device(**values)
+    device.warnings = [w for w in (row.warnings or "").split("\n") if w]
+    return device
+
+
+def device_values(device: Device) -> dict[str, Any]:
+    """Column values for a :class:`DeviceRow` (the record plus its key and warnings)."""
+    values = device.to_dict()
+    values["key"] = device.key
+    values["warnings"] = "\n".join(device.warnings) or None
+    return values
+
+
+def _row(session: Session, designation: str) -> DeviceRow | None:
+    return session.scalars(select(DeviceRow).where(DeviceRow.key == normalize(designation))).first()
+
+
+def get_device(session: Session, designation: str) -> Device | None:
+    row = _row(session, designation)
+    return None if row is None else row_to_device(row)
+
+
+def require_row(session: Session, designation: str) -> DeviceRow:
+    row = _row(session, designation)
+    if row is None:
+        hints = suggest(session, designation)
+        hint = f" (did you mean: {', '.join(hints)}?)" if hints else ""
+        raise NotFound(f"device {designation!r} not found{hint}")
+    return row
+
+
+def suggest(session: Session, text: str, limit: int = 3) -> list[str]:
+    """Close spellings of ``text`` among stored designations (for "not found" messages)."""
+    from rapidfuzz import fuzz, process
+
+    rows = session.execute(select(DeviceRow.designation, DeviceRow.key)).all()
+    if not rows:
+        return []
+    keys = [r.key for r in rows]
+    matches = process.extract(normalize(text), keys, scorer=fuzz.ratio, limit=limit,
+                              score_cutoff=60)
+    return [rows[m[2]].designation for m in matches]
+
+
+def add_device(session: Session, raw: Mapping[str, Any] | Device) -> Device:
+    """Validate and store a new device; refuses a designation already present."""
+    device = raw if isinstance(raw, Device) else parse_device(raw)
+    existing = _row(session, device.designation)
+    if existing is not None:
+        raise CatalogError(
+            f"designation: {device.designation!r} is already stored as {existing.designation!r} "
+            f"(same normalised key {device.key}); use 'partsdb device edit {existing.designation}'")
+    device.warnings = consistency_warnings(device)
+    session.add(DeviceRow(**device_values(device)))
+    session.flush()
+    return device
+
+
+def edit_device(session: Session, designation: str, changes: Mapping[str, Any]) -> Device:
+    """Apply raw ``changes`` (text with units allowed) and re-validate the whole record."""
+    from partsdb.device import replace
+
+    row = require_row(session, designation)
+    current = row_to_device(row)
+    updated = replace(current, **dict(changes))
+    if updated.key != row.key and _row(session, updated.designation) is not None:
+        raise CatalogError(f"designation: {updated.designation!r} is already stored; "
+                           "choose another or edit that record")
+    updated.warnings = consistency_warnings(updated)
+    for name, value in device_values(updated).items():
+        setattr(row, name, value)
+    session.flush()
+    return updated
+
+
+def remove_device(session: Session, designation: str, force: bool = False) -> Device:
+    """Delete a device; refuses while any lot or ledger entry refers to it unless ``force``."""
+    row = require_row(session, designation)
+    device = row_to_device(row)
+    lots = session.scalars(select(LotRow).where(LotRow.device_id == row.id)).all()
+    in_stock = sum(lot.quantity for lot in lots)
+    if lots and not force:
+        raise CatalogError(
+            f"{row.designation} has {len(lots)} lot(s) holding {in_stock} part(s) and their "
+            "ledger; take or count them to zero, or pass --force to delete lots and ledger too")
+    for lot in lots:
+        session.execute(MovementRow.__table__.delete().where(MovementRow.lot_id == lot.id))
+        session.delete(lot)
+    session.delete(row)
+    session.flush()
+    return device
+
+
+@dataclass(frozen=True)
+class DeviceFilter:
+    """Optional filters for :func:`list_devices` (None = any)."""
+
+    polarity: str | None = None
+    material: str | None = None
+    kind: str | None = None
+    package: str | None = None
+    obsolete: bool | None = None
+    suspect: bool | None = None
+    """True: only records with consistency warnings."""
+
+
+def list_devices(session: Session, filters: DeviceFilter | None = None,
+                 limit: int | None = None, offset: int = 0) -> list[Device]:
+    query = _filtered(select(DeviceRow), filters).order_by(DeviceRow.key)
+    if limit is not None:
+        query = query.limit(limit).offset(offset)
+    return [row_to_device(r) for r in session.scalars(query)]
+
+
+def count_devices(session: Session, filters: DeviceFilter | None = None) -> int:
+    query = _filtered(select(func.count(DeviceRow.id)), filters)
+    return int(session.scalar(query) or 0)
+
+
+def _filtered(query: Any, f: DeviceFilter | None) -> Any:
+    if f is None:
+        return query
+    if f.polarity:
+        query = query.where(DeviceRow.polarity == f.polarity)
+    if f.material:
+        query = query.where(DeviceRow.material == f.material)
+    if f.kind:
+        query = query.where(DeviceRow.kind == f.kind)
+    if f.package:
+        query = query.where(func.upper(DeviceRow.package) == f.package.upper())
+    if f.obsolete is not None:
+        query = query.where(DeviceRow.obsolete.is_(f.obsolete))
+    if f.suspect is True:
+        query = query.where(DeviceRow.warnings.is_not(None))
+    elif f.suspect is False:
+        query = query.where(DeviceRow.warnings.is_(None))
+    return query
+
+
+def designations_and_notes(session: Session) -> tuple[list[str], list[str | None]]:
+    """All designations and notes, in key order (for the search index)."""
+    rows = session.execute(
+        select(DeviceRow.designation, DeviceRow.notes).order_by(DeviceRow.key)).all()
+    return [r[0] for r in rows], [r[1] for r in rows]
+
+
+def keys_in(session: Session, designations: Iterable[str]) -> dict[str, int]:
+    """Map of normalised key -> device id for the given designations that exist."""
+    keys = list({normalize(d) for d in designations})
+    found: dict[str, int] = {}
+    for start in range(0, len(keys), 500):
+        chunk: Sequence[str] = keys[start:start + 500]
+        for key, ident in session.execute(
+                select(DeviceRow.key, DeviceRow.id).where(DeviceRow.key.in_(chunk))):
+            found[key] = ident
+    return found

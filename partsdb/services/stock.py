@@ -1,0 +1,433 @@
+"""Stock: places, lots and the movement ledger.
+
+Every change of a quantity is one atomic statement at the database
+(``UPDATE lots SET quantity = quantity + :delta WHERE id = :id AND quantity + :delta >= 0``)
+plus its ledger entry, in the caller's transaction; so two benches taking from the same drawer
+at once can never lose an update or drive a count below zero, and the ledger of a lot always
+sums to its quantity.
+"""
+
+from __future__ import annotations
+
+import re
+from collections.abc import Iterable
+from dataclasses import dataclass, field
+from datetime import datetime
+
+from sqlalchemy import func, select, update
+from sqlalchemy.exc import IntegrityError
+from sqlalchemy.orm import Session
+
+from partsdb.services.catalog import NotFound, require_row
+from partsdb.storage.models import DeviceRow, LocationRow, LotRow, MovementRow
+
+CONDITIONS = ("new", "used", "pulled", "tested")
+REASONS = ("receive", "take", "return", "move", "count")
+_SEGMENT = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 ._#+-]{0,63}$")
+
+
+class StockError(ValueError):
+    """A stock operation refused; nothing was changed. The message says why."""
+
+
+@dataclass(frozen=True)
+class LotView:
+    designation: str
+    location: str
+    condition: str
+    quantity: int
+    note: str | None = None
+    low_stock: int | None = None
+    device_total: int | None = None
+
+    @property
+    def low(self) -> bool:
+        return (self.low_stock is not None and self.device_total is not None
+                and self.device_total < self.low_stock)
+
+    def to_json(self) -> dict[str, object]:
+        return {"designation": self.designation, "location": self.location,
+                "quantity": self.quantity, "condition": self.condition, "note": self.note}
+
+
+@dataclass
+class StockSummary:
+    quantity: int = 0
+    locations: list[str] = field(default_factory=list)
+
+
+@dataclass(frozen=True)
+class LedgerEntry:
+    id: int
+    at: datetime
+    designation: str
+    location: str
+    condition: str
+    change: int
+    reason: str
+    job: str | None
+    note: str | None
+
+    def to_json(self) -> dict[str, object]:
+        return {"id": self.id, "at": self.at.isoformat(timespec="seconds"),
+                "designation": self.designation, "location": self.location,
+                "condition": self.condition, "change": self.change, "reason": self.reason,
+                "job": self.job, "note": self.note}
+
+
+# ---------------------------------------------------------------- places
+
+def normalize_path(path: str) -> str:
+    """"c2 / d14/" -> "c2/d14"; each segment checked. Paths compare without regard to case."""
+    segments = [s.strip() for s in str(path).replace("\\", "/").split("/")]
+    segments = [s for s in segments if s]
+    if not segments:
+        raise StockError(f"location: {path!r} is empty; expected a path such as C2/D14")
+    for seg in segments:
+        if not _SEGMENT.match(seg):
+            raise StockError(f"location: segment {seg!r} of {path!r} is not valid; expected "
+                             "letters, digits, spaces or . _ # + - (such as C2/D14/B3)")
+    return "/".join(segments)
+
+
+def find_location(session: Session, path: str) -> LocationRow | None:
+    canonical = normalize_path(path)
+    return session.scalars(
+        select(LocationRow).where(func.lower(LocationRow.path) == canonical.lower())).first()
+
+
+def ensure_location(session: Session, path: str) -> LocationRow:
+    """The location at ``path``, creating it and any missing parents."""
+    canonical = normalize_path(path)
+    parent: LocationRow | None = None
+    so_far: list[str] = []
+    for seg in canonical.split("/"):
+        so_far.append(seg)
+        here = find_location(session, "/".join(so_far))
+        if here is None:
+            here = LocationRow(name=seg, path="/".join(so_far),
+                               parent_id=None if parent is None else parent.id)
+            session.add(here)
+            session.flush()
+        parent = here
+    assert parent is not None
+    return parent
+
+
+def require_location(session: Session, path: str) -> LocationRow:
+    row = find_location(session, path)
+    if row is None:
+        raise NotFound(f"location {path!r} not found")
+    return row
+
+
+def location_paths(session: Session) -> list[str]:
+    return list(session.scalars(select(LocationRow.path).order_by(LocationRow.path)))
+
+
+# ---------------------------------------------------------------- the atomic change
+
+def _check_quantity(qty: int, allow_zero: bool = False) -> int:
+    if isinstance(qty, bool) or not isinstance(qty, int):
+        raise StockError(f"quantity: {qty!r} is not valid; expected a whole number")
+    if qty < 0 or (qty == 0 and not allow_zero):
+        raise StockError(f"quantity: {qty} is not valid; expected a whole number "
+                         f"{'0 or more' if allow_zero else 'above 0'}")
+    return qty
+
+
+def _apply(session: Session, lot: LotRow, delta: int, reason: str, job: str | None,
+           note: str | None, refusal: str) -> None:
+    """Change a lot by ``delta`` atomically and write its ledger entry, or raise StockError."""
+    result = session.execute(
+        update(LotRow)
+        .where(LotRow.id == lot.id, LotRow.quantity + delta >= 0)
+        .values(quantity=LotRow.quantity + delta)
+        .execution_options(synchronize_session=False))
+    if result.rowcount != 1:  # type: ignore[attr-defined]
+        session.expire(lot, ["quantity"])
+        raise StockError(refusal.format(have=lot.quantity))
+    session.add(MovementRow(lot_id=lot.id, change=delta, reason=reason, job=job, note=note))
+    session.flush()
+    session.expire(lot, ["quantity"])
+
+
+def _lot(session: Session, device: DeviceRow, location: LocationRow,
+         condition: str) -> LotRow | None:
+    return session.scalars(select(LotRow).where(
+        LotRow.device_id == device.id, LotRow.location_id == location.id,
+        LotRow.condition == condition)).first()
+
+
+def _get_or_create_lot(session: Session, device: DeviceRow, location: LocationRow,
+                       condition: str, note: str | None = None) -> LotRow:
+    lot = _lot(session, device, location, condition)
+    if lot is not None:
+        return lot
+    try:
+        with session.begin_nested():
+            lot = LotRow(device_id=device.id, location_id=location.id, condition=condition,
+                         quantity=0, note=note)
+            session.add(lot)
+    except IntegrityError:  # created meanwhile by another bench
+        lot = _lot(session, device, location, condition)
+        assert lot is not None
+    return lot
+
+
+def _check_condition(condition: str) -> str:
+    c = condition.strip().lower()
+    if c not in CONDITIONS:
+        raise StockError(f"condition: {condition!r} is not valid; expected one of "
+                         + ", ".join(CONDITIONS))
+    return c
+
+
+def _pick_lot(session: Session, device: DeviceRow, location: LocationRow,
+              condition: str | None, verb: str) -> LotRow:
+    """The one lot of ``device`` at ``location`` an operation means, or a clear refusal."""
+    if condition is not None:
+        lot = _lot(session, device, location, _check_condition(condition))
+        if lot is None:
+            raise StockError(f"{device.designation}: no {condition} lot at {location.path}")
+        return lot
+    lots = session.scalars(select(LotRow).where(
+        LotRow.device_id == device.id, LotRow.location_id == location.id)).all()
+    if not lots:
+        raise StockError(f"{device.designation}: nothing at {location.path} to {verb}")
+    if len(lots) > 1:
+        held = ", ".join(f"{lot.condition} {lot.quantity}" for lot in lots)
+        raise StockError(f"{device.designation} at {location.path} is held in several conditions "
+                         f"({held}); say which with --condition")
+    return lots[0]
+
+
+def _view(lot: LotRow) -> LotView:
+    return LotView(lot.device.designation, lot.location.path, lot.condition, lot.quantity,
+                   lot.note, lot.device.low_stock)
+
+
+# ---------------------------------------------------------------- operations
+
+def receive(session: Session, designation: str, qty: int, to: str, condition: str = "new",
+            job: str | None = None, note: str | None = None) -> LotView:
+    """Parts arrive (bought, salvaged): add to the lot at ``to`` in ``condition``."""
+    _check_quantity(qty)
+    device = require_row(session, designation)
+    lot = _get_or_create_lot(session, device, ensure_location(session, to),
+                             _check_condition(condition))
+    _apply(session, lot, qty, "receive", job, note, "cannot receive")
+    return _view(lot)
+
+
+def take(session: Session, designation: str, qty: int, from_: str, condition: str | None = None,
+         job: str | None = None, note: str | None = None) -> LotView:
+    """Parts leave the drawer (for a job); refused if the lot holds fewer than ``qty``."""
+    _check_quantity(qty)
+    device = require_row(session, designation)
+    lot = _pick_lot(session, device, require_location(session, from_), condition, "take")
+    _apply(session, lot, -qty, "take", job, note,
+           f"cannot take {qty} {device.designation} from {lot.location.path} "
+           f"({lot.condition}): only {{have}} there; nothing was changed")
+    return _view(lot)
+
+
+def return_parts(session: Session, designation: str, qty: int, to: str,
+                 condition: str | None = None, job: str | None = None,
+                 note: str | None = None) -> LotView:
+    """Unused parts come back from a job into the drawer (the lot there, or a new ``used``)."""
+    _check_quantity(qty)
+    device = require_row(session, designation)
+    location = ensure_location(session, to)
+    if condition is None:
+        lots = session.scalars(select(LotRow).where(
+            LotRow.device_id == device.id, LotRow.location_id == location.id)).all()
+        if len(lots) > 1:
+            held = ", ".join(lot.condition for lot in lots)
+            raise StockError(f"{device.designation} at {location.path} is held in several "
+                             f"conditions ({held}); say which with --condition")
+        lot = lots[0] if lots else _get_or_create_lot(session, device, location, "used")
+    else:
+        lot = _get_or_create_lot(session, device, location, _check_condition(condition))
+    _apply(session, lot, qty, "return", job, note, "cannot return")
+    return _view(lot)
+
+
+def move(session: Session, designation: str, qty: int, from_: str, to: str,
+         condition: str | None = None, job: str | None = None,
+         note: str | None = None) -> tuple[LotView, LotView]:
+    """Move parts between places: two ledger entries (out and in) in one transaction."""
+    _check_quantity(qty)
+    device = require_row(session, designation)
+    source = _pick_lot(session, device, require_location(session, from_), condition, "move")
+    target_place = ensure_location(session, to)
+    if target_place.id == source.location_id:
+        raise StockError(f"move: from and to are the same place ({target_place.path})")
+    target = _get_or_create_lot(session, device, target_place, source.condition)
+    _apply(session, source, -qty, "move", job, note,
+           f"cannot move {qty} {device.designation} from {source.location.path}: only {{have}} "
+           "there; nothing was changed")
+    _apply(session, target, qty, "move", job, note, "cannot move")
+    return _view(source), _view(target)
+
+
+def count(session: Session, designation: str, qty: int, at: str, condition: str | None = None,
+          job: str | None = None, note: str | None = None) -> tuple[LotView, int]:
+    """A stock-take: set the lot to the counted ``qty``; the ledger records the difference."""
+    _check_quantity(qty, allow_zero=True)
+    device = require_row(session, designation)
+    location = ensure_location(session, at)
+    lots = session.scalars(select(LotRow).where(
+        LotRow.device_id == device.id, LotRow.location_id == location.id)).all()
+    if condition is not None:
+        lot = _get_or_create_lot(session, device, location, _check_condition(condition))
+    elif len(lots) == 1:
+        lot = lots[0]
+    elif not lots:
+        lot = _get_or_create_lot(session, device, location, "new")
+    else:
+        held = ", ".join(f"{lot.condition} {lot.quantity}" for lot in lots)
+        raise StockError(f"{device.designation} at {location.path} is held in several conditions "
+                         f"({held}); say which with --condition")
+    # Compare-and-set: the difference is computed against the quantity this transaction saw.
+    for _attempt in range(20):
+        session.refresh(lot, ["quantity"])
+        seen = lot.quantity
+        result = session.execute(
+            update(LotRow).where(LotRow.id == lot.id, LotRow.quantity == seen)
+            .values(quantity=qty).execution_options(synchronize_session=False))
+        if result.rowcount == 1:  # type: ignore[attr-defined]
+            session.add(MovementRow(lot_id=lot.id, change=qty - seen, reason="count", job=job,
+                                    note=note))
+            session.flush()
+            session.expire(lot, ["quantity"])
+            return _view(lot), qty - seen
+    raise StockError("count: the lot kept changing while counting; try again")
+
+
+# ---------------------------------------------------------------- queries
+
+def where(session: Session, designation: str) -> list[LotView]:
+    """Every lot of a device, largest first (empty lots included: the drawer is known)."""
+    device = require_row(session, designation)
+    lots = session.scalars(select(LotRow).where(LotRow.device_id == device.id)).all()
+    total = sum(lot.quantity for lot in lots)
+    views = [LotView(device.designation, lot.location.path, lot.condition, lot.quantity,
+                     lot.note, device.low_stock, total) for lot in lots]
+    return sorted(views, key=lambda v: (-v.quantity, v.location, v.condition))
+
+
+def lots_at(session: Session, path: str | None, include_children: bool = True) -> list[LotView]:
+    """Lots at a place (and below it), or everywhere when ``path`` is None."""
+    totals = _device_totals(session)
+    query = (select(LotRow, DeviceRow, LocationRow)
+             .join(DeviceRow, LotRow.device_id == DeviceRow.id)
+             .join(LocationRow, LotRow.location_id == LocationRow.id))
+    if path is not None:
+        canonical = normalize_path(path).lower()
+        cond = func.lower(LocationRow.path) == canonical
+        if include_children:
+            cond = cond | func.lower(LocationRow.path).like(canonical + "/%")
+        query = query.where(cond)
+    rows = session.execute(query.order_by(LocationRow.path, DeviceRow.key)).all()
+    return [LotView(d.designation, loc.path, lot.condition, lot.quantity, lot.note,
+                    d.low_stock, totals.get(d.id, 0)) for lot, d, loc in rows]
+
+
+def _device_totals(session: Session) -> dict[int, int]:
+    return dict(session.execute(  # type: ignore[arg-type]
+        select(LotRow.device_id, func.sum(LotRow.quantity)).group_by(LotRow.device_id)).all())
+
+
+@dataclass(frozen=True)
+class LowStock:
+    designation: str
+    quantity: int
+    threshold: int
+    locations: list[str]
+
+
+def low_stock(session: Session) -> list[LowStock]:
+    """Devices whose total stock is below their low-stock threshold."""
+    totals = _device_totals(session)
+    summary = stock_summary(session)
+    rows = session.scalars(select(DeviceRow).where(DeviceRow.low_stock.is_not(None))
+                           .order_by(DeviceRow.key)).all()
+    return [LowStock(r.designation, totals.get(r.id, 0), int(r.low_stock or 0),
+                     summary.get(r.key, StockSummary()).locations)
+            for r in rows if totals.get(r.id, 0) < (r.low_stock or 0)]
+
+
+def stock_summary(session: Session) -> dict[str, StockSummary]:
+    """Normalised key -> total quantity and the places holding some (largest first)."""
+    rows = session.execute(
+        select(DeviceRow.key, LocationRow.path, func.sum(LotRow.quantity))
+        .join(LotRow, LotRow.device_id == DeviceRow.id)
+        .join(LocationRow, LotRow.location_id == LocationRow.id)
+        .group_by(DeviceRow.key, LocationRow.path)).all()
+    out: dict[str, StockSummary] = {}
+    per_place: dict[str, list[tuple[int, str]]] = {}
+    for key, path, qty in rows:
+        s = out.setdefault(key, StockSummary())
+        s.quantity += int(qty or 0)
+        if qty:
+            per_place.setdefault(key, []).append((int(qty), path))
+    for key, places in per_place.items():
+        out[key].locations = [p for _, p in sorted(places, key=lambda t: (-t[0], t[1]))]
+    return out
+
+
+def ledger(session: Session, designation: str | None = None, location: str | None = None,
+           job: str | None = None, since: datetime | None = None, until: datetime | None = None,
+           limit: int | None = None) -> list[LedgerEntry]:
+    """Ledger entries, newest first, filtered by device, place (and below), job and time."""
+    query = (select(MovementRow, LotRow, DeviceRow, LocationRow)
+             .join(LotRow, MovementRow.lot_id == LotRow.id)
+             .join(DeviceRow, LotRow.device_id == DeviceRow.id)
+             .join(LocationRow, LotRow.location_id == LocationRow.id))
+    if designation:
+        query = query.where(DeviceRow.id == require_row(session, designation).id)
+    if location:
+        canonical = normalize_path(location).lower()
+        query = query.where((func.lower(LocationRow.path) == canonical)
+                            | func.lower(LocationRow.path).like(canonical + "/%"))
+    if job:
+        query = query.where(MovementRow.job == job)
+    if since:
+        query = query.where(MovementRow.at >= since)
+    if until:
+        query = query.where(MovementRow.at <= until)
+    query = query.order_by(MovementRow.at.desc(), MovementRow.id.desc())
+    if limit:
+        query = query.limit(limit)
+    return [LedgerEntry(m.id, m.at, d.designation, loc.path, lot.condition, m.change, m.reason,
+                        m.job, m.note) for m, lot, d, loc in session.execute(query).all()]
+
+
+def ledger_mismatches(session: Session) -> list[tuple[int, int, int]]:
+    """Lots whose ledger does not sum to their quantity: (lot id, quantity, ledger sum)."""
+    sums = dict(session.execute(  # type: ignore[arg-type]
+        select(MovementRow.lot_id, func.sum(MovementRow.change))
+        .group_by(MovementRow.lot_id)).all())
+    return [(lot_id, qty, int(sums.get(lot_id, 0) or 0))
+            for lot_id, qty in session.execute(select(LotRow.id, LotRow.quantity)).all()
+            if int(sums.get(lot_id, 0) or 0) != qty]
+
+
+def import_lots(session: Session, rows: Iterable[tuple[str, str, int, str, str | None]]) -> int:
+    """Set lots from (designation, location, quantity, condition, note) rows, via the ledger.
+
+    Each row sets the lot to the given quantity (a count), so re-importing the same file
+    changes nothing. Returns the number of lots whose quantity changed.
+    """
+    changed = 0
+    for designation, path, qty, condition, note in rows:
+        device = require_row(session, designation)
+        location = ensure_location(session, path)
+        lot = _get_or_create_lot(session, device, location, _check_condition(condition), note)
+        if note is not None and lot.note != note:
+            lot.note = note
+        if lot.quantity != qty:
+            _apply(session, lot, qty - lot.quantity, "count", None, "import", "cannot import")
+            changed += 1
+    return changed

@@ -1,0 +1,196 @@
+"""Opening a database: where it lives, engine settings, schema upgrades, sessions, read-only.
+
+The default is a SQLite file in the per-user data directory (platformdirs); ``--db`` (a path or
+any SQLAlchemy URL) and the ``PARTSDB_DB`` environment variable override it. Opening a database
+brings its schema to the newest Alembic revision, with a one-line notice when it changed.
+"""
+
+from __future__ import annotations
+
+import os
+import re
+from collections.abc import Callable, Iterator
+from contextlib import contextmanager
+from pathlib import Path
+from typing import Any
+
+from sqlalchemy import create_engine, event, inspect
+from sqlalchemy.engine import URL, Engine, make_url
+from sqlalchemy.exc import OperationalError
+from sqlalchemy.orm import Session, sessionmaker
+
+ENV_VAR = "PARTSDB_DB"
+SQLITE_BUSY_TIMEOUT_MS = 15_000
+MIGRATIONS = Path(__file__).with_name("migrations")
+
+
+class DatabaseError(RuntimeError):
+    """A database problem worth a clear one-line message (never a traceback)."""
+
+
+class ReadOnlyError(DatabaseError):
+    pass
+
+
+def default_path() -> Path:
+    from platformdirs import user_data_dir
+
+    return Path(user_data_dir("partsdb", appauthor=False)) / "partsdb.sqlite"
+
+
+def resolve_url(target: str | os.PathLike[str] | None) -> URL:
+    """A SQLAlchemy URL from a path, a URL, ``$PARTSDB_DB`` or the per-user default."""
+    if target is None:
+        target = os.environ.get(ENV_VAR) or default_path()
+    text = os.fspath(target)
+    if "://" in text:
+        try:
+            return make_url(text)
+        except Exception as err:
+            raise DatabaseError(f"--db: {mask_url(text)!r} is not a database URL ({err})") from err
+    path = Path(text).expanduser().resolve()
+    return URL.create("sqlite", database=str(path))
+
+
+def mask_url(url: str | URL) -> str:
+    """The URL with any password replaced by ***, for messages and logs."""
+    if isinstance(url, URL):
+        return url.render_as_string(hide_password=True)
+    return re.sub(r"(://[^:/@]+:)[^@]*@", r"\1***@", url)
+
+
+def _sqlite_pragmas(dbapi_connection: Any, _record: Any) -> None:
+    cursor = dbapi_connection.cursor()
+    cursor.execute("PRAGMA foreign_keys=ON")
+    cursor.execute(f"PRAGMA busy_timeout={SQLITE_BUSY_TIMEOUT_MS}")
+    cursor.execute("PRAGMA journal_mode=WAL")
+    # NORMAL is durable against application crashes in WAL mode (SQLite docs, "PRAGMA
+    # synchronous"); a power cut may lose the last transactions but never corrupts the file.
+    cursor.execute("PRAGMA synchronous=NORMAL")
+    cursor.close()
+
+
+def make_engine(url: URL) -> Engine:
+    if url.get_backend_name() == "sqlite":
+        if url.database and url.database != ":memory:":
+            Path(url.database).parent.mkdir(parents=True, exist_ok=True)
+        # The driver's own transaction handling is replaced by explicit BEGIN so that
+        # SERIALIZABLE-like behaviour holds across reads and writes in one transaction.
+        engine = create_engine(url, connect_args={"timeout": SQLITE_BUSY_TIMEOUT_MS / 1000})
+        event.listen(engine, "connect", _sqlite_pragmas)
+        return engine
+    return create_engine(url, pool_pre_ping=True)
+
+
+def alembic_config(connection: Any) -> Any:
+    from alembic.config import Config
+
+    config = Config()
+    config.set_main_option("script_location", str(MIGRATIONS))
+    config.attributes["connection"] = connection
+    return config
+
+
+def head_revision() -> str:
+    from alembic.script import ScriptDirectory
+
+    return ScriptDirectory.from_config(alembic_config(None)).get_current_head() or ""
+
+
+def current_revision(engine: Engine) -> str | None:
+    from alembic.runtime.migration import MigrationContext
+
+    with engine.connect() as conn:
+        return MigrationContext.configure(conn).get_current_revision()
+
+
+def upgrade(engine: Engine, revision: str = "head") -> None:
+    from alembic import command
+
+    with engine.begin() as conn:
+        command.upgrade(alembic_config(conn), revision)
+
+
+class Database:
+    """An open database: an engine plus a session factory; sessions commit on success."""
+
+    def __init__(self, engine: Engine, read_only: bool = False) -> None:
+        self.engine = engine
+        self.read_only = read_only
+        self._sessions = sessionmaker(engine, expire_on_commit=False)
+        if read_only:
+            event.listen(engine, "before_cursor_execute", _refuse_writes, retval=False)
+
+    @property
+    def url(self) -> URL:
+        return self.engine.url
+
+    @property
+    def dialect(self) -> str:
+        return self.engine.dialect.name
+
+    def describe(self) -> str:
+        return mask_url(self.engine.url)
+
+    @contextmanager
+    def session(self) -> Iterator[Session]:
+        """One transaction: committed when the block ends, rolled back on any error."""
+        session = self._sessions()
+        try:
+            yield session
+            session.commit()
+        except OperationalError as err:
+            session.rollback()
+            raise _friendly(err, self) from err
+        except BaseException:
+            session.rollback()
+            raise
+        finally:
+            session.close()
+
+    def dispose(self) -> None:
+        self.engine.dispose()
+
+
+_WRITE = re.compile(r"^\s*(INSERT|UPDATE|DELETE|CREATE|DROP|ALTER|REPLACE)\b", re.IGNORECASE)
+
+
+def _refuse_writes(conn: Any, cursor: Any, statement: str, *args: Any) -> None:
+    if _WRITE.match(statement):
+        raise ReadOnlyError("this database is open read-only (--read-only): nothing was changed")
+
+
+def _friendly(err: OperationalError, db: Database) -> DatabaseError:
+    text = str(err.orig) if err.orig is not None else str(err)
+    if "locked" in text or "busy" in text:
+        return DatabaseError(
+            f"the database is busy (another partsdb is writing) and stayed locked for "
+            f"{SQLITE_BUSY_TIMEOUT_MS / 1000:.0f} s; nothing was changed, try again")
+    return DatabaseError(f"database error on {db.describe()}: {text.splitlines()[0]}")
+
+
+def open_database(target: str | os.PathLike[str] | None = None, *, read_only: bool = False,
+                  upgrade_schema: bool = True,
+                  notify: Callable[[str], None] | None = None) -> Database:
+    """Open (creating if needed) a database and bring its schema to the newest revision."""
+    url = resolve_url(target)
+    engine = make_engine(url)
+    try:
+        if upgrade_schema:
+            current = current_revision(engine)
+            head = head_revision()
+            if current != head:
+                if read_only:
+                    raise ReadOnlyError(
+                        f"the database {mask_url(url)} needs a schema upgrade "
+                        f"({current or 'empty'} -> {head}); open it once without --read-only")
+                fresh = current is None and not inspect(engine).get_table_names()
+                upgrade(engine)
+                if notify is not None:
+                    notify(f"partsdb: created database {mask_url(url)}" if fresh else
+                           f"partsdb: upgraded database schema {current} -> {head}")
+    except OperationalError as err:
+        engine.dispose()
+        raise DatabaseError(f"cannot open database {mask_url(url)}: "
+                            f"{str(err.orig).splitlines()[0]}") from err
+    return Database(engine, read_only=read_only)
