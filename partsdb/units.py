@@ -114,6 +114,9 @@ def parse_quantity(text: object, unit: str, field: str = "value") -> float:
         raise UnitError(field, text, describe(unit))
 
     m = _PLAIN.match(s)
+    if m and m.group("prefix") and _unit_matches(m.group("prefix") + (m.group("unit") or ""), unit):
+        # The "prefix" letter was the start of the unit itself ("8 K/W", "25 C").
+        return float(m.group("num"))
     if m and _unit_matches(m.group("unit"), unit) and not (unit == "" and m.group("prefix")):
         # quantiphy knows "k" and "u", not the workshop spellings "K" and "µ".
         prefix = {"K": "k", "µ": "u", "μ": "u"}.get(m.group("prefix"), m.group("prefix"))

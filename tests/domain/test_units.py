@@ -1,0 +1,108 @@
+"""Engineering notation: SI prefixes, RKM codes, unit checks, and format/parse round trips."""
+
+from __future__ import annotations
+
+import math
+
+import pytest
+from hypothesis import given
+from hypothesis import strategies as st
+
+from partsdb.units import UnitError, format_quantity, parse_quantity, parse_range
+
+
+@pytest.mark.parametrize(
+    ("text", "unit", "expected"),
+    [
+        # SI prefixes: BIPM SI Brochure, 9th edition (2019), table 7.
+        ("40V", "V", 40.0),
+        ("40 V", "V", 40.0),
+        ("1.2 kV", "V", 1200.0),
+        ("200mA", "A", 0.2),
+        ("5uA", "A", 5e-6),
+        ("5 µA", "A", 5e-6),
+        ("3nA", "A", 3e-9),
+        ("300 MHz", "Hz", 3e8),
+        ("1.5 GHz", "Hz", 1.5e9),
+        ("0.625W", "W", 0.625),
+        ("625 mW", "W", 0.625),
+        ("1.5e-3 A", "A", 1.5e-3),
+        ("150", "°C", 150.0),
+        ("8 K/W", "K/W", 8.0),
+        # RKM code, IEC 60062:2016 clause 5 (letter in place of the decimal point; R for ohms).
+        ("2k2", "Ω", 2200.0),
+        ("4R7", "Ω", 4.7),
+        ("R47", "Ω", 0.47),
+        ("1M5", "Ω", 1.5e6),
+        ("47R", "Ω", 47.0),
+        ("47k", "Ω", 47e3),
+        ("47 kΩ", "Ω", 47e3),
+        ("10 ohm", "Ω", 10.0),
+        # "K" for kilo is workshop spelling (common practice), accepted.
+        ("2K2", "Ω", 2200.0),
+        ("100", "", 100.0),
+    ],
+)
+def test_parses_engineering_notation(text: str, unit: str, expected: float) -> None:
+    assert parse_quantity(text, unit, "f") == pytest.approx(expected, rel=1e-12)
+
+
+@pytest.mark.parametrize(
+    ("text", "unit"),
+    [
+        ("4O0V", "V"),  # letter O for zero: quantiphy alone would read 4 with unit "O0V"
+        ("-", "V"),
+        ("", "V"),
+        ("fast", "Hz"),
+        ("40 A", "V"),  # a current in a voltage field
+        ("2k2x", "Ω"),
+        ("1m", ""),  # a prefix on a dimensionless value
+        ("nan", "V"),
+        ("inf", "V"),
+        ("12 V V", "V"),
+    ],
+)
+def test_refuses_junk_naming_field_value_and_unit(text: str, unit: str) -> None:
+    with pytest.raises(UnitError) as info:
+        parse_quantity(text, unit, "vceo")
+    message = str(info.value)
+    assert "vceo" in message and repr(text) in message and "expected" in message
+
+
+def test_refuses_bool_and_none() -> None:
+    for bad in (True, None, object()):
+        with pytest.raises(UnitError):
+            parse_quantity(bad, "V", "vceo")
+
+
+@given(st.floats(min_value=1e-13, max_value=1e11, allow_nan=False, allow_infinity=False),
+       st.sampled_from(["V", "A", "W", "Hz", "Ω"]))
+def test_format_then_parse_round_trips(value: float, unit: str) -> None:
+    # Round trip to the printed precision: format keeps 6 significant digits here.
+    text = format_quantity(value, unit, digits=6)
+    assert parse_quantity(text, unit, "f") == pytest.approx(value, rel=1e-5)
+
+
+@given(st.integers(min_value=1, max_value=999), st.integers(min_value=0, max_value=9),
+       st.sampled_from([("k", 1e3), ("M", 1e6), ("R", 1.0)]))
+def test_rkm_matches_decimal_reading(whole: int, frac: int, prefix: tuple[str, float]) -> None:
+    # IEC 60062 RKM: "4k7" means 4.7 x 10^3.
+    letter, scale = prefix
+    assert parse_quantity(f"{whole}{letter}{frac}", "Ω", "r") == pytest.approx(
+        float(f"{whole}.{frac}") * scale)
+
+
+def test_format_uses_si_prefixes() -> None:
+    assert format_quantity(0.2, "A") == "200 mA"
+    assert format_quantity(3e8, "Hz") == "300 MHz"
+    assert format_quantity(None, "V") == "—"
+    assert format_quantity(float("nan"), "V") == "—"
+
+
+def test_ranges() -> None:
+    r = parse_range("60..180", "", "hfe")
+    assert (r.low, r.high) == (60, 180)
+    assert parse_range("100", "", "hfe").low == 100
+    with pytest.raises(UnitError, match="hfe"):
+        parse_range("200..50", "", "hfe")
+    assert math.isclose(parse_range("1mA..10mA", "A", "ic").high, 0.01)

@@ -1,0 +1,169 @@
+"""CSV exchange: all-or-nothing import, line-numbered errors, idempotent re-import, round trip,
+and spreadsheet formula-injection neutralising (OWASP "CSV Injection"; RFC 4180 quoting)."""
+
+from __future__ import annotations
+
+import csv
+from pathlib import Path
+
+import pytest
+from hypothesis import HealthCheck, given, settings
+from hypothesis import strategies as st
+
+from partsdb.services import catalog, exchange, stock
+from partsdb.services.exchange import ImportRejected, neutralise
+
+HEADER = "designation,kind,polarity,material,vceo,vcbo,ic_max,ptot,ptot_ref,hfe_min,hfe_max,ft,notes\n"
+GOOD_ROWS = [
+    "QR 100,bjt,npn,si,45V,50V,100mA,500mW,ambient,110,450,250MHz,\n",
+    "QR-101,bjt,pnp,si,45,50,0.1,0.5,ambient,110,450,250e6,\n",
+    "QR102,darlington,npn,si,60 V,80 V,4A,40W,case,1000,20000,,\n",
+]
+BAD_ROWS = [
+    "QR103,bjt,npn,si,4O0V,50V,100mA,500mW,ambient,110,450,250MHz,\n",  # junk unit
+    "QR104,bjt,npn,si,45V,50V,100mA,500mW,ambient,450,110,250MHz,\n",  # hFE min > max
+]
+FIXED_ROWS = [
+    "QR103,bjt,npn,si,40V,50V,100mA,500mW,ambient,110,450,250MHz,\n",
+    "QR104,bjt,npn,si,45V,50V,100mA,500mW,ambient,110,450,250MHz,\n",
+]
+
+
+def write(path: Path, rows: list[str]) -> Path:
+    path.write_text(HEADER + "".join(rows), encoding="utf-8")
+    return path
+
+
+def device_count(db) -> int:  # type: ignore[no-untyped-def]
+    with db.session() as session:
+        return catalog.count_devices(session)
+
+
+def test_bad_rows_write_nothing_and_are_named(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    path = write(tmp_path / "d.csv", GOOD_ROWS + BAD_ROWS)
+    with pytest.raises(ImportRejected) as info, empty_db.session() as session:
+        exchange.import_devices(session, path)
+    lines = dict(info.value.problems)
+    assert set(lines) == {5, 6}  # header is line 1
+    assert "4O0V" in lines[5] and "vceo" in lines[5]
+    assert "hfe_min" in lines[6]
+    assert device_count(empty_db) == 0
+
+    write(path, GOOD_ROWS + FIXED_ROWS)
+    with empty_db.session() as session:
+        report = exchange.import_devices(session, path)
+    assert (report.added, report.updated) == (5, 0)
+    with empty_db.session() as session:
+        again = exchange.import_devices(session, path)
+    assert (again.added, again.updated, again.unchanged) == (0, 0, 5)
+    assert device_count(empty_db) == 5
+
+
+def test_reimport_updates_in_place(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    path = write(tmp_path / "d.csv", GOOD_ROWS)
+    with empty_db.session() as session:
+        exchange.import_devices(session, path)
+    write(path, [GOOD_ROWS[0].replace("45V,50V", "60V,80V")])
+    with empty_db.session() as session:
+        report = exchange.import_devices(session, path)
+        assert report.updated == 1
+        assert catalog.get_device(session, "QR100").vceo == 60.0
+    assert device_count(empty_db) == 3
+
+
+def test_unknown_column_lists_known_ones(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    path = tmp_path / "d.csv"
+    path.write_text("designation,kind,polarity,material,colour\nQ1,bjt,npn,si,red\n")
+    with pytest.raises(ImportRejected, match="colour.*known columns are designation"), \
+            empty_db.session() as session:
+        exchange.import_devices(session, path)
+
+
+def test_duplicate_designations_in_one_file(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    path = write(tmp_path / "d.csv", [GOOD_ROWS[0], GOOD_ROWS[0].replace("QR 100", "qr-100")])
+    with pytest.raises(ImportRejected, match="repeats line 2"), empty_db.session() as session:
+        exchange.import_devices(session, path)
+
+
+def test_stock_import_is_all_or_nothing(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    with empty_db.session() as session:
+        exchange.import_devices(session, write(tmp_path / "d.csv", GOOD_ROWS))
+    lots = tmp_path / "s.csv"
+    lots.write_text("designation,location,quantity,condition,note\n"
+                    "QR100,C1/D01,5,new,\nNOPE,C1/D01,2,new,\nQR101,C1/D02,-1,new,\n")
+    with pytest.raises(ImportRejected) as info, empty_db.session() as session:
+        exchange.import_stock(session, lots)
+    assert [line for line, _ in info.value.problems] == [3, 4]
+    with empty_db.session() as session:
+        assert stock.stock_summary(session) == {}
+    lots.write_text("designation,location,quantity,condition,note\nQR100,C1/D01,5,new,\n"
+                    "QR101,C1/D02,3,used,spare\n")
+    for _ in range(2):  # the second import is a no-op
+        with empty_db.session() as session:
+            exchange.import_stock(session, lots)
+    with empty_db.session() as session:
+        assert stock.stock_summary(session)["QR101"].quantity == 3
+        assert len(stock.ledger(session)) == 2
+        assert stock.ledger_mismatches(session) == []
+
+
+@pytest.mark.parametrize("cell", ["=1+2", "+1", "-2+3", "@SUM(A1)", "\tx", "\rx", "=HYPERLINK(\"x\")"])
+def test_neutralise_formula_starts(cell: str) -> None:
+    # OWASP CSV Injection: cells starting with = + - @ TAB CR are prefixed with a quote.
+    assert neutralise(cell) == "'" + cell
+
+
+def test_numbers_are_not_neutralised() -> None:
+    assert neutralise(-5) == -5
+    assert neutralise(-5.0) == -5.0
+    assert neutralise("plain") == "plain"
+
+
+def test_export_escapes_text_keeps_numbers_and_round_trips(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    rows = [GOOD_ROWS[0].replace(",\n", ",=cmd|' /C calc'!A0\n")]
+    with empty_db.session() as session:
+        exchange.import_devices(session, write(tmp_path / "d.csv", rows))
+    lots = tmp_path / "in.csv"
+    lots.write_text("designation,location,quantity,condition,note\nQR100,C1/D01,4,new,@risk\n")
+    with empty_db.session() as session:
+        exchange.import_stock(session, lots)
+    out = tmp_path / "out.csv"
+    with empty_db.session() as session:
+        exchange.export_devices(session, out)
+        exchange.export_stock(session, tmp_path / "lots.csv")
+    with out.open(newline="") as fh:
+        record = next(csv.DictReader(fh))
+    assert record["notes"].startswith("'=")
+    assert record["vceo"] == "45"
+    with (tmp_path / "lots.csv").open(newline="") as fh:
+        assert next(csv.DictReader(fh))["note"] == "'@risk"
+    with empty_db.session() as session:
+        report = exchange.import_devices(session, out)
+    assert report.unchanged == 1  # the apostrophe is undone on import: an exact round trip
+
+
+text_cell = st.text(alphabet=st.characters(blacklist_categories=("Cs", "Cc")), max_size=20)
+
+
+@settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(vceo=st.floats(min_value=1, max_value=1000), hfe=st.integers(1, 1000), notes=text_cell)
+def test_round_trip_property(tmp_path_factory, vceo: float, hfe: int, notes: str) -> None:  # type: ignore[no-untyped-def]
+    from partsdb.storage.database import open_database
+
+    folder = tmp_path_factory.mktemp("rt")
+    db = open_database(folder / "a.sqlite", notify=None)
+    with db.session() as session:
+        catalog.add_device(session, {"designation": "QZ1", "kind": "bjt", "polarity": "npn",
+                                     "material": "si", "vceo": vceo, "hfe_min": hfe,
+                                     "notes": notes})
+        exchange.export_devices(session, folder / "x.csv")
+    other = open_database(folder / "b.sqlite", notify=None)
+    with other.session() as session:
+        exchange.import_devices(session, folder / "x.csv")
+        back = catalog.get_device(session, "QZ1")
+    assert back is not None
+    assert back.vceo == pytest.approx(vceo, rel=1e-11)
+    assert back.hfe_min == hfe
+    assert (back.notes or "") == notes.strip()
+    db.dispose()
+    other.dispose()
