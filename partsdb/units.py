@@ -1,9 +1,10 @@
 """Engineering notation in and out: the one place where text becomes a number with a unit.
 
 Technicians type what they read off a datasheet: "40 V", "200mA", "300 MHz", "2k2", "4R7".
-quantiphy does the arithmetic of SI prefixes, but it is lax (it reads "2k2" as 2 with the unit
-"k2" and "4O0V" as 4 with the unit "O0V"), so every text is first checked here against a strict
-pattern: a number, an optional SI prefix, an optional unit that must be the field's own.
+quantiphy is lax on input (it reads "2k2" as 2 with the unit "k2" and "4O0V" as 4 with the unit
+"O0V"), so every text is checked here against a strict pattern: a number, an optional SI prefix,
+an optional unit that must be the field's own; the prefix then scales the number (a test checks
+every reading against quantiphy's). Output goes through quantiphy.
 
 R-notation (IEC 60062 "RKM" code: the prefix letter stands where the decimal point goes, "R" or
 "E" for the unit multiplier) is accepted for resistances, and the prefix-as-decimal-point form
@@ -118,9 +119,7 @@ def parse_quantity(text: object, unit: str, field: str = "value") -> float:
         # The "prefix" letter was the start of the unit itself ("8 K/W", "25 C").
         return float(m.group("num"))
     if m and _unit_matches(m.group("unit"), unit) and not (unit == "" and m.group("prefix")):
-        # quantiphy knows "k" and "u", not the workshop spellings "K" and "µ".
-        prefix = {"K": "k", "µ": "u", "μ": "u"}.get(m.group("prefix"), m.group("prefix"))
-        value = float(Quantity(m.group("num") + prefix))
+        value = float(m.group("num")) * PREFIXES[m.group("prefix")]
         if math.isfinite(value):
             return value
 

@@ -18,17 +18,20 @@ from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from sqlalchemy import insert, select, update
+from sqlalchemy import select, update
 from sqlalchemy.orm import Session
 
 from partsdb.designations import normalize
 from partsdb.device import (
     FIELD_BY_NAME,
     FIELD_NAMES,
+    FALSE_WORDS,
     FIELDS,
+    TRUE_WORDS,
     Device,
     InvalidRecord,
-    check_record,
+    check_columns,
+    normalize_pinout,
     parse_field,
 )
 from partsdb.services import catalog
@@ -37,6 +40,7 @@ from partsdb.storage.models import DeviceRow
 from partsdb.units import UnitError
 
 if TYPE_CHECKING:
+    import numpy as np
     import pandas as pd
 
 STOCK_COLUMNS: tuple[str, ...] = ("designation", "location", "quantity", "condition", "note")
@@ -94,50 +98,90 @@ def read_csv(path: str | Path) -> pd.DataFrame:
 # ---------------------------------------------------------------- devices
 
 def _parse_quantity_column(name: str, cells: pd.Series, problems: dict[int, list[str]]
-                           ) -> pd.Series:
-    """Column-wise parse: numbers vectorised, unit-bearing cells one by one."""
+                           ) -> np.ndarray:
+    """Column-wise parse: numbers vectorised, only unit-bearing cells one by one."""
     import numpy as np
     import pandas as pd
 
     text = cells.str.strip()
-    blank = text.isin(["", "—"])
-    numbers = pd.to_numeric(text.where(~blank), errors="coerce")
-    needs_slow = ~blank & numbers.isna()
-    for pos in np.flatnonzero(needs_slow.to_numpy()):
+    blank = text.isin(["", "—"]).to_numpy()
+    numbers = pd.to_numeric(text.where(~blank), errors="coerce").to_numpy(dtype=float, copy=True)
+    pending = ~blank & np.isnan(numbers)
+    spec = FIELD_BY_NAME[name]
+    if pending.any() and spec.kind == "quantity":
+        # The common written form "40V", "300 MHz", "200mA" in one vectorised pass; anything
+        # else (R-notation, junk) falls through to the per-cell parser and its messages.
+        numbers, pending = _scale_plain(text, numbers, pending, spec.unit)
+    slow = np.flatnonzero(pending)
+    raw = text.to_numpy()
+    for pos in slow:
         try:
-            numbers.iloc[pos] = parse_field(name, text.iloc[pos])
+            numbers[pos] = parse_field(name, raw[pos])
         except UnitError as err:
             problems.setdefault(int(pos), []).append(str(err))
-    fast = ~needs_slow & ~blank
-    bad = fast & ~(numbers > 0)
+    fast = ~blank
+    fast[slow] = False
     if name == "low_stock":
         bad = fast & ~((numbers >= 0) & (numbers == np.floor(numbers)))
-    for pos in np.flatnonzero(bad.to_numpy()):
+    else:
+        bad = fast & ~(numbers > 0)
+    for pos in np.flatnonzero(bad):
         try:
-            parse_field(name, numbers.iloc[pos])
+            parse_field(name, float(numbers[pos]))
         except UnitError as err:
             problems.setdefault(int(pos), []).append(str(err))
-    return numbers.astype(float)
+    return numbers
+
+
+_PLAIN_WITH_UNIT = r"^([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([TGMkKmuµμnpf]?)\s*({unit})$"
+
+
+def _scale_plain(text: pd.Series, numbers: np.ndarray, pending: np.ndarray, unit: str
+                 ) -> tuple[np.ndarray, np.ndarray]:
+    """Parse "number [prefix] unit" cells column-wise with the same prefix table as units.py."""
+    import re
+
+    import numpy as np
+
+    from partsdb.units import PREFIXES, UNIT_SPELLINGS
+
+    spellings = [re.escape(u) for u in UNIT_SPELLINGS.get(unit, ()) if u]
+    if not spellings:
+        return numbers, pending
+    pattern = _PLAIN_WITH_UNIT.format(unit="|".join(spellings))
+    subset = text[pending]
+    parts = subset.str.extract(pattern, flags=re.IGNORECASE)
+    matched = parts[0].notna().to_numpy()
+    # A lower-case-insensitive match must not turn "m" (milli) into "M" (mega): prefixes are
+    # taken exactly as written, from the original text.
+    factor = parts[1].fillna("").map(PREFIXES).to_numpy(dtype=float)
+    matched = matched & ~np.isnan(factor)  # a letter the case-folded match took for a prefix
+    values = parts[0].astype(float).to_numpy() * factor
+    positions = np.flatnonzero(pending)[matched]
+    numbers[positions] = values[matched]
+    pending = pending.copy()
+    pending[positions] = False
+    return numbers, pending
 
 
 def _parse_choice_column(name: str, cells: pd.Series, problems: dict[int, list[str]]
-                         ) -> pd.Series:
+                         ) -> list[str | None]:
     import numpy as np
 
     spec = FIELD_BY_NAME[name]
     lowered = cells.str.strip().str.lower()
-    ok = lowered.isin(spec.choices) | (lowered.eq("") & (not spec.required))
-    out = lowered.where(ok)
-    for pos in np.flatnonzero(~ok.to_numpy()):
+    ok = (lowered.isin(spec.choices) | (lowered.eq("") & (not spec.required))).to_numpy()
+    out: list[str | None] = [v or None for v in lowered.tolist()]
+    for pos in np.flatnonzero(~ok):
         try:
-            out.iloc[pos] = parse_field(name, cells.iloc[pos])
+            out[pos] = parse_field(name, cells.iloc[pos])
         except UnitError as err:
             problems.setdefault(int(pos), []).append(str(err))
-    return out.where(out != "", None)
+    return out
 
 
 def parse_device_frame(frame: pd.DataFrame) -> tuple[list[Device], dict[int, list[str]]]:
-    """Devices from a text frame, and problems by row position. Column-wise where possible."""
+    """Devices from a frame of text cells, and problems by row position (column-wise)."""
     import numpy as np
 
     problems: dict[int, list[str]] = {}
@@ -152,42 +196,38 @@ def parse_device_frame(frame: pd.DataFrame) -> tuple[list[Device], dict[int, lis
         elif spec.kind == "choice":
             columns[spec.name] = _parse_choice_column(spec.name, cells, problems)
         elif spec.kind == "bool":
-            values = []
-            for pos, cell in enumerate(cells.tolist()):
+            lowered = cells.str.strip().str.lower()
+            values = lowered.isin(TRUE_WORDS).tolist()
+            for pos in np.flatnonzero(~(lowered.isin(TRUE_WORDS) | lowered.isin(FALSE_WORDS))
+                                      .to_numpy()):
                 try:
-                    values.append(parse_field(spec.name, cell))
+                    values[pos] = parse_field(spec.name, cells.iloc[pos])
                 except UnitError as err:
-                    problems.setdefault(pos, []).append(str(err))
-                    values.append(False)
+                    problems.setdefault(int(pos), []).append(str(err))
             columns[spec.name] = values
         else:
             stripped = cells.str.strip()
-            columns[spec.name] = stripped.where(stripped != "", None)
-    lists = {name: (col.tolist() if hasattr(col, "tolist") else col)
-             for name, col in columns.items()}
-    devices: list[Device] = []
-    for pos in range(n):
-        values: dict[str, Any] = {}
-        for name, col in lists.items():
-            v = col[pos]
-            if isinstance(v, float) and math.isnan(v):
-                v = None
-            values[name] = v
-        if values.get("low_stock") is not None:
-            values["low_stock"] = int(values["low_stock"])
-        if values.get("pinout"):
-            values["pinout"] = str(values["pinout"]).upper().replace("-", "").replace(" ", "")
-        if not values.get("designation"):
-            problems.setdefault(pos, []).append("designation: empty; expected the part number")
+            columns[spec.name] = [v or None for v in stripped.tolist()]
+    if "pinout" in columns:
+        columns["pinout"] = [normalize_pinout(v) for v in columns["pinout"]]
+    for pos, found in check_columns(columns, n).items():
         seen = {m.split(":")[0] for m in problems.get(pos, [])}
-        for fld, msg in check_record(values):
-            if fld not in seen:
-                problems.setdefault(pos, []).append(msg)
-        if pos in problems:
-            devices.append(Device(designation=str(values.get("designation") or "")))
-            continue
-        devices.append(Device(**values))
-    del np
+        problems.setdefault(pos, []).extend(msg for fld, msg in found if fld not in seen)
+    problems = {pos: msgs for pos, msgs in problems.items() if msgs}
+
+    # Rows of plain Python values: NaN -> None, floats as float, counts as int.
+    as_lists: dict[str, list[Any]] = {}
+    for name, col in columns.items():
+        if isinstance(col, np.ndarray):
+            values = col.tolist()
+            as_lists[name] = [None if v != v else v for v in values]
+        else:
+            as_lists[name] = col
+    if "low_stock" in as_lists:
+        as_lists["low_stock"] = [None if v is None else int(v) for v in as_lists["low_stock"]]
+    names = list(as_lists)
+    devices = [Device(**dict(zip(names, row, strict=True)))
+               for row in zip(*as_lists.values(), strict=True)]
     return devices, problems
 
 
@@ -210,11 +250,11 @@ def import_devices(session: Session, path: str | Path | None = None,
         raise ImportRejected([(1, f"missing required column(s) {', '.join(missing)}")])
 
     devices, problems = parse_device_frame(frame)
+    keys = [normalize(d.designation) for d in devices]
     first_line: dict[str, int] = {}
-    for pos, device in enumerate(devices):
-        if not device.designation:
+    for pos, (device, key) in enumerate(zip(devices, keys, strict=True)):
+        if not key:
             continue
-        key = device.key
         if key in first_line:
             problems.setdefault(pos, []).append(
                 f"designation: {device.designation!r} repeats line {first_line[key]} "
@@ -235,42 +275,58 @@ def import_devices(session: Session, path: str | Path | None = None,
     if problems:
         raise ImportRejected([(pos + 2, "; ".join(msgs)) for pos, msgs in sorted(problems.items())])
 
-    _write_devices(session, devices, report)
+    _write_devices(session, devices, keys, report)
     return report
 
 
-def _write_devices(session: Session, devices: list[Device], report: ImportReport) -> None:
-    table = DeviceRow.__table__
-    existing: dict[str, tuple[int, dict[str, Any]]] = {}
-    keys = [d.key for d in devices]
-    cols = [table.c.id, table.c.key, *[table.c[name] for name in (*FIELD_NAMES, "warnings")]]
-    for start in range(0, len(keys), 900):
-        chunk = keys[start:start + 900]
-        for row in session.execute(select(*cols).where(table.c.key.in_(chunk))).mappings():
-            existing[row["key"]] = (row["id"], dict(row))
-    inserts: list[dict[str, Any]] = []
-    updates: list[dict[str, Any]] = []
+_ROW_COLUMNS: tuple[str, ...] = ("key", *FIELD_NAMES, "warnings", "updated_at")
+
+
+def _row_tuple(device: Device, key: str, now: Any) -> tuple[Any, ...]:
+    d = device.__dict__
+    return (key, *[d[name] for name in FIELD_NAMES], "\n".join(device.warnings) or None, now)
+
+
+def _write_devices(session: Session, devices: list[Device], keys: list[str],
+                   report: ImportReport) -> None:
+    from sqlalchemy import bindparam, func
+
     from partsdb.storage.models import utcnow
 
+    table = DeviceRow.__table__
     now = utcnow()
-    for device in devices:
-        values = device_values(device)
-        if device.key in existing:
-            ident, old = existing[device.key]
+    existing: dict[str, tuple[int, dict[str, Any]]] = {}
+    if session.scalar(select(func.count()).select_from(table)):
+        cols = [table.c.id, table.c.key, *[table.c[name] for name in (*FIELD_NAMES, "warnings")]]
+        for start in range(0, len(keys), 900):
+            chunk = keys[start:start + 900]
+            for row in session.execute(select(*cols).where(table.c.key.in_(chunk))).mappings():
+                existing[row["key"]] = (row["id"], dict(row))
+    inserts: list[tuple[Any, ...]] = []
+    updates: list[dict[str, Any]] = []
+    for device, key in zip(devices, keys, strict=True):
+        if key in existing:
+            values = device_values(device)
+            ident, old = existing[key]
             if all(_same(old.get(k), v) for k, v in values.items() if k != "key"):
                 report.unchanged += 1
                 continue
             updates.append({"_id": ident, **values, "updated_at": now})
             report.updated += 1
         else:
-            inserts.append({**values, "updated_at": now})
+            inserts.append(_row_tuple(device, key, now))
             report.added += 1
     if inserts:
-        for start in range(0, len(inserts), 5000):
-            session.execute(insert(DeviceRow), inserts[start:start + 5000])
+        # The driver's own executemany on plain tuples: a 200,000-row catalog is mostly inserts,
+        # and SQLAlchemy's per-row parameter processing would cost more than the insert itself.
+        connection = session.connection()
+        dialect = connection.dialect
+        marker = "?" if dialect.paramstyle == "qmark" else "%s"
+        sql = (f"INSERT INTO {table.name} ({', '.join(_ROW_COLUMNS)}) "
+               f"VALUES ({', '.join([marker] * len(_ROW_COLUMNS))})")
+        for start in range(0, len(inserts), 20000):
+            connection.exec_driver_sql(sql, inserts[start:start + 20000])
     if updates:
-        from sqlalchemy import bindparam
-
         stmt = (update(table).where(table.c.id == bindparam("_id"))
                 .values({k: bindparam(k) for k in updates[0] if k != "_id"}))
         session.connection().execute(stmt, updates)

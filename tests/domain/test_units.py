@@ -106,3 +106,15 @@ def test_ranges() -> None:
     with pytest.raises(UnitError, match="hfe"):
         parse_range("200..50", "", "hfe")
     assert math.isclose(parse_range("1mA..10mA", "A", "ic").high, 0.01)
+
+
+@given(st.decimals(min_value=1, max_value=999, places=3, allow_nan=False, allow_infinity=False),
+       st.sampled_from(["T", "G", "M", "k", "", "m", "u", "n", "p"]),
+       st.sampled_from(["V", "A", "W", "Hz"]))
+def test_agrees_with_quantiphy_on_valid_text(number, prefix: str, unit: str) -> None:  # type: ignore[no-untyped-def]
+    # Reference library: quantiphy reads well-formed SI text correctly; our strict parser must
+    # give the same value for every text it accepts.
+    from quantiphy import Quantity
+
+    text = f"{number}{prefix}{unit}"
+    assert parse_quantity(text, unit, "f") == pytest.approx(float(Quantity(text)), rel=1e-12)

@@ -167,3 +167,33 @@ def test_round_trip_property(tmp_path_factory, vceo: float, hfe: int, notes: str
     assert (back.notes or "") == notes.strip()
     db.dispose()
     other.dispose()
+
+
+cell_text = st.builds(
+    lambda number, gap, prefix, unit: f"{number}{gap}{prefix}{unit}",
+    st.sampled_from(["40", "0.5", "1e3", "2.", ".7", "-3", "12"]),
+    st.sampled_from(["", " "]),
+    st.sampled_from(["", "m", "M", "k", "K", "u", "µ", "n", "U", "t", "G"]),
+    st.sampled_from(["V", "v", "A", "Hz", "W", "", "x"]),
+)
+
+
+@given(st.lists(cell_text, min_size=1, max_size=12))
+def test_column_parser_agrees_with_the_cell_parser(cells: list[str]) -> None:
+    # The vectorised import path must read every cell exactly as parse_field does, or refuse it.
+    import pandas as pd
+
+    from partsdb.device import parse_field
+    from partsdb.services.exchange import _parse_quantity_column
+    from partsdb.units import UnitError
+
+    problems: dict[int, list[str]] = {}
+    got = _parse_quantity_column("vceo", pd.Series(cells, dtype=str), problems)
+    for pos, cell in enumerate(cells):
+        try:
+            expected = parse_field("vceo", cell)
+        except UnitError:
+            assert pos in problems, cell
+            continue
+        assert pos not in problems, (cell, problems.get(pos))
+        assert got[pos] == pytest.approx(expected, rel=1e-12), cell
