@@ -291,6 +291,7 @@ def _decode_jis(out: Decoded, digit: str, letter_code: str, serial: str, suffix:
         if letter.family != "diode" and digit == "1":
             out.notes.append(f"letter {letter_code} is a three-terminal letter but the leading "
                              "digit is 1 (diode); check the marking")
+    out.notes.append("JIS C 7012 names do not encode the material (silicon or germanium)")
     if int(serial) < JIS_FIRST_SERIAL:
         out.notes.append(f"serial {serial} is below {JIS_FIRST_SERIAL}, where JIS numbers start; "
                          "check the marking")
