@@ -142,8 +142,8 @@ def format_quantity(value: float | None, unit: str, digits: int = 3) -> str:
     if unit in ("°C", "K/W", ""):
         text = f"{value:.{digits}g}"
         return f"{text} {unit}".strip()
-    q = Quantity(value, "Ω" if unit == "Ω" else unit)
-    return q.render(prec=digits - 1, strip_zeros=True)
+    with Quantity.prefs(map_sf=Quantity.map_sf_to_greek):
+        return Quantity(value, unit).render(prec=digits - 1, strip_zeros=True)
 
 
 @dataclass(frozen=True)

@@ -74,15 +74,13 @@ def require_row(session: Session, designation: str) -> DeviceRow:
 
 def suggest(session: Session, text: str, limit: int = 3) -> list[str]:
     """Close spellings of ``text`` among stored designations (for "not found" messages)."""
-    from rapidfuzz import fuzz, process
+    from partsdb.search import SearchIndex
 
-    rows = session.execute(select(DeviceRow.designation, DeviceRow.key)).all()
-    if not rows:
+    designations, notes = designations_and_notes(session)
+    if not designations:
         return []
-    keys = [r.key for r in rows]
-    matches = process.extract(normalize(text), keys, scorer=fuzz.ratio, limit=limit,
-                              score_cutoff=60)
-    return [rows[m[2]].designation for m in matches]
+    hits = SearchIndex(designations).find(text, limit=limit)
+    return [h.designation for h in hits if h.score >= 60]
 
 
 def add_device(session: Session, raw: Mapping[str, Any] | Device) -> Device:
