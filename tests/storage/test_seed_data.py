@@ -3,7 +3,7 @@
 The seed data is invented (see seed_data/README.md), so nothing here treats its values as an
 oracle. The tests check the files against rules from outside them: the device rules of
 :mod:`partsdb.device`, the numbering schemes the designations imitate (Pro Electron, JIS C 7012,
-the older European "O" scheme, as summarised with sources in /work/shared/DOMAIN.md), and the
+the older European "O" scheme, as published by Pro Electron and in JIS C 7012), and the
 physics ranges of germanium and silicon junctions. The README documents exactly two rows that
 contradict their designation on purpose; the scheme test insists on those two and no others.
 """
@@ -135,7 +135,7 @@ _PE_APPLICATION = {"C": "audio", "D": "audio power", "F": "rf", "L": "rf power",
 def scheme_conflicts(device: Device) -> list[str]:
     """Where the fields contradict what the designation's numbering scheme says.
 
-    Rules as summarised (with sources) in /work/shared/DOMAIN.md: Pro Electron first letter
+    Rules from the Pro Electron type designation code and JIS C 7012: Pro Electron first letter
     A germanium, B silicon; second letter C audio, F RF and S switching small-signal
     (Rth > 15 K/W), D audio, L RF and U switching power (Rth <= 15 K/W). JIS C 7012: 2SA/2SB PNP,
     2SC/2SD NPN. Older European scheme: OC = germanium transistor.
