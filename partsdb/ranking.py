@@ -1,0 +1,1216 @@
+"""The substitution engine: rank the catalog's transistors as substitutes for a requirement.
+
+Pure domain (numpy only). The catalog is held column-wise (:class:`CatalogColumns`); the hard
+constraints (polarity, kind) are boolean masks, every check and score is an array operation over
+the compatible rows, and the readable details (:class:`Check`, :class:`Flag`) are built only for
+the rows returned. :func:`rank` is the entry point; it takes data already loaded.
+
+Checks, one per parameter and candidate (status ``ok`` / ``marginal`` / ``under-rated`` /
+``unknown``):
+
+* **Ratings** (vceo, vcbo, ic_max, ptot). Without a circuit stress the need is the original's
+  rating and a lower rating is ``under-rated``. With a stress (``--vce-peak`` for vceo and vcbo,
+  ``--ic-peak`` for ic_max, ``--power`` for ptot) the stress is the need, graded by the rule of
+  :func:`partsdb.derating.grade`: at most factor x rating ``ok``, up to the rating
+  ``marginal``, above it ``under-rated``; being below the original's rating is then only a flag.
+  Ptot is compared as the power allowed at the ambient: linear derating to Tj max for a free-air
+  rating, the thermal chain with the heat sink for a case rating (:mod:`partsdb.thermal`).
+* **tj_max**. With a power stress the junction temperature is estimated, Tj = Ta + P x Rth, and
+  graded against the policy's Tj limit (ok), Tj max (marginal), above (under-rated). Without
+  one, a lower Tj max than the original's is under-rated.
+* **ft**. The need is the original's f_T or, with ``--freq f``, hFE min x f: above f_beta the
+  gain falls as f_T / f, so a stage needing gain G at f needs f_T >= G x f (gain-bandwidth,
+  textbook: |hfe| = hfe0 / (1 + j f / f_beta), f_T = hfe0 x f_beta).
+* **hfe**. Windows compared on a log scale: no overlap, or a minimum below half the needed
+  minimum, is ``marginal`` (common practice); a minimum above three times the needed maximum is
+  flagged as an instability risk (common practice).
+* **package**, **pinout**, **material**: same is ``ok``; a different outline, lead order or
+  material needs work at the bench and is ``marginal`` (with what to do in the note).
+* A value missing on either side is ``unknown`` and lowers the candidate's confidence figure;
+  an unknown Vceo, Ic max or Ptot against a known need makes the verdict at least marginal
+  (the part cannot be confirmed), so missing data is never silently ok.
+
+Sub-scores (0..1, monotone non-decreasing in the candidate's headroom on every rating):
+
+* rating with a stress, headroom h = rating / stress, policy factor f:
+  h < 1: 0.3 h; 1 <= h < 1/f: 0.3 + 0.4 (h - 1) / (1/f - 1); h >= 1/f: 0.7 + 0.3 min(1, h f - 1)
+  (full marks at twice the policy's limit);
+* rating without a stress, h = offered / original: h < 1: 0.3 h; else 0.7 + 0.3 min(1, h - 1);
+* tj_max: the same on the temperature rise above the ambient (no stress: above 25 °C);
+* hfe: 1 - (log gap between the windows + log shortfall of the minimum) / ln 10, clipped to 0..1;
+* package / pinout / material: 1 same, 0.3 other outline, 0.5 other lead order, 0.2 ge <-> si,
+  0.4 other material change;
+* unknown offered value: 0.25 (rating) or 0.4 (fit); no need at all: 0.5 for every candidate;
+* stock: 1 in the drawers, 0 not; history: 1 worked before, 0 failed before, 0.5 no record.
+
+Score = 100 x sum(w_i s_i) / sum(w_i). Default weights (override in the config file's
+``[weights]`` table, see :mod:`partsdb.services.config`):
+
+    vceo 20, vcbo 5, ic_max 15, ptot 15, tj_max 5, ft 10, hfe 10,
+    package 8, pinout 4, material 8, stock 10, history 10
+
+Verdict: the worst check (``suitable`` / ``marginal`` / ``under-rated``; ``incompatible`` only
+for rejected rows). Order: verdict class, then score (higher first), then the normalised
+designation (the catalog's row order), so ties are broken deterministically.
+
+Known limit of the model: Rth is derived from the rating, Rth = (Tj max - 25) / Ptot, so at the
+same Ptot a higher Tj max implies a higher Rth; with a power stress a higher Tj max alone can
+raise the estimated Tj (a fact of the rating model, not a scoring choice).
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass, field, fields, replace
+from functools import cached_property
+from typing import Any
+
+import numpy as np
+
+from partsdb.cautions import SAFETY_CAUTIONS
+from partsdb.derating import Policy
+from partsdb.designations import normalize
+from partsdb.device import DEFAULT_TJ_MAX, Device
+from partsdb.thermal import (
+    DEFAULT_CASE_TO_SINK,
+    FREE_AIR_CASE_TO_AMBIENT,
+    allowed_power,
+    derated_power,
+    free_air_case_to_ambient,
+    thermal_path,
+)
+
+POLARITIES: tuple[str, ...] = ("npn", "pnp")
+KINDS: tuple[str, ...] = ("bjt", "darlington")
+MATERIALS: tuple[str, ...] = ("si", "ge", "other")
+
+OK, MARGINAL, UNDER, UNKNOWN = 0, 1, 2, 3
+STATUS_NAMES: tuple[str, ...] = ("ok", "marginal", "under-rated", "unknown")
+VERDICTS: tuple[str, ...] = ("suitable", "marginal", "under-rated", "incompatible")
+
+PARAMETERS: tuple[str, ...] = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "ft", "hfe",
+                               "package", "pinout", "material")
+RATINGS: tuple[str, ...] = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "ft")
+# An unknown value on these, against a known need, means the part cannot be confirmed.
+PRIMARY: tuple[str, ...] = ("vceo", "ic_max", "ptot")
+
+UNIT: dict[str, str] = {"vceo": "V", "vcbo": "V", "ic_max": "A", "ptot": "W", "tj_max": "°C",
+                        "ft": "Hz", "hfe": "", "package": "", "pinout": "", "material": ""}
+LABEL: dict[str, str] = {"vceo": "Vceo", "vcbo": "Vcbo", "ic_max": "Ic max", "ptot": "Ptot",
+                         "tj_max": "Tj max", "ft": "fT", "hfe": "hFE", "package": "package",
+                         "pinout": "pinout", "material": "material"}
+
+# hFE thresholds (common practice): a minimum below half the needed minimum is "well below";
+# a minimum above three times the needed maximum is "much higher gain".
+HFE_LOW_FACTOR = 2.0
+HFE_HIGH_FACTOR = 3.0
+# A part more than ten times faster than needed may oscillate (common practice).
+FT_FAST_FACTOR = 10.0
+
+SUB_UNKNOWN_RATING = 0.25
+SUB_UNKNOWN_FIT = 0.4
+SUB_NO_NEED = 0.5
+
+
+class SpecError(ValueError):
+    """A requirement, stress or weight that cannot be used; the message names field and value."""
+
+
+# ----------------------------------------------------------------------------- inputs
+
+def outline_key(package: str | None) -> str | None:
+    """Outline compared without case, spaces, dashes or dots: "to-92" == "TO92"."""
+    if not package:
+        return None
+    key = "".join(ch for ch in package.upper() if ch not in " -._")
+    return key or None
+
+
+def _check_positive(name: str, value: float | None) -> None:
+    if value is None:
+        return
+    if isinstance(value, bool) or not isinstance(value, int | float) or not math.isfinite(value) \
+            or value <= 0:
+        raise SpecError(f"{name}: {value!r} is not valid; expected a positive number")
+
+
+@dataclass(frozen=True)
+class Requirement:
+    """What a substitute must offer: the original's record or a spec given directly (SI units)."""
+
+    polarity: str
+    kind: str = "bjt"
+    material: str | None = None
+    vceo: float | None = None
+    vcbo: float | None = None
+    ic_max: float | None = None
+    ptot: float | None = None
+    ptot_ref: str | None = None
+    tj_max: float | None = None
+    hfe_min: float | None = None
+    hfe_max: float | None = None
+    ft: float | None = None
+    package: str | None = None
+    pinout: str | None = None
+    designation: str | None = None
+    """The original part, when known (it is excluded from its own list)."""
+    source: str = "given"
+    """stored (the original's record), given (options only) or mixed (record + overrides)."""
+
+    def __post_init__(self) -> None:
+        if self.polarity not in POLARITIES:
+            raise SpecError(f"polarity: {self.polarity!r} is not valid; expected npn or pnp")
+        if self.kind not in KINDS:
+            raise SpecError(f"kind: {self.kind!r} is not valid; expected bjt or darlington")
+        if self.material is not None and self.material not in MATERIALS:
+            raise SpecError(f"material: {self.material!r} is not valid; expected si, ge or other")
+        if self.ptot_ref is not None and self.ptot_ref not in ("ambient", "case"):
+            raise SpecError(f"ptot_ref: {self.ptot_ref!r} is not valid; expected ambient or case")
+        for name in ("vceo", "vcbo", "ic_max", "ptot", "hfe_min", "hfe_max", "ft"):
+            _check_positive(name, getattr(self, name))
+        if self.tj_max is not None and not (isinstance(self.tj_max, int | float)
+                                            and math.isfinite(self.tj_max) and self.tj_max > 25):
+            raise SpecError(f"tj_max: {self.tj_max!r} is not valid; expected a temperature above "
+                            "25 °C")
+        if self.hfe_min is not None and self.hfe_max is not None and self.hfe_min > self.hfe_max:
+            raise SpecError(f"hfe: {self.hfe_min:g}..{self.hfe_max:g} is not valid; expected the "
+                            "low end first, such as 60..180")
+        if self.pinout is not None:
+            pin = self.pinout.upper().replace("-", "").replace(" ", "")
+            if len(pin) != 3 or sorted(pin) != ["B", "C", "E"]:
+                raise SpecError(f"pinout: {self.pinout!r} is not valid; expected the three "
+                                "letters E, B, C in lead order, such as EBC")
+            object.__setattr__(self, "pinout", pin)
+        if self.source not in ("stored", "given", "mixed"):
+            raise SpecError(f"source: {self.source!r}; expected stored, given or mixed")
+
+    @property
+    def key(self) -> str | None:
+        return normalize(self.designation) if self.designation else None
+
+    @classmethod
+    def from_device(cls, device: Device) -> Requirement:
+        """Like-for-like: the original's own record is the requirement."""
+        return cls(polarity=device.polarity, kind=device.kind, material=device.material,
+                   vceo=device.vceo, vcbo=device.vcbo, ic_max=device.ic_max, ptot=device.ptot,
+                   ptot_ref=device.ptot_ref, tj_max=device.tj_max, hfe_min=device.hfe_min,
+                   hfe_max=device.hfe_max, ft=device.ft, package=device.package,
+                   pinout=device.pinout, designation=device.designation, source="stored")
+
+    def overridden(self, **given: Any) -> Requirement:
+        """This requirement with the given (non-None) values replacing the stored ones."""
+        changes = {k: v for k, v in given.items() if v is not None}
+        unknown = set(changes) - {f.name for f in fields(self)}
+        if unknown:
+            raise SpecError(f"unknown requirement field(s): {', '.join(sorted(unknown))}")
+        if not changes:
+            return self
+        # A window is given as a whole: --hfe 60..180 replaces both ends.
+        source = "mixed" if self.source in ("stored", "mixed") else "given"
+        return replace(self, **changes, source=source)
+
+    def to_json(self) -> dict[str, Any]:
+        return {f.name: getattr(self, f.name) for f in fields(self)}
+
+
+@dataclass(frozen=True)
+class Stress:
+    """What the circuit does to the part (None: not given). SI units, temperatures in °C."""
+
+    vce_peak: float | None = None
+    ic_peak: float | None = None
+    power: float | None = None
+    """Dissipation in the part, W."""
+    ambient: float = 25.0
+    freq: float | None = None
+    """Highest signal frequency the stage must amplify, Hz."""
+    heatsink: float | None = None
+    """Sink-to-ambient thermal resistance for case-rated parts, K/W (None: no sink)."""
+
+    def __post_init__(self) -> None:
+        for name in ("vce_peak", "ic_peak", "power", "freq"):
+            _check_positive(name, getattr(self, name))
+        if isinstance(self.ambient, bool) or not isinstance(self.ambient, int | float) \
+                or not math.isfinite(self.ambient) or not -80 <= self.ambient <= 250:
+            raise SpecError(f"ambient: {self.ambient!r} is not valid; expected a temperature in °C "
+                            "between -80 and 250")
+        if self.heatsink is not None and not (isinstance(self.heatsink, int | float)
+                                              and math.isfinite(self.heatsink)
+                                              and self.heatsink >= 0):
+            raise SpecError(f"heatsink: {self.heatsink!r} is not valid; expected a thermal "
+                            "resistance in K/W, 0 or more")
+
+    @property
+    def given(self) -> bool:
+        return any(v is not None for v in (self.vce_peak, self.ic_peak, self.power, self.freq))
+
+    def to_json(self) -> dict[str, Any]:
+        return {f.name: getattr(self, f.name) for f in fields(self)}
+
+
+@dataclass(frozen=True)
+class Weights:
+    """Relative weight of each criterion in the score (>= 0; at least one above 0)."""
+
+    vceo: float = 20.0
+    vcbo: float = 5.0
+    ic_max: float = 15.0
+    ptot: float = 15.0
+    tj_max: float = 5.0
+    ft: float = 10.0
+    hfe: float = 10.0
+    package: float = 8.0
+    pinout: float = 4.0
+    material: float = 8.0
+    stock: float = 10.0
+    history: float = 10.0
+
+    def __post_init__(self) -> None:
+        for f in fields(self):
+            v = getattr(self, f.name)
+            if isinstance(v, bool) or not isinstance(v, int | float) or not math.isfinite(v) \
+                    or v < 0:
+                raise SpecError(f"weights.{f.name}: {v!r} is not valid; expected a number >= 0")
+        if self.total() <= 0:
+            raise SpecError("weights: every weight is 0; expected at least one above 0")
+
+    def total(self) -> float:
+        return float(sum(getattr(self, f.name) for f in fields(self)))
+
+    def as_dict(self) -> dict[str, float]:
+        return {f.name: float(getattr(self, f.name)) for f in fields(self)}
+
+    @classmethod
+    def from_mapping(cls, data: Mapping[str, Any], where: str = "weights") -> Weights:
+        known = {f.name for f in fields(cls)}
+        unknown = sorted(set(data) - known)
+        if unknown:
+            raise SpecError(f"{where}: unknown key(s) {', '.join(unknown)}; known keys are "
+                            + ", ".join(sorted(known)))
+        return cls(**dict(data))
+
+
+DEFAULT_WEIGHTS = Weights()
+
+
+@dataclass(frozen=True)
+class PastSwaps:
+    """What the swap log says about one substitute for this original."""
+
+    worked: int = 0
+    failed: int = 0
+    jobs: tuple[str, ...] = ()
+
+
+# ----------------------------------------------------------------------------- catalog
+
+def _codes(values: Iterable[str | None], table: Sequence[str]) -> np.ndarray:
+    lookup = {name: i for i, name in enumerate(table)}
+    return np.fromiter((lookup.get(v, -1) if v is not None else -1 for v in values),
+                       dtype=np.int8)
+
+
+def _floats(values: Iterable[float | None], n: int) -> np.ndarray:
+    return np.fromiter((np.nan if v is None else v for v in values), dtype=float, count=n)
+
+
+@dataclass(eq=False)
+class CatalogColumns:
+    """The catalog as columns, one row per device (any row order).
+
+    Codes index :data:`POLARITIES`, :data:`KINDS`, :data:`MATERIALS`; ``package`` and ``pinout``
+    index ``packages`` / ``pinouts`` (-1 unknown). Missing numbers are NaN. Derived columns and
+    the per-(polarity, kind) groups are computed on first use and kept with the object, so keep
+    one instance per catalog version (the service caches it).
+    """
+
+    designation: np.ndarray
+    key: np.ndarray
+    polarity: np.ndarray
+    kind: np.ndarray
+    material: np.ndarray
+    vceo: np.ndarray
+    vcbo: np.ndarray
+    ic_max: np.ndarray
+    ptot: np.ndarray
+    case_rated: np.ndarray
+    """True when Ptot is a case rating (``ptot_ref == "case"``)."""
+    tj_max: np.ndarray
+    hfe_min: np.ndarray
+    hfe_max: np.ndarray
+    ft: np.ndarray
+    package: np.ndarray
+    pinout: np.ndarray
+    packages: tuple[str, ...] = ()
+    """Outline display names by code (the first spelling seen)."""
+    pinouts: tuple[str, ...] = ()
+    _groups: dict[tuple[int, int], tuple[np.ndarray, CatalogColumns]] = field(
+        default_factory=dict, repr=False)
+
+    @property
+    def size(self) -> int:
+        return int(self.polarity.shape[0])
+
+    @classmethod
+    def from_values(cls, designation: Sequence[str], key: Sequence[str] | None,
+                    polarity: Sequence[str], kind: Sequence[str], material: Sequence[str | None],
+                    numbers: Mapping[str, Any], ptot_ref: Sequence[str | None],
+                    package: Sequence[str | None], pinout: Sequence[str | None],
+                    sort: bool = True) -> CatalogColumns:
+        """Build from plain sequences (``numbers``: vceo, vcbo, ic_max, ptot, tj_max, hfe_min,
+        hfe_max, ft as arrays or sequences with None/NaN for missing)."""
+        n = len(designation)
+        keys = list(key) if key is not None else [normalize(d) for d in designation]
+        order: np.ndarray | None = None
+        if sort and any(keys[i] > keys[i + 1] for i in range(n - 1)):
+            # Sorted by key only so that tables and tests read in a stable order.
+            order = np.array(sorted(range(n), key=keys.__getitem__), dtype=np.intp)
+
+        def arr(values: Any, dtype: Any = object) -> np.ndarray:
+            a = np.asarray(values, dtype=dtype) if not isinstance(values, np.ndarray) else values
+            return a[order] if order is not None else a
+
+        pkg_names: dict[str, str] = {}
+        pkg_codes: dict[str, int] = {}
+        pkg_list = []
+        for p in package:
+            k = outline_key(p)
+            if k is not None and k not in pkg_codes:
+                pkg_codes[k] = len(pkg_codes)
+                pkg_names[k] = str(p)
+            pkg_list.append(pkg_codes.get(k, -1) if k is not None else -1)
+        pins: dict[str, int] = {}
+        pin_list = []
+        for p in pinout:
+            if p:
+                pins.setdefault(p, len(pins))
+                pin_list.append(pins[p])
+            else:
+                pin_list.append(-1)
+        num = {name: arr(_floats(numbers[name], n) if not isinstance(numbers[name], np.ndarray)
+                         else numbers[name].astype(float))
+               for name in ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max",
+                            "ft")}
+        return cls(
+            designation=arr(list(designation)), key=arr(keys),
+            polarity=arr(_codes(polarity, POLARITIES)), kind=arr(_codes(kind, KINDS)),
+            material=arr(_codes(material, MATERIALS)),
+            case_rated=arr(np.fromiter((r == "case" for r in ptot_ref), dtype=bool, count=n)),
+            package=arr(np.array(pkg_list, dtype=np.int32)),
+            pinout=arr(np.array(pin_list, dtype=np.int16)),
+            packages=tuple(pkg_names[k] for k in pkg_codes), pinouts=tuple(pins), **num)
+
+    @classmethod
+    def from_devices(cls, devices: Sequence[Device]) -> CatalogColumns:
+        def col(name: str) -> list[Any]:
+            return [getattr(d, name) for d in devices]
+
+        return cls.from_values(col("designation"), [d.key for d in devices], col("polarity"),
+                               col("kind"), col("material"),
+                               {name: col(name) for name in ("vceo", "vcbo", "ic_max", "ptot",
+                                                             "tj_max", "hfe_min", "hfe_max",
+                                                             "ft")},
+                               col("ptot_ref"), col("package"), col("pinout"))
+
+    def take(self, rows: np.ndarray) -> CatalogColumns:
+        """The given rows as a catalog of their own (same outline and pinout tables)."""
+        view = CatalogColumns(
+            designation=self.designation[rows], key=self.key[rows],
+            polarity=self.polarity[rows], kind=self.kind[rows], material=self.material[rows],
+            vceo=self.vceo[rows], vcbo=self.vcbo[rows], ic_max=self.ic_max[rows],
+            ptot=self.ptot[rows], case_rated=self.case_rated[rows], tj_max=self.tj_max[rows],
+            hfe_min=self.hfe_min[rows], hfe_max=self.hfe_max[rows], ft=self.ft[rows],
+            package=self.package[rows], pinout=self.pinout[rows], packages=self.packages,
+            pinouts=self.pinouts)
+        # The tie-break order stays the whole catalog's (cached_property lives in __dict__).
+        view.__dict__["key_rank"] = self.key_rank[rows]
+        return view
+
+    def group(self, polarity: str, kind: str) -> tuple[np.ndarray, CatalogColumns]:
+        """(rows, their columns) of one polarity and kind: the hard constraints, kept.
+
+        Gathering a dozen columns costs more than every check together, so each group is
+        gathered once per catalog and reused by every ranking.
+        """
+        code = (POLARITIES.index(polarity), KINDS.index(kind))
+        hit = self._groups.get(code)
+        if hit is None:
+            rows = np.flatnonzero((self.polarity == code[0]) & (self.kind == code[1]))
+            hit = (rows, self.take(rows))
+            self._groups[code] = hit
+        return hit
+
+    def rejected(self, polarity: str, kind: str) -> np.ndarray:
+        code = (POLARITIES.index(polarity), KINDS.index(kind))
+        return np.flatnonzero((self.polarity != code[0]) | (self.kind != code[1]))
+
+    # Derived columns, computed once per catalog and reused by every ranking.
+    @cached_property
+    def index(self) -> dict[str, int]:
+        """Normalised key -> row."""
+        return {k: i for i, k in enumerate(self.key.tolist())}
+
+    def index_of(self, designation: str | None) -> int | None:
+        return None if not designation else self.index.get(normalize(designation))
+
+    @cached_property
+    def key_rank(self) -> np.ndarray:
+        """Position of each row in normalised-designation order (the tie-break)."""
+        order = np.argsort(np.array(self.key.tolist(), dtype=str), kind="stable")
+        out = np.empty(self.size, dtype=np.int64)
+        out[order] = np.arange(self.size)
+        return out
+
+    @cached_property
+    def tj_effective(self) -> np.ndarray:
+        """Tj max, or the material's default where the record has none (flagged as assumed)."""
+        defaults = np.array([DEFAULT_TJ_MAX["si"], DEFAULT_TJ_MAX["ge"], DEFAULT_TJ_MAX["other"],
+                             150.0])
+        return np.where(np.isnan(self.tj_max), defaults[self.material], self.tj_max)
+
+    @cached_property
+    def free_air(self) -> np.ndarray:
+        """Case-to-ambient K/W of each row's outline standing in free air (for case ratings)."""
+        table = np.array([free_air_case_to_ambient(p)[0] for p in self.packages]
+                         + [free_air_case_to_ambient(None)[0]])
+        return table[self.package]
+
+    @cached_property
+    def log_hfe(self) -> tuple[np.ndarray, np.ndarray]:
+        lo = self.hfe_min
+        hi = np.where(np.isnan(self.hfe_max), lo, self.hfe_max)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            return np.log(lo), np.log(hi)
+
+    def device_at(self, i: int) -> dict[str, Any]:
+        """The row as plain values (for details and reports)."""
+        return {
+            "designation": str(self.designation[i]), "key": str(self.key[i]),
+            "polarity": _name(POLARITIES, self.polarity[i]), "kind": _name(KINDS, self.kind[i]),
+            "material": _name(MATERIALS, self.material[i]),
+            **{n: _num(getattr(self, n)[i]) for n in ("vceo", "vcbo", "ic_max", "ptot", "tj_max",
+                                                      "hfe_min", "hfe_max", "ft")},
+            "ptot_ref": "case" if self.case_rated[i] else "ambient",
+            "package": self.packages[self.package[i]] if self.package[i] >= 0 else None,
+            "pinout": self.pinouts[self.pinout[i]] if self.pinout[i] >= 0 else None,
+        }
+
+
+def _name(table: Sequence[str], code: Any) -> str | None:
+    c = int(code)
+    return table[c] if 0 <= c < len(table) else None
+
+
+def _num(value: Any) -> float | None:
+    v = float(value)
+    return None if math.isnan(v) else v
+
+
+# ----------------------------------------------------------------------------- grading
+
+def grade_codes(stress: Any, rating: Any, factor: Any) -> np.ndarray:
+    """:func:`partsdb.derating.grade` as status codes (OK, MARGINAL, UNDER, UNKNOWN).
+
+    The same comparisons (ok when stress <= factor x rating, marginal when stress <= rating,
+    over otherwise, unknown on NaN) without building string arrays, which cost about 10 ms per
+    100,000 rows; a test checks both agree element by element.
+    """
+    s = np.asarray(stress, dtype=float)
+    r = np.asarray(rating, dtype=float)
+    out = np.full(np.broadcast(s, r).shape, UNDER, dtype=np.int8)
+    out[s <= r] = MARGINAL
+    out[s <= factor * r] = OK
+    out[np.isnan(s) | np.isnan(r)] = UNKNOWN
+    return out
+
+
+def headroom_score_stressed(h: np.ndarray, factor: Any) -> np.ndarray:
+    """Sub-score of headroom h = rating / stress under a policy factor (see module docstring).
+
+    Continuous and piecewise linear in h: 0 at 0, 0.3 at the rating, 0.7 at the policy's limit
+    (h = 1/f), 1.0 at twice the limit.
+    """
+    if np.ndim(factor) == 0:
+        inv = 1.0 / float(factor)
+        if inv > 1.0:
+            return np.interp(h, (0.0, 1.0, inv, 2.0 * inv), (0.0, 0.3, 0.7, 1.0))
+        return headroom_score_plain(h)
+    inv = 1.0 / np.asarray(factor, dtype=float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mid = 0.3 + 0.4 * np.where(inv > 1, (h - 1.0) / (inv - 1.0), 1.0)
+    top = 0.7 + 0.3 * np.clip(h / inv - 1.0, 0.0, 1.0)
+    return np.where(h < 1.0, 0.3 * np.clip(h, 0.0, 1.0), np.where(h < inv, mid, top))
+
+
+def headroom_score_plain(h: np.ndarray) -> np.ndarray:
+    """Sub-score of headroom h = offered / original's rating (no stress).
+
+    0.3 h below the rating, then a step to 0.7 at the rating and 0.3 more up to twice it.
+    """
+    out = np.interp(h, (0.0, 1.0, 2.0), (0.0, 0.3, 0.6))
+    out[h >= 1.0] += 0.4
+    return out
+
+
+@dataclass
+class _Column:
+    """One check over the evaluated rows (arrays aligned with the row selection)."""
+
+    need: Any
+    """Scalar or array (NaN: no need)."""
+    offered: np.ndarray
+    status: np.ndarray
+    sub: np.ndarray
+    ratio: np.ndarray | None = None
+    basis: str = ""
+    """How the need was set (for notes): rating, stress, freq, ..."""
+
+
+def _none_array(n: int) -> np.ndarray:
+    return np.full(n, np.nan)
+
+
+def _rating_column(offered: np.ndarray, original: float | None, stress: float | None,
+                   factor: float) -> _Column:
+    n = offered.shape[0]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        if stress is not None:
+            h = offered / stress
+            status = grade_codes(stress, offered, factor)
+            sub = headroom_score_stressed(h, factor)
+            basis = "stress"
+            need: float = stress
+        elif original is not None:
+            h = offered / original
+            status = np.where(offered >= original, OK, UNDER).astype(np.int8)
+            sub = headroom_score_plain(h)
+            basis = "original"
+            need = original
+        else:
+            return _Column(np.nan, offered, np.full(n, UNKNOWN, np.int8), np.full(n, SUB_NO_NEED),
+                           None, "none")
+    unknown = np.isnan(offered)
+    status[unknown] = UNKNOWN
+    sub = np.where(unknown, SUB_UNKNOWN_RATING, sub)
+    return _Column(need, offered, status, sub, h, basis)
+
+
+@dataclass
+class _Evaluation:
+    rows: np.ndarray
+    columns: dict[str, _Column]
+    stock: np.ndarray
+    history: np.ndarray
+    score: np.ndarray
+    verdict: np.ndarray
+    allowed_power: np.ndarray
+    tj_estimate: np.ndarray | None
+
+
+def _requirement_power(req: Requirement, stress: Stress) -> tuple[float | None, float | None]:
+    """The original's allowed power at the ambient in the same mounting, and its Tj max used."""
+    if req.ptot is None:
+        return None, None
+    tj = req.tj_max if req.tj_max is not None else DEFAULT_TJ_MAX.get(req.material or "si", 150.0)
+    ref = req.ptot_ref or "ambient"
+    free_air, _ = free_air_case_to_ambient(req.package)
+    rth = thermal_path(req.ptot, tj, ref, stress.heatsink, DEFAULT_CASE_TO_SINK, free_air)
+    return float(allowed_power(req.ptot, tj, ref, stress.ambient, rth)), tj
+
+
+_VERDICT_OF = np.array([0, 1, 2, 0], dtype=np.int8)
+"""Verdict contribution of a status code: ok 0, marginal 1, under-rated 2, unknown 0."""
+
+
+def _evaluate(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress: Stress,
+              policy: Policy, weights: Weights, stock_qty: np.ndarray | None,
+              history_score: np.ndarray | None) -> _Evaluation:
+    """Every check and score over ``cat`` (whose rows are the global ``rows``)."""
+    n = rows.shape[0]
+    cols: dict[str, _Column] = {}
+    cols["vceo"] = _rating_column(cat.vceo, req.vceo, stress.vce_peak, policy.voltage)
+    # Vcb is Vce minus Vbe: the Vce peak bounds it, so it is the stress on Vcbo too.
+    cols["vcbo"] = _rating_column(cat.vcbo, req.vcbo, stress.vce_peak, policy.voltage)
+    cols["ic_max"] = _rating_column(cat.ic_max, req.ic_max, stress.ic_peak, policy.current)
+
+    # Power allowed at the ambient in this mounting: free-air ratings derate linearly, case
+    # ratings go through Rth j-c + c-s + s-a (thermal.py); the two groups are computed apart so
+    # the reference is a scalar, not a string array.
+    ptot = cat.ptot
+    tj_eff = cat.tj_effective
+    case = cat.case_rated
+    rth = np.asarray(thermal_path(ptot, tj_eff, "ambient", None), dtype=float)
+    allowed = np.asarray(derated_power(ptot, tj_eff, stress.ambient), dtype=float)
+    if case.any():
+        rc = np.asarray(thermal_path(ptot[case], tj_eff[case], "case", stress.heatsink,
+                                     DEFAULT_CASE_TO_SINK, cat.free_air[case]), dtype=float)
+        rth[case] = rc
+        allowed[case] = allowed_power(ptot[case], tj_eff[case], "case", stress.ambient, rc)
+    req_power, _ = _requirement_power(req, stress)
+    cols["ptot"] = _rating_column(allowed, req_power, stress.power, policy.power)
+
+    tj = cat.tj_max
+    tj_est: np.ndarray | None = None
+    if stress.power is not None:
+        ta = stress.ambient
+        tj_est = ta + stress.power * rth
+        limit = np.asarray(policy.tj_limit(tj), dtype=float)
+        status = np.full(n, UNDER, np.int8)
+        status[tj_est <= tj] = MARGINAL
+        status[tj_est <= limit] = OK
+        with np.errstate(invalid="ignore", divide="ignore"):
+            h = (tj - ta) / (tj_est - ta)
+            factor = np.clip((limit - ta) / (tj - ta), 1e-6, 1.0)
+            sub = headroom_score_stressed(h, factor)
+        unknown = np.isnan(tj) | np.isnan(tj_est)
+        status[unknown] = UNKNOWN
+        cols["tj_max"] = _Column(tj_est, tj, status, np.where(unknown, SUB_UNKNOWN_RATING, sub),
+                                 h, "stress")
+    elif req.tj_max is not None:
+        col = _rating_column(tj - 25.0, req.tj_max - 25.0, None, 1.0)
+        col.need, col.offered = req.tj_max, tj
+        cols["tj_max"] = col
+    else:
+        cols["tj_max"] = _Column(np.nan, tj, np.full(n, UNKNOWN, np.int8), np.full(n, SUB_NO_NEED),
+                                 None, "none")
+
+    ft_need: float | None
+    if stress.freq is not None and req.hfe_min is not None:
+        ft_need, basis = req.hfe_min * stress.freq, "gain-bandwidth"
+    else:
+        ft_need, basis = req.ft, "original"
+    col = _rating_column(cat.ft, ft_need, None, 1.0)
+    if col.basis != "none":
+        col.basis = basis
+    cols["ft"] = col
+
+    cols["hfe"] = _hfe_column(cat, rows, req)
+    cols["package"] = _fit_column(cat.package, _package_code(cat, req.package), 0.3)
+    cols["pinout"] = _fit_column(cat.pinout, _pinout_code(cat, req.pinout), 0.5)
+    mat_need = MATERIALS.index(req.material) if req.material in MATERIALS else -1
+    mat = cat.material
+    mcol = _fit_column(mat, mat_need, 0.4)
+    if mat_need in (0, 1):
+        # Germanium <-> silicon changes Vbe by about 0.4 V: the stage's bias must be re-checked.
+        mcol.sub = np.where(mat == 1 - mat_need, 0.2, mcol.sub)
+    cols["material"] = mcol
+
+    stock = np.zeros(n) if stock_qty is None else (stock_qty[rows] > 0).astype(float)
+    hist = np.full(n, 0.5) if history_score is None else history_score[rows]
+
+    w = weights.as_dict()
+    total = np.zeros(n)
+    for name in PARAMETERS:
+        if w[name]:
+            total += w[name] * cols[name].sub
+    total += w["stock"] * stock + w["history"] * hist
+    score = 100.0 * total / weights.total()
+
+    verdict = np.zeros(n, np.int8)
+    for name in PARAMETERS:
+        np.maximum(verdict, _VERDICT_OF[cols[name].status], out=verdict)
+    for name in PRIMARY:
+        col = cols[name]
+        if col.basis != "none":
+            np.maximum(verdict, (col.status == UNKNOWN).view(np.int8), out=verdict)
+    return _Evaluation(rows, cols, stock_qty[rows] if stock_qty is not None else np.zeros(n, int),
+                       hist, score, verdict, allowed, tj_est)
+
+
+def _package_code(cat: CatalogColumns, package: str | None) -> int:
+    k = outline_key(package)
+    if k is None:
+        return -1
+    for i, p in enumerate(cat.packages):
+        if outline_key(p) == k:
+            return i
+    return -2  # known, but no row has it
+
+
+def _pinout_code(cat: CatalogColumns, pinout: str | None) -> int:
+    if not pinout:
+        return -1
+    return cat.pinouts.index(pinout) if pinout in cat.pinouts else -2
+
+
+def _fit_column(codes: np.ndarray, need: int, other: float) -> _Column:
+    n = codes.shape[0]
+    if need == -1:
+        return _Column(np.nan, codes, np.full(n, UNKNOWN, np.int8), np.full(n, SUB_NO_NEED),
+                       None, "none")
+    same = codes == need
+    unknown = codes < 0
+    status = (~same).view(np.int8).copy()  # OK 0 / MARGINAL 1
+    status[unknown] = UNKNOWN
+    sub = np.where(same, 1.0, other)
+    sub[unknown] = SUB_UNKNOWN_FIT
+    return _Column(float(need), codes, status, sub, None, "original")
+
+
+def _hfe_column(cat: CatalogColumns, rows: np.ndarray, req: Requirement) -> _Column:
+    n = rows.shape[0]
+    lo, hi = cat.log_hfe
+    if req.hfe_min is None:
+        return _Column(np.nan, cat.hfe_min, np.full(n, UNKNOWN, np.int8),
+                       np.full(n, SUB_NO_NEED), None, "none")
+    need_lo = math.log(req.hfe_min)
+    need_hi = math.log(req.hfe_max if req.hfe_max is not None else req.hfe_min)
+    gap = np.maximum(0.0, np.maximum(need_lo - hi, lo - need_hi))
+    short = np.maximum(0.0, need_lo - lo)
+    status = ((gap > 0) | (short > math.log(HFE_LOW_FACTOR))).view(np.int8).copy()
+    sub = np.clip(1.0 - (gap + short) / math.log(10.0), 0.0, 1.0)
+    unknown = np.isnan(lo)
+    status[unknown] = UNKNOWN
+    sub = np.where(unknown, SUB_UNKNOWN_RATING, sub)
+    with np.errstate(invalid="ignore"):
+        ratio = np.exp(lo - need_lo)
+    return _Column(req.hfe_min, cat.hfe_min, status, sub, ratio, "original")
+
+
+# ----------------------------------------------------------------------------- results
+
+@dataclass(frozen=True)
+class Check:
+    """One parameter of one candidate against the need."""
+
+    parameter: str
+    need: float | None
+    offered: float | None
+    ratio: float | None
+    """offered / need: 1.0 just meets it (tj_max: temperature rise available / used)."""
+    status: str
+    note: str = ""
+
+    def to_json(self) -> dict[str, Any]:
+        return {"parameter": self.parameter, "need": self.need, "offered": self.offered,
+                "ratio": self.ratio, "status": self.status, "note": self.note}
+
+
+@dataclass(frozen=True)
+class Flag:
+    code: str
+    message: str
+
+    def to_json(self) -> dict[str, str]:
+        return {"code": self.code, "message": self.message}
+
+
+@dataclass
+class Candidate:
+    designation: str
+    key: str
+    score: float
+    verdict: str
+    in_stock: int
+    locations: list[str]
+    checks: list[Check]
+    flags: list[Flag]
+    confidence: float
+    """Share of the applicable checks whose values are known on both sides (0..1)."""
+    subscores: dict[str, float]
+    device: dict[str, Any] = field(default_factory=dict)
+
+    def check(self, parameter: str) -> Check:
+        return next(c for c in self.checks if c.parameter == parameter)
+
+    def flag_codes(self) -> list[str]:
+        return [f.code for f in self.flags]
+
+    def to_json(self) -> dict[str, Any]:
+        return {"designation": self.designation, "score": round(self.score, 1),
+                "verdict": self.verdict, "in_stock": self.in_stock,
+                "locations": list(self.locations), "confidence": round(self.confidence, 2),
+                "checks": [c.to_json() for c in self.checks],
+                "flags": [f.to_json() for f in self.flags],
+                "subscores": {k: round(v, 3) for k, v in self.subscores.items()},
+                "device": self.device}
+
+
+@dataclass
+class RankResult:
+    requirement: Requirement
+    stress: Stress
+    policy: Policy
+    weights: Weights
+    candidates: list[Candidate]
+    considered: int
+    """Rows in the catalog."""
+    compatible: int
+    """Rows passing the hard constraints (and the in-stock filter), the original excluded."""
+    cautions: tuple[str, ...] = SAFETY_CAUTIONS
+    notes: list[str] = field(default_factory=list)
+
+    def to_json(self) -> dict[str, Any]:
+        return {
+            "requirement": self.requirement.to_json(),
+            "stress": self.stress.to_json(),
+            "policy": {"name": self.policy.name, "factors": self.policy.factors(),
+                       "source": self.policy.source, "description": self.policy.description},
+            "weights": self.weights.as_dict(),
+            "considered": self.considered,
+            "compatible": self.compatible,
+            "candidates": [c.to_json() for c in self.candidates],
+            "notes": list(self.notes),
+            "cautions": list(self.cautions),
+        }
+
+
+# ----------------------------------------------------------------------------- ranking
+
+def hard_mask(cat: CatalogColumns, req: Requirement) -> np.ndarray:
+    """Rows of the same polarity and kind (the hard constraints)."""
+    return (cat.polarity == POLARITIES.index(req.polarity)) & (cat.kind == KINDS.index(req.kind))
+
+
+def history_scores(cat: CatalogColumns, history: Mapping[str, PastSwaps] | None
+                   ) -> np.ndarray | None:
+    """History sub-score per row: 1 worked before, 0 failed before, 0.5 otherwise or mixed."""
+    if not history:
+        return None
+    out = np.full(cat.size, 0.5)
+    for key, past in history.items():
+        i = cat.index_of(key)
+        if i is None:
+            continue
+        if past.worked and not past.failed:
+            out[i] = 1.0
+        elif past.failed and not past.worked:
+            out[i] = 0.0
+    return out
+
+
+def _top(score: np.ndarray, verdict: np.ndarray, key_rank: np.ndarray, limit: int,
+         exclude: int | None = None) -> np.ndarray:
+    """Positions of the best ``limit`` rows: verdict class, then score, then normalised key.
+
+    ``exclude`` is a position left out (the original itself). Only the rows tied at the cut are
+    compared by key, so the tie-break costs nothing on a catalog of distinct scores.
+    """
+    n = score.shape[0]
+    if n == 0 or limit <= 0:
+        return np.zeros(0, dtype=np.intp)
+    comp = verdict * 1000.0 - score
+    if exclude is not None:
+        comp[exclude] = np.inf
+    if n > limit:
+        part = np.argpartition(comp, limit - 1)[:limit]
+        cut = comp[part].max()
+        pool = np.flatnonzero(comp <= cut)  # every tie at the cut, so the tie-break is exact
+    else:
+        pool = np.arange(n)
+    pool = pool[np.isfinite(comp[pool])]
+    return pool[np.lexsort((key_rank[pool], comp[pool]))[:limit]]
+
+
+def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | None = None,
+         policy: Policy | None = None, weights: Weights | None = None,
+         stock_qty: np.ndarray | None = None, *, history: Mapping[str, PastSwaps] | None = None,
+         locations: Mapping[str, Sequence[str]] | None = None, limit: int = 15,
+         in_stock_only: bool = False, show_rejected: bool = False) -> RankResult:
+    """Rank the catalog's rows as substitutes for ``requirement`` (data already loaded).
+
+    ``stock_qty`` is aligned with the catalog rows; ``history`` maps a substitute's normalised
+    key to what the swap log says about it for this original; ``locations`` maps keys to drawer
+    paths (used only for the rows returned). With ``show_rejected`` the best ``limit`` rows of
+    the wrong polarity or kind follow, with verdict ``incompatible`` and the reason.
+    """
+    from partsdb.derating import BUILTIN_POLICIES, DEFAULT_POLICY
+
+    stress = stress or Stress()
+    policy = policy or BUILTIN_POLICIES[DEFAULT_POLICY]
+    weights = weights or DEFAULT_WEIGHTS
+    if isinstance(limit, bool) or not isinstance(limit, int) or limit < 1:
+        raise SpecError(f"limit: {limit!r} is not valid; expected a whole number above 0")
+    if stock_qty is not None and stock_qty.shape[0] != catalog.size:
+        raise SpecError(f"stock_qty: {stock_qty.shape[0]} rows for a catalog of {catalog.size}")
+    original = catalog.index_of(requirement.designation)
+    hist = history_scores(catalog, history)
+    rows, view = catalog.group(requirement.polarity, requirement.kind)
+    if in_stock_only:
+        keep = np.flatnonzero(stock_qty[rows] > 0) if stock_qty is not None else \
+            np.zeros(0, dtype=np.intp)
+        rows, view = rows[keep], view.take(keep)
+    # The original itself is left out of its own list (by position, without a gather).
+    exclude: int | None = None
+    if original is not None:
+        at = int(np.searchsorted(rows, original))
+        if at < rows.shape[0] and rows[at] == original:
+            exclude = at
+    ev = _evaluate(view, rows, requirement, stress, policy, weights, stock_qty, hist)
+    top = _top(ev.score, ev.verdict, view.key_rank, limit, exclude)
+    candidates = [_details(catalog, ev, int(p), requirement, stress, policy, weights, history,
+                           locations, None) for p in top]
+    result = RankResult(requirement, stress, policy, weights, candidates, catalog.size,
+                        int(rows.shape[0]) - (exclude is not None))
+    if show_rejected:
+        rrows = catalog.rejected(requirement.polarity, requirement.kind)
+        if in_stock_only:
+            rrows = rrows[stock_qty[rrows] > 0] if stock_qty is not None else rrows[:0]
+        rview = catalog.take(rrows)
+        rev = _evaluate(rview, rrows, requirement, stress, policy, weights, stock_qty, hist)
+        rtop = _top(rev.score, np.zeros_like(rev.verdict), rview.key_rank, limit)
+        for p in rtop:
+            i = int(rrows[p])
+            reasons = []
+            pol, kind = _name(POLARITIES, catalog.polarity[i]), _name(KINDS, catalog.kind[i])
+            if pol != requirement.polarity:
+                reasons.append(f"polarity {pol or 'unknown'}, need {requirement.polarity}")
+            if kind != requirement.kind:
+                reasons.append(f"kind {kind or 'unknown'}, need {requirement.kind}")
+            result.candidates.append(_details(catalog, rev, int(p), requirement, stress, policy,
+                                              weights, history, locations, "; ".join(reasons)))
+    return result
+
+
+# ----------------------------------------------------------------------------- details
+
+_SI_STEPS: tuple[tuple[float, str], ...] = (
+    (1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"),
+    (1e-12, "p"))
+
+
+def _fmt(value: float | None, unit: str) -> str:
+    """Engineering notation with an SI prefix ("150 mW", "2 MHz"), 3 significant digits.
+
+    Written out here because the details of every returned row are formatted on each ranking
+    and the general formatter (quantiphy) costs about 0.1 ms a call.
+    """
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return "—"
+    if unit in ("", "°C", "K/W"):
+        return f"{value:.3g} {unit}".strip()
+    magnitude = abs(value)
+    for scale, prefix in _SI_STEPS:
+        if magnitude >= scale * 0.9995 or scale == 1e-12:
+            return f"{value / scale:.3g} {prefix}{unit}"
+    return f"{value:.3g} {unit}"
+
+
+def _pct(x: float) -> str:
+    return f"{100 * x:.0f} %"
+
+
+def lead_mapping(original: str, substitute: str) -> str:
+    """Which substitute lead goes to which board pad when the lead orders differ.
+
+    The board's pads 1 2 3 carry the original's leads in order; each pad takes the substitute
+    lead with the same function.
+    """
+    parts = []
+    for pad, function in enumerate(original, start=1):
+        lead = substitute.index(function) + 1
+        parts.append(f"pad {pad} ({function}) gets lead {lead}")
+    return (f"re-form leads: original {' '.join(original)} -> pads 1 2 3; substitute leads 1 2 3 "
+            f"are {' '.join(substitute)}, so " + ", ".join(parts))
+
+
+def _details(cat: CatalogColumns, ev: _Evaluation, p: int, req: Requirement, stress: Stress,
+             policy: Policy, weights: Weights, history: Mapping[str, PastSwaps] | None,
+             locations: Mapping[str, Sequence[str]] | None, rejected: str | None) -> Candidate:
+    i = int(ev.rows[p])
+    dev = cat.device_at(i)
+    key = dev["key"]
+    checks: list[Check] = []
+    flags: list[Flag] = []
+    applicable = known = 0
+    for name in PARAMETERS:
+        col = ev.columns[name]
+        status = STATUS_NAMES[int(col.status[p])]
+        need_v = col.need[p] if isinstance(col.need, np.ndarray) else col.need
+        need = _num(need_v) if need_v is not None else None
+        offered: Any
+        if name in ("package", "pinout", "material"):
+            need_text = {"package": req.package, "pinout": req.pinout,
+                         "material": req.material}[name]
+            off_text = dev[name]
+            note = _fit_note(name, need_text, off_text, status)
+            checks.append(Check(name, None, None, None, status, note))
+            if need_text is not None:
+                applicable += 1
+                known += off_text is not None
+            continue
+        offered = _num(col.offered[p])
+        ratio = _num(col.ratio[p]) if col.ratio is not None else None
+        if ratio is not None and not math.isfinite(ratio):
+            ratio = None
+        if need is not None:
+            applicable += 1
+            known += offered is not None
+        note = _rating_note(name, col, need, offered, status, req, stress, policy, dev)
+        checks.append(Check(name, need, offered, ratio, status, note))
+
+    verdict = VERDICTS[3] if rejected is not None else VERDICTS[int(ev.verdict[p])]
+    if rejected is not None:
+        flags.append(Flag("incompatible", f"not a substitute: {rejected}"))
+    _flags(flags, checks, dev, req, stress, ev, p, cat, i)
+    past = (history or {}).get(key)
+    if past is not None and (past.worked or past.failed):
+        jobs = f" (jobs {', '.join(past.jobs)})" if past.jobs else ""
+        if past.worked:
+            flags.append(Flag("worked-before",
+                              f"used for {req.designation} before and worked {past.worked} time(s)"
+                              f"{jobs}: score bonus"))
+        if past.failed:
+            flags.append(Flag("failed-before",
+                              f"used for {req.designation} before and failed {past.failed} time(s)"
+                              f"{jobs}: score penalty; read the swap log notes"))
+    unknown = [c.parameter for c in checks if c.status == "unknown"
+               and (c.need is not None or c.parameter in ("package", "pinout", "material"))
+               and _need_known(c.parameter, req, stress)]
+    if unknown:
+        flags.append(Flag("unknown-data", "no value to compare for " + ", ".join(unknown)
+                          + ": check the datasheet"))
+    subs = {name: float(ev.columns[name].sub[p]) for name in PARAMETERS}
+    subs["stock"] = float(ev.stock[p] > 0)
+    subs["history"] = float(ev.history[p])
+    qty = int(ev.stock[p])
+    return Candidate(dev["designation"], key, float(ev.score[p]), verdict, qty,
+                     list((locations or {}).get(key, [])) if qty > 0 else [],
+                     checks, flags, known / applicable if applicable else 1.0, subs, dev)
+
+
+def _need_known(name: str, req: Requirement, stress: Stress) -> bool:
+    if name in ("package", "pinout", "material"):
+        return getattr(req, name) is not None
+    return True
+
+
+def _fit_note(name: str, need: str | None, offered: str | None, status: str) -> str:
+    if need is None:
+        return "no requirement given"
+    if offered is None:
+        return f"not in the record (need {need})"
+    if status == "ok":
+        return f"same ({offered})"
+    if name == "package":
+        return (f"other outline: {offered} for {need}; mechanical and thermal adaptation "
+                "(mounting, heat sink, lead spacing)")
+    if name == "pinout":
+        return lead_mapping(need, offered)
+    if {need, offered} == {"ge", "si"}:
+        return (f"material {need} -> {offered}: Vbe about "
+                + ("0.6-0.7 V instead of 0.2-0.3 V" if offered == "si" else
+                   "0.2-0.3 V instead of 0.6-0.7 V")
+                + "; re-check the bias (partsdb bias)")
+    return f"material {need} -> {offered}: re-check the bias (partsdb bias)"
+
+
+def _rating_note(name: str, col: _Column, need: float | None, offered: float | None,
+                 status: str, req: Requirement, stress: Stress, policy: Policy,
+                 dev: dict[str, Any]) -> str:
+    unit = UNIT[name]
+    if need is None:
+        return "no requirement (the original's value is unknown and no stress given)"
+    if offered is None:
+        return f"not in the record (need {_fmt(need, unit)})"
+    if name == "tj_max" and col.basis == "stress":
+        limit = float(policy.tj_limit(offered))
+        return (f"Tj estimated {need:.0f} °C at {_fmt(stress.power, 'W')} and "
+                f"{stress.ambient:g} °C ambient; {policy.name} allows {limit:.0f} °C, "
+                f"Tj max {offered:.0f} °C")
+    if name == "tj_max":
+        return f"original's Tj max {need:.0f} °C"
+    if name == "hfe":
+        win = (f"{req.hfe_min:g}..{req.hfe_max:g}" if req.hfe_max is not None
+               else f"{req.hfe_min:g}")
+        cand = (f"{dev['hfe_min']:g}..{dev['hfe_max']:g}" if dev["hfe_max"] is not None
+                else f"{dev['hfe_min']:g}")
+        return f"window {cand} against {win} (log scale)"
+    if name == "ft":
+        if col.basis == "gain-bandwidth":
+            return (f"gain-bandwidth: fT >= hFE min x f = {req.hfe_min:g} x "
+                    f"{_fmt(stress.freq, 'Hz')} (textbook: gain falls as fT/f above f_beta)")
+        return "original's fT" + (" (no hFE min known, so --freq was not used)"
+                                  if stress.freq is not None else "")
+    if col.basis == "stress":
+        factor = {"vceo": policy.voltage, "vcbo": policy.voltage, "ic_max": policy.current,
+                  "ptot": policy.power}[name]
+        what = {"vceo": "Vce peak", "vcbo": "Vce peak", "ic_max": "Ic peak",
+                "ptot": "dissipation"}[name]
+        rating = "allowed power" if name == "ptot" else LABEL[name]
+        return (f"{what} {_fmt(need, unit)} is {_pct(need / offered)} of {rating} "
+                f"{_fmt(offered, unit)}; {policy.name} allows {_pct(factor)}")
+    if name == "ptot":
+        return (f"allowed power at {stress.ambient:g} °C vs the original's "
+                f"{_fmt(need, 'W')} in the same mounting")
+    return f"original's {LABEL[name]}"
+
+
+def _flags(flags: list[Flag], checks: list[Check], dev: dict[str, Any], req: Requirement,
+           stress: Stress, ev: _Evaluation, p: int, cat: CatalogColumns, i: int) -> None:
+    by = {c.parameter: c for c in checks}
+    for name, stressed in (("vceo", stress.vce_peak), ("vcbo", stress.vce_peak),
+                           ("ic_max", stress.ic_peak)):
+        original = getattr(req, name)
+        offered = dev[name]
+        if stressed is not None and original is not None and offered is not None \
+                and offered < original:
+            flags.append(Flag("below-original",
+                              f"{LABEL[name]} {_fmt(offered, UNIT[name])} is below the original's "
+                              f"{_fmt(original, UNIT[name])} (fine for the stated stress only)"))
+    if by["material"].status == "marginal":
+        flags.append(Flag("material-change", by["material"].note))
+    if by["package"].status == "marginal":
+        flags.append(Flag("other-outline", by["package"].note))
+    if by["pinout"].status == "marginal":
+        flags.append(Flag("re-form-leads", by["pinout"].note))
+    if cat.case_rated[i] and dev["ptot"] is not None:
+        sink = (f"heat sink {stress.heatsink:g} K/W + {DEFAULT_CASE_TO_SINK:g} K/W case-to-sink"
+                if stress.heatsink is not None else
+                f"no heat sink: {float(cat.free_air[i]):g} K/W case-to-ambient in free air "
+                f"for {dev['package'] or 'an unknown outline'}"
+                + ("" if outline_key(dev["package"]) in {outline_key(k) for k in
+                                                         FREE_AIR_CASE_TO_AMBIENT} else " (assumed)"))
+        flags.append(Flag("case-rating-converted",
+                          f"Ptot {_fmt(dev['ptot'], 'W')} is a case rating; converted through the "
+                          f"thermal chain ({sink}) to {_fmt(float(ev.allowed_power[p]), 'W')} "
+                          f"at {stress.ambient:g} °C"))
+    if dev["tj_max"] is None and dev["ptot"] is not None:
+        flags.append(Flag("tj-assumed", f"Tj max not in the record: {float(cat.tj_effective[i]):g} °C "
+                                        f"assumed for {dev['material']} to derate Ptot"))
+    if req.hfe_min is not None and dev["hfe_min"] is not None:
+        need_hi = req.hfe_max if req.hfe_max is not None else req.hfe_min
+        if dev["hfe_min"] > HFE_HIGH_FACTOR * need_hi:
+            flags.append(Flag("high-gain", f"much higher gain (hFE min {dev['hfe_min']:g} vs "
+                                           f"{need_hi:g}): risk of instability or oscillation; "
+                                           "check the stage (common practice)"))
+        elif dev["hfe_min"] * HFE_LOW_FACTOR < req.hfe_min:
+            flags.append(Flag("low-gain", f"hFE min {dev['hfe_min']:g} is well below the needed "
+                                          f"{req.hfe_min:g}"))
+    ft_need = by["ft"].need
+    if dev["ft"] is not None and ft_need is not None and dev["ft"] > FT_FAST_FACTOR * ft_need:
+        flags.append(Flag("much-faster", f"fT {_fmt(dev['ft'], 'Hz')} is over {FT_FAST_FACTOR:g}x "
+                                         "the need: it may oscillate; keep leads short, add a "
+                                         "base stopper if needed (common practice)"))
+
+
+def verdict_counts(result: RankResult) -> dict[str, int]:
+    out = dict.fromkeys(VERDICTS, 0)
+    for c in result.candidates:
+        out[c.verdict] += 1
+    return out
+
+
+def assess(device: Device, requirement: Requirement, stress: Stress | None = None,
+           policy: Policy | None = None, weights: Weights | None = None) -> Candidate:
+    """One device against a requirement, with the same checks as :func:`rank`.
+
+    A device of the wrong polarity or kind comes back with verdict ``incompatible``; the
+    original itself is not excluded here (the swap-log audit re-checks recorded swaps).
+    """
+    from partsdb.derating import BUILTIN_POLICIES, DEFAULT_POLICY
+
+    stress = stress or Stress()
+    policy = policy or BUILTIN_POLICIES[DEFAULT_POLICY]
+    weights = weights or DEFAULT_WEIGHTS
+    cat = CatalogColumns.from_devices([device])
+    rows = np.arange(1)
+    ev = _evaluate(cat, rows, requirement, stress, policy, weights, None, None)
+    reasons = []
+    if device.polarity != requirement.polarity:
+        reasons.append(f"polarity {device.polarity}, need {requirement.polarity}")
+    if device.kind != requirement.kind:
+        reasons.append(f"kind {device.kind}, need {requirement.kind}")
+    return _details(cat, ev, 0, requirement, stress, policy, weights, None, None,
+                    "; ".join(reasons) if reasons else None)

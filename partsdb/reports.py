@@ -1,0 +1,212 @@
+"""Printable job sheets of a substitution ranking, in Markdown and in HTML.
+
+A job sheet is the bench's record of a repair decision: what was required (and from where), the
+circuit stress, the derating policy and its factors, the ranked substitutes with their flags,
+the safety cautions, and blank lines for the job reference, date, technician and signature.
+Pure: takes a :class:`partsdb.ranking.RankResult`, returns text. Every value placed in HTML goes
+through :func:`html.escape`; Markdown table cells have their pipes and line breaks escaped.
+"""
+
+from __future__ import annotations
+
+import html
+from typing import TYPE_CHECKING, Any
+
+from partsdb.cautions import SAFETY_CAUTIONS
+from partsdb.units import format_quantity
+
+if TYPE_CHECKING:
+    from partsdb.ranking import Candidate, RankResult
+
+_REQ_ROWS: tuple[tuple[str, str, str], ...] = (
+    ("polarity", "Polarity", ""), ("kind", "Kind", ""), ("material", "Material", ""),
+    ("vceo", "Vceo", "V"), ("vcbo", "Vcbo", "V"), ("ic_max", "Ic max", "A"),
+    ("ptot", "Ptot", "W"), ("ptot_ref", "Ptot rated at", ""), ("tj_max", "Tj max", "°C"),
+    ("ft", "fT", "Hz"), ("package", "Package", ""), ("pinout", "Pinout", ""),
+)
+_STRESS_ROWS: tuple[tuple[str, str, str], ...] = (
+    ("vce_peak", "Vce peak", "V"), ("ic_peak", "Ic peak", "A"), ("power", "Dissipation", "W"),
+    ("ambient", "Ambient", "°C"), ("freq", "Highest signal frequency", "Hz"),
+    ("heatsink", "Heat sink (sink to ambient)", "K/W"),
+)
+BLANK = "______________________"
+
+
+def _value(value: Any, unit: str) -> str:
+    if value is None:
+        return "—"
+    if isinstance(value, float | int) and not isinstance(value, bool):
+        return format_quantity(float(value), unit) if unit else f"{value:g}"
+    return str(value)
+
+
+def requirement_rows(result: RankResult) -> list[tuple[str, str]]:
+    req = result.requirement
+    rows = [(label, _value(getattr(req, name), unit)) for name, label, unit in _REQ_ROWS]
+    if req.hfe_min is not None:
+        window = (f"{req.hfe_min:g}..{req.hfe_max:g}" if req.hfe_max is not None
+                  else f"{req.hfe_min:g}")
+        rows.insert(8, ("hFE", window))
+    return [(k, v) for k, v in rows if v != "—"]
+
+
+def stress_rows(result: RankResult) -> list[tuple[str, str]]:
+    s = result.stress
+    return [(label, _value(getattr(s, name), unit)) for name, label, unit in _STRESS_ROWS
+            if getattr(s, name) is not None]
+
+
+def policy_line(result: RankResult) -> str:
+    p = result.policy
+    tj = f"Tj at most {p.tj_margin:g} K below Tj max"
+    if p.tj_cap is not None:
+        tj += f" and at most {p.tj_cap:g} °C"
+    return (f"{p.name}: voltage {p.voltage:.0%}, current {p.current:.0%}, power {p.power:.0%} of "
+            f"rating; {tj}. Source: {p.source}")
+
+
+def source_text(result: RankResult) -> str:
+    return {"stored": "the original's stored record (like-for-like)",
+            "given": "a specification given on the command line",
+            "mixed": "the original's stored record with given values"}[result.requirement.source]
+
+
+def key_flags(candidate: Candidate) -> str:
+    """The checks that are not ok and the flag codes, short (for table cells)."""
+    under = [c.parameter for c in candidate.checks if c.status == "under-rated"]
+    # Fit checks (package, pinout, material) are named by their flags below.
+    marginal = [c.parameter for c in candidate.checks if c.status == "marginal"
+                and c.parameter not in ("package", "pinout", "material")]
+    unknown = [c.parameter for c in candidate.checks if c.status == "unknown"
+               and any(f.code == "unknown-data" and c.parameter in f.message
+                       for f in candidate.flags)]
+    parts = []
+    if under:
+        parts.append("UNDER " + ",".join(under))
+    if marginal:
+        parts.append("tight " + ",".join(marginal))
+    if unknown:
+        parts.append("no data " + ",".join(unknown))
+    parts += [f.code for f in candidate.flags if f.code != "unknown-data"]
+    return "; ".join(parts) or "—"
+
+
+def _title(result: RankResult) -> str:
+    name = result.requirement.designation
+    return f"Substitution job sheet: {name}" if name else "Substitution job sheet"
+
+
+def render_markdown(result: RankResult, job: str | None = None, date: str | None = None,
+                    technician: str | None = None) -> str:
+    """The job sheet as Markdown."""
+    out: list[str] = [f"# {_md(_title(result))}", ""]
+    out += [f"Requirement from {source_text(result)}.", ""]
+    out += ["| Parameter | Need |", "|---|---|"]
+    out += [f"| {_md(k)} | {_md(v)} |" for k, v in requirement_rows(result)]
+    out.append("")
+    stress = stress_rows(result)
+    if stress:
+        out += ["## Circuit stress", "", "| Stress | Value |", "|---|---|"]
+        out += [f"| {_md(k)} | {_md(v)} |" for k, v in stress]
+        out.append("")
+    out += ["## Derating policy", "", _md(policy_line(result)), ""]
+    out += ["## Ranked substitutes", "",
+            f"{result.compatible} compatible parts of {result.considered} in the catalog.", "",
+            "| # | Designation | Score | Verdict | Confidence | In stock | Drawers | Key flags |",
+            "|---|---|---|---|---|---|---|---|"]
+    for n, c in enumerate(result.candidates, start=1):
+        out.append(f"| {n} | {_md(c.designation)} | {c.score:.0f} | {c.verdict} | "
+                   f"{c.confidence:.0%} | {c.in_stock} | {_md(', '.join(c.locations) or '—')} | "
+                   f"{_md(key_flags(c))} |")
+    if not result.candidates:
+        out.append("| — | no candidate | | | | | | |")
+    out.append("")
+    details = [c for c in result.candidates if c.flags or any(
+        k.status != "ok" for k in c.checks)]
+    if details:
+        out += ["## Flags and checks", ""]
+        for c in details:
+            out.append(f"**{_md(c.designation)}** ({c.verdict}, score {c.score:.0f})")
+            out.append("")
+            out += [f"- {_md(k.parameter)} {k.status}: {_md(k.note)}" for k in c.checks
+                    if k.status != "ok"]
+            out += [f"- {_md(f.code)}: {_md(f.message)}" for f in c.flags]
+            out.append("")
+    out += ["## Safety", ""]
+    out += [f"- {_md(text)}" for text in result.cautions or SAFETY_CAUTIONS]
+    out += ["", "## Record", "",
+            f"- Job reference: {_md(job) if job else BLANK}",
+            f"- Date: {_md(date) if date else BLANK}",
+            f"- Substitute fitted: {BLANK}",
+            f"- Technician: {_md(technician) if technician else BLANK}",
+            f"- Signature: {BLANK}", ""]
+    return "\n".join(out)
+
+
+def _md(text: str) -> str:
+    """Text safe inside a Markdown table cell or line (pipes, backslashes, newlines, markup)."""
+    text = str(text).replace("\\", "\\\\").replace("|", "\\|")
+    for ch in ("*", "_", "`", "<", ">", "[", "]"):
+        text = text.replace(ch, "\\" + ch)
+    return " ".join(text.split())
+
+
+_CSS = """
+body { font-family: sans-serif; margin: 2em; color: #000; }
+table { border-collapse: collapse; margin: 0.5em 0 1em; }
+th, td { border: 1px solid #555; padding: 0.2em 0.5em; text-align: left; vertical-align: top; }
+.verdict-under-rated, .verdict-incompatible { font-weight: bold; }
+.record td { height: 2em; min-width: 16em; }
+@media print { body { margin: 1cm; } }
+"""
+
+
+def render_html(result: RankResult, job: str | None = None, date: str | None = None,
+                technician: str | None = None) -> str:
+    """The job sheet as a standalone, printable HTML page (every value escaped)."""
+    e = html.escape
+    title = e(_title(result))
+    parts = ["<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
+             f"<title>{title}</title>", f"<style>{_CSS}</style>", "</head>", "<body>",
+             f"<h1>{title}</h1>", f"<p>Requirement from {e(source_text(result))}.</p>",
+             "<table><tr><th>Parameter</th><th>Need</th></tr>"]
+    parts += [f"<tr><td>{e(k)}</td><td>{e(v)}</td></tr>" for k, v in requirement_rows(result)]
+    parts.append("</table>")
+    stress = stress_rows(result)
+    if stress:
+        parts.append("<h2>Circuit stress</h2><table><tr><th>Stress</th><th>Value</th></tr>")
+        parts += [f"<tr><td>{e(k)}</td><td>{e(v)}</td></tr>" for k, v in stress]
+        parts.append("</table>")
+    parts += ["<h2>Derating policy</h2>", f"<p>{e(policy_line(result))}</p>",
+              "<h2>Ranked substitutes</h2>",
+              f"<p>{result.compatible} compatible parts of {result.considered} in the catalog.</p>",
+              "<table><tr><th>#</th><th>Designation</th><th>Score</th><th>Verdict</th>"
+              "<th>Confidence</th><th>In stock</th><th>Drawers</th><th>Key flags</th></tr>"]
+    for n, c in enumerate(result.candidates, start=1):
+        parts.append(
+            f'<tr class="verdict-{e(c.verdict)}"><td>{n}</td><td>{e(c.designation)}</td>'
+            f"<td>{c.score:.0f}</td><td>{e(c.verdict)}</td><td>{c.confidence:.0%}</td>"
+            f"<td>{c.in_stock}</td><td>{e(', '.join(c.locations) or '—')}</td>"
+            f"<td>{e(key_flags(c))}</td></tr>")
+    if not result.candidates:
+        parts.append('<tr><td colspan="8">no candidate</td></tr>')
+    parts.append("</table>")
+    details = [c for c in result.candidates if c.flags or any(
+        k.status != "ok" for k in c.checks)]
+    if details:
+        parts.append("<h2>Flags and checks</h2>")
+        for c in details:
+            parts.append(f"<h3>{e(c.designation)} ({e(c.verdict)}, score {c.score:.0f})</h3><ul>")
+            parts += [f"<li>{e(k.parameter)} {e(k.status)}: {e(k.note)}</li>" for k in c.checks
+                      if k.status != "ok"]
+            parts += [f"<li>{e(f.code)}: {e(f.message)}</li>" for f in c.flags]
+            parts.append("</ul>")
+    parts.append("<h2>Safety</h2><ul>")
+    parts += [f"<li>{e(text)}</li>" for text in result.cautions or SAFETY_CAUTIONS]
+    parts.append("</ul>")
+    parts.append('<h2>Record</h2><table class="record">')
+    for label, value in (("Job reference", job), ("Date", date), ("Substitute fitted", None),
+                         ("Technician", technician), ("Signature", None)):
+        parts.append(f"<tr><th>{e(label)}</th><td>{e(value) if value else ''}</td></tr>")
+    parts += ["</table>", "</body>", "</html>", ""]
+    return "\n".join(parts)

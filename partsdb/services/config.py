@@ -1,0 +1,123 @@
+"""The user's config file: extra derating policies and the ranking weights.
+
+TOML at ``platformdirs.user_config_dir("partsdb")/config.toml``; ``$PARTSDB_CONFIG`` names
+another file. A missing file is not an error (built-in policies, default weights). Example::
+
+    [policies.tube-radio]
+    voltage = 0.7
+    current = 0.7
+    power = 0.5
+    tj_margin = 25
+    source = "our bench rule for valve-era sets"
+    description = "Old sets run hot: more headroom"
+
+    [weights]
+    vceo = 25
+    stock = 20
+
+Every error names the file, the key and the value.
+"""
+
+from __future__ import annotations
+
+import os
+import tomllib
+from pathlib import Path
+from typing import Any
+
+from partsdb.derating import BUILTIN_POLICIES, DEFAULT_POLICY, Policy, PolicyError, policy_from_mapping
+from partsdb.ranking import DEFAULT_WEIGHTS, SpecError, Weights
+
+ENV_VAR = "PARTSDB_CONFIG"
+
+
+class ConfigError(ValueError):
+    """The config file cannot be used; the message names the file, key and value."""
+
+
+def config_path() -> Path:
+    """Where the config file is read from ($PARTSDB_CONFIG or the per-user config directory)."""
+    env = os.environ.get(ENV_VAR)
+    if env:
+        return Path(env).expanduser()
+    from platformdirs import user_config_dir
+
+    return Path(user_config_dir("partsdb", appauthor=False)) / "config.toml"
+
+
+def load_config(path: Path | None = None) -> dict[str, Any]:
+    """The parsed file, or {} when it does not exist."""
+    path = path or config_path()
+    if not path.is_file():
+        if os.environ.get(ENV_VAR) and path == config_path():
+            raise ConfigError(f"{path}: not found (named by ${ENV_VAR})")
+        return {}
+    try:
+        with path.open("rb") as fh:
+            data = tomllib.load(fh)
+    except tomllib.TOMLDecodeError as err:
+        raise ConfigError(f"{path}: not valid TOML ({err})") from err
+    except OSError as err:
+        raise ConfigError(f"{path}: cannot be read ({err.strerror})") from err
+    known = {"policies", "weights"}
+    unknown = sorted(set(data) - known)
+    if unknown:
+        raise ConfigError(f"{path}: unknown table(s) {', '.join(unknown)}; known: policies, weights")
+    return data
+
+
+def user_policies(path: Path | None = None) -> dict[str, Policy]:
+    path = path or config_path()
+    data = load_config(path)
+    tables = data.get("policies", {})
+    if not isinstance(tables, dict):
+        raise ConfigError(f"{path}: policies = {tables!r}; expected [policies.NAME] tables")
+    out: dict[str, Policy] = {}
+    for name, table in tables.items():
+        if not isinstance(table, dict):
+            raise ConfigError(f"{path}: policies.{name} = {table!r}; expected a table of factors")
+        if name in BUILTIN_POLICIES:
+            raise ConfigError(f"{path}: policies.{name}: the name is a built-in policy; "
+                              "choose another name")
+        try:
+            out[name] = policy_from_mapping(name, table)
+        except PolicyError as err:
+            raise ConfigError(f"{path}: policies.{name}: {err}") from err
+        # policy_from_mapping accepts any number for tj_cap; a cap must be a plausible °C.
+        cap = table.get("tj_cap")
+        if cap is not None and not -50 <= cap <= 300:
+            raise ConfigError(f"{path}: policies.{name}.tj_cap = {cap!r}; expected a "
+                              "temperature in °C between -50 and 300")
+    return out
+
+
+def available_policies(path: Path | None = None) -> dict[str, Policy]:
+    """Built-in policies followed by the user's, by name."""
+    return {**BUILTIN_POLICIES, **user_policies(path)}
+
+
+def load_policy(name: str | None = None, path: Path | None = None) -> Policy:
+    """The policy called ``name`` (default: the built-in default); ConfigError when unknown."""
+    name = name or DEFAULT_POLICY
+    if name in BUILTIN_POLICIES and path is None and not config_path().is_file():
+        return BUILTIN_POLICIES[name]
+    policies = available_policies(path)
+    if name not in policies:
+        raise ConfigError(f"policy: {name!r} is not known; expected one of "
+                          f"{', '.join(policies)} (add your own under [policies.NAME] in "
+                          f"{path or config_path()})")
+    return policies[name]
+
+
+def load_weights(path: Path | None = None) -> Weights:
+    """Ranking weights: the defaults, with the config file's ``[weights]`` values on top."""
+    path = path or config_path()
+    data = load_config(path).get("weights")
+    if data is None:
+        return DEFAULT_WEIGHTS
+    if not isinstance(data, dict):
+        raise ConfigError(f"{path}: weights = {data!r}; expected a [weights] table")
+    try:
+        return Weights.from_mapping({**DEFAULT_WEIGHTS.as_dict(), **data})
+    except (SpecError, TypeError) as err:
+        raise ConfigError(f"{path}: {err}") from err

@@ -1,0 +1,289 @@
+"""Substitution glue: catalog columns from the database, requirement, stock, history, ranking.
+
+The candidate columns are read with one raw DBAPI query into numpy (never ORM objects) and kept
+per database, keyed on (row count, newest ``updated_at``), so repeated rankings in one process
+reuse the arrays; any device added, edited, imported or removed changes the key.
+"""
+
+from __future__ import annotations
+
+import threading
+from collections.abc import Mapping
+from itertools import chain
+from typing import Any
+
+import numpy as np
+from sqlalchemy import select
+from sqlalchemy.orm import Session
+
+from partsdb.derating import Policy
+from partsdb.designations import normalize
+from partsdb.ranking import (
+    KINDS,
+    MATERIALS,
+    POLARITIES,
+    CatalogColumns,
+    PastSwaps,
+    RankResult,
+    Requirement,
+    SpecError,
+    Stress,
+    Weights,
+    outline_key,
+    rank,
+)
+from partsdb.services import catalog as catalog_service
+from partsdb.storage.database import Database
+from partsdb.storage.models import SwapRow
+
+_NUMBER_COLUMNS = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max", "ft")
+_CACHE: dict[str, tuple[tuple[Any, ...], CatalogColumns]] = {}
+_LOCK = threading.Lock()
+
+# Requirement fields a spec may give (the CLI options map onto these).
+SPEC_FIELDS = ("polarity", "kind", "material", "vceo", "vcbo", "ic_max", "ptot", "ptot_ref",
+               "tj_max", "hfe_min", "hfe_max", "ft", "package", "pinout")
+
+
+_MISSING = -1e300
+"""Stands for NULL in the numeric query (every stored quantity is positive), so the rows go
+straight into ``np.fromiter`` without a None check per cell."""
+
+
+def _case(column: str, table: tuple[str, ...]) -> str:
+    """Code + 1 of a choice column (0: not one of ``table``)."""
+    whens = " ".join(f"WHEN '{v}' THEN {i + 1}" for i, v in enumerate(table))
+    return f"CASE {column} {whens} ELSE 0 END"
+
+
+# The four choice columns travel packed in one integer (each code < 4): a quarter fewer Python
+# objects per row, which is what reading costs.
+_NUMBERS_SQL = (
+    "SELECT "
+    f"{_case('polarity', POLARITIES)} + 4 * {_case('kind', KINDS)} "
+    f"+ 16 * {_case('material', MATERIALS)} + 64 * (CASE WHEN ptot_ref = 'case' THEN 1 ELSE 0 END), "
+    + ", ".join(f"COALESCE({c}, {_MISSING})" for c in _NUMBER_COLUMNS)
+    + " FROM devices ORDER BY id")
+_TEXT_SQL = "SELECT designation, key, package, pinout FROM devices ORDER BY id"
+
+
+def catalog_version(session: Session) -> tuple[Any, ...]:
+    """(row count, newest updated_at): changes whenever a device is added, edited or removed."""
+    row = session.connection().exec_driver_sql(
+        "SELECT COUNT(*), MAX(updated_at) FROM devices").one()
+    return (int(row[0]), str(row[1]))
+
+
+def read_catalog(session: Session) -> CatalogColumns:
+    """Every device as columns (two raw queries in id order, no ORM objects).
+
+    Codes and NULLs are resolved in SQL, so the numeric rows are plain floats for
+    ``np.fromiter``; the text query carries only the four text columns.
+    """
+    conn = session.connection()
+    cursor = conn.connection.cursor()
+    try:
+        cursor.execute(_NUMBERS_SQL)
+        number_rows = cursor.fetchall()
+        cursor.execute(_TEXT_SQL)
+        text_rows = cursor.fetchall()
+    finally:
+        cursor.close()
+    n = len(number_rows)
+    width = 1 + len(_NUMBER_COLUMNS)
+    numbers = np.fromiter(chain.from_iterable(number_rows), dtype=float,
+                          count=n * width).reshape(n, width).T.copy()
+    numbers[numbers == _MISSING] = np.nan
+    packed = numbers[0].astype(np.int16)
+    codes = [((packed >> shift) & 3).astype(np.int8) - 1 for shift in (0, 2, 4)]
+    if n == 0:
+        text: list[tuple[Any, ...]] = [(), (), (), ()]
+    else:
+        text = list(zip(*text_rows, strict=True))
+    packages, package_codes = _factorize(text[2], outline_key)
+    pinouts, pinout_codes = _factorize(text[3], lambda p: p or None)
+    return CatalogColumns(
+        designation=np.array(text[0], dtype=object), key=np.array(text[1], dtype=object),
+        polarity=codes[0], kind=codes[1], material=codes[2],
+        case_rated=((packed >> 6) & 1).astype(bool),
+        package=np.array(package_codes, dtype=np.int32),
+        pinout=np.array(pinout_codes, dtype=np.int16),
+        packages=tuple(packages), pinouts=tuple(pinouts),
+        **{name: numbers[1 + j] for j, name in enumerate(_NUMBER_COLUMNS)})
+
+
+def _factorize(values: tuple[Any, ...], fold: Any) -> tuple[list[str], list[int]]:
+    """(display names by code, code per row) grouping values by ``fold`` (-1 for none).
+
+    Distinct values are few, so they are sorted first: codes and names do not depend on set
+    order, and each outline shows its first spelling in sort order.
+    """
+    names: list[str] = []
+    by_fold: dict[str, int] = {}
+    code_of: dict[Any, int] = {None: -1}
+    for value in sorted(v for v in set(values) if v is not None):
+        folded = fold(value)
+        if folded is None:
+            code_of[value] = -1
+            continue
+        if folded not in by_fold:
+            by_fold[folded] = len(names)
+            names.append(str(value))
+        code_of[value] = by_fold[folded]
+    return names, [code_of[v] for v in values]
+
+
+def _cache_key(session: Session) -> str:
+    bind = session.get_bind()
+    return f"{id(bind)}:{bind.url.render_as_string(hide_password=True)}"
+
+
+def load_catalog(session: Session) -> CatalogColumns:
+    """The catalog columns, from the per-database cache when the devices have not changed."""
+    key = _cache_key(session)
+    version = catalog_version(session)
+    with _LOCK:
+        hit = _CACHE.get(key)
+        if hit is not None and hit[0] == version:
+            return hit[1]
+    columns = read_catalog(session)
+    with _LOCK:
+        _CACHE[key] = (version, columns)
+    return columns
+
+
+def clear_cache() -> None:
+    with _LOCK:
+        _CACHE.clear()
+
+
+def stock_columns(session: Session, cat: CatalogColumns
+                  ) -> tuple[np.ndarray, dict[str, list[str]]]:
+    """In-stock quantity per catalog row, and drawer paths per key."""
+    from partsdb.services.stock import stock_summary
+
+    summary = stock_summary(session)
+    qty = np.zeros(cat.size, dtype=np.int64)
+    places: dict[str, list[str]] = {}
+    for key, s in summary.items():
+        i = cat.index.get(key)
+        if i is not None:
+            qty[i] = s.quantity
+            places[key] = list(s.locations)
+    return qty, places
+
+
+def swap_history(session: Session, original: str) -> dict[str, PastSwaps]:
+    """What the swap log says about each substitute used for ``original``."""
+    counts: dict[str, list[Any]] = {}
+    rows = session.execute(select(SwapRow.substitute_key, SwapRow.outcome, SwapRow.job)
+                           .where(SwapRow.original_key == normalize(original))
+                           .order_by(SwapRow.at, SwapRow.id)).all()
+    for key, outcome, job in rows:
+        entry = counts.setdefault(key, [0, 0, []])
+        if outcome == "worked":
+            entry[0] += 1
+        elif outcome == "failed":
+            entry[1] += 1
+        if job and job not in entry[2]:
+            entry[2].append(job)
+    return {k: PastSwaps(w, f, tuple(jobs)) for k, (w, f, jobs) in counts.items()}
+
+
+def build_requirement(session: Session, designation: str | None,
+                      given: Mapping[str, Any] | None = None) -> Requirement:
+    """The original's stored record with ``given`` values on top, or the given spec alone.
+
+    Raises :class:`SpecError` when the original is not stored and no polarity was given.
+    """
+    given = {k: v for k, v in (given or {}).items() if v is not None}
+    unknown = sorted(set(given) - set(SPEC_FIELDS))
+    if unknown:
+        raise SpecError(f"unknown spec field(s): {', '.join(unknown)}; known: "
+                        + ", ".join(SPEC_FIELDS))
+    device = catalog_service.get_device(session, designation) if designation else None
+    if device is not None:
+        return Requirement.from_device(device).overridden(**given)
+    if "polarity" not in given:
+        if designation:
+            hints = catalog_service.suggest(session, designation)
+            hint = f" (stored names close to it: {', '.join(hints)})" if hints else ""
+            raise SpecError(f"no stored device {designation!r} and no --polarity/--kind spec "
+                            f"given{hint}; give the spec, such as --polarity pnp --vceo 30V "
+                            "--ic 0.5A")
+        raise SpecError("no original designation and no --polarity/--kind spec given; name a "
+                        "stored device or give the spec, such as --polarity npn --vceo 30V")
+    if "ptot" in given and "ptot_ref" not in given:
+        given["ptot_ref"] = "ambient"  # a datasheet Ptot without a note is a free-air rating
+    return Requirement(**given, designation=designation, source="given")
+
+
+def _session_of(target: Session | Database) -> Any:
+    from contextlib import nullcontext
+
+    return target.session() if isinstance(target, Database) else nullcontext(target)
+
+
+def rank_substitutes(target: Session | Database, designation: str | None = None,
+                     spec: Mapping[str, Any] | None = None, stress: Stress | None = None,
+                     policy: Policy | str | None = None, weights: Weights | None = None, *,
+                     limit: int = 15, in_stock_only: bool = False,
+                     show_rejected: bool = False) -> RankResult:
+    """Rank substitutes for a stored original and/or a given spec (see :func:`ranking.rank`).
+
+    ``policy`` may be a name (built-in or from the config file); ``weights`` default to the
+    config file's.
+    """
+    from partsdb.services.config import load_policy, load_weights
+
+    pol = policy if isinstance(policy, Policy) else load_policy(policy)
+    w = weights or load_weights()
+    with _session_of(target) as session:
+        requirement = build_requirement(session, designation, spec)
+        cat = load_catalog(session)
+        qty, places = stock_columns(session, cat)
+        history = swap_history(session, requirement.designation) if requirement.designation \
+            else None
+    return rank(cat, requirement, stress or Stress(), pol, w, qty, history=history,
+                locations=places, limit=limit, in_stock_only=in_stock_only,
+                show_rejected=show_rejected)
+
+
+def worked_example(db: Database) -> str:
+    """A short text of one substitution on the database (the demo shows it after building).
+
+    Takes the first obsolete device with none in stock (by designation) for which some part in
+    the drawers is a suitable or marginal substitute, and summarises the best one.
+    """
+    from sqlalchemy import select as _select
+
+    from partsdb.storage.models import DeviceRow
+    from partsdb.units import format_quantity
+
+    with db.session() as session:
+        cat = load_catalog(session)
+        qty, places = stock_columns(session, cat)
+        obsolete = session.scalars(_select(DeviceRow.designation).where(DeviceRow.obsolete)
+                                   .order_by(DeviceRow.key)).all()
+        originals = [d for d in obsolete if qty[cat.index[normalize(d)]] == 0] or list(obsolete)
+        for original in originals:
+            requirement = build_requirement(session, original)
+            history = swap_history(session, original)
+            result = rank(cat, requirement, Stress(), None, None, qty, history=history,
+                          locations=places, limit=3, in_stock_only=True)
+            best = next((c for c in result.candidates if c.verdict in ("suitable", "marginal")),
+                        None)
+            if best is None:
+                continue
+            r = requirement
+            lines = [
+                f"Worked example: a substitute for {original} ({r.polarity.upper()} {r.material}, "
+                f"Vceo {format_quantity(r.vceo, 'V')}, Ic {format_quantity(r.ic_max, 'A')}, "
+                f"Ptot {format_quantity(r.ptot, 'W')}), none left in the drawers.",
+                f"  partsdb substitute {original} --in-stock   ({result.policy.name} policy)",
+                f"  best in stock: {best.designation}, score {best.score:.0f}, {best.verdict}, "
+                f"{best.in_stock} in {', '.join(best.locations) or '—'}",
+            ]
+            lines += [f"  - {f.message}" for f in best.flags[:3]]
+            return "\n".join(lines)
+    return "Worked example: no obsolete part with an in-stock substitute in this database."

@@ -1,0 +1,232 @@
+"""CLI: substitute, swaplog, policies, on a temporary database of invented parts.
+
+Results are checked through the library (rank_substitutes, swaplog.list_swaps); the expected
+grades follow the policy factors (MIL-STD-975M App. A: voltage 0.75 x rated).
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Any
+
+import pandas as pd
+import pytest
+from click.testing import CliRunner
+
+from partsdb.cli import main
+from partsdb.ranking import Stress
+from partsdb.services import exchange, stock, swaplog
+from partsdb.services.substitution import rank_substitutes
+from partsdb.storage.database import Database, open_database
+
+COLUMNS = ("designation", "kind", "polarity", "material", "vceo", "vcbo", "ic_max", "ptot",
+           "ptot_ref", "tj_max", "hfe_min", "hfe_max", "ft", "package", "pinout")
+PARTS = [
+    ("QZ100", "bjt", "pnp", "ge", "40V", "50V", "200mA", "300mW", "ambient", "90", "60", "180",
+     "2MHz", "TO-5", "EBC"),
+    ("QZ130", "bjt", "pnp", "ge", "30V", "45V", "200mA", "300mW", "ambient", "90", "60", "180",
+     "2MHz", "TO-5", "EBC"),
+    ("QZ150", "bjt", "pnp", "si", "60V", "80V", "500mA", "600mW", "ambient", "150", "80", "250",
+     "100MHz", "TO-5", "ECB"),
+    ("QZ160", "bjt", "npn", "si", "60V", "80V", "500mA", "600mW", "ambient", "150", "80", "250",
+     "100MHz", "TO-5", "EBC"),
+    ("QZ170", "darlington", "pnp", "si", "60V", "80V", "2A", "2W", "ambient", "150", "1000",
+     "5000", "", "TO-126", "ECB"),
+]
+
+
+def _fill(url: str) -> None:
+    db = open_database(url, notify=None)
+    frame = pd.DataFrame(PARTS, columns=list(COLUMNS))
+    with db.session() as session:
+        exchange.import_devices(session, frame=frame)
+        stock.receive(session, "QZ150", 12, "C1/D3")
+        stock.receive(session, "QZ130", 2, "C1/D1")
+    db.dispose()
+
+
+@pytest.fixture
+def url(tmp_path: Path) -> str:
+    url = f"sqlite:///{tmp_path / 't.sqlite'}"
+    _fill(url)
+    return url
+
+
+@pytest.fixture
+def db(url: str) -> Any:
+    database = open_database(url, notify=None)
+    yield database
+    database.dispose()
+
+
+def run(url: str, *args: str) -> Any:
+    return CliRunner().invoke(main, ["--db", url, *args], catch_exceptions=False)
+
+
+def as_json(url: str, *args: str) -> dict[str, Any]:
+    result = run(url, *args, "--format", "json")
+    assert result.exit_code == 0, result.output
+    return json.loads(result.output)
+
+
+def test_substitute_like_for_like(url: str, db: Database) -> None:
+    data = as_json(url, "substitute", "QZ100")
+    names = [c["designation"] for c in data["candidates"]]
+    assert "QZ100" not in names                  # the original is not its own substitute
+    assert "QZ160" not in names and "QZ170" not in names   # NPN and Darlington excluded
+    assert data["requirement"]["source"] == "stored"
+    assert data["policy"]["name"] == "workshop" and data["policy"]["factors"]["voltage"] == 0.8
+    by = {c["designation"]: c for c in data["candidates"]}
+    assert by["QZ150"]["in_stock"] == 12 and by["QZ150"]["locations"] == ["C1/D3"]
+    assert by["QZ130"]["verdict"] == "under-rated"   # 30 V for a 40 V original, no stress
+    assert data["cautions"]
+    # Same answer through the library.
+    lib = rank_substitutes(db, "QZ100")
+    assert [c.designation for c in lib.candidates] == names
+
+
+@pytest.mark.parametrize(("peak", "status"), [
+    ("22.5V", "ok"),        # MIL-STD-975M App. A: 0.75 x 30 V = 22.5 V, on the boundary
+    ("23V", "marginal"),    # above 0.75 x rating, within the rating
+    ("31V", "under-rated"),  # above the rating
+])
+def test_vce_peak_grades_by_policy(url: str, db: Database, peak: str, status: str) -> None:
+    data = as_json(url, "substitute", "QZ100", "--vce-peak", peak, "--policy", "mil-std-975m")
+    cand = next(c for c in data["candidates"] if c["designation"] == "QZ130")
+    vceo = next(k for k in cand["checks"] if k["parameter"] == "vceo")
+    assert vceo["status"] == status
+    lib = rank_substitutes(db, "QZ100", stress=Stress(vce_peak=float(peak[:-1])),
+                           policy="mil-std-975m")
+    assert next(c for c in lib.candidates if c.designation == "QZ130").check(
+        "vceo").status == status
+
+
+def test_given_spec_and_mixed(url: str) -> None:
+    data = as_json(url, "substitute", "OLD9", "--polarity", "pnp", "--vceo", "30V", "--ic",
+                   "0.1A", "--hfe", "60..180", "--material", "ge")
+    assert data["requirement"]["source"] == "given"
+    assert data["requirement"]["hfe_min"] == 60 and data["requirement"]["hfe_max"] == 180
+    si = next(c for c in data["candidates"] if c["designation"] == "QZ150")
+    assert "material-change" in [f["code"] for f in si["flags"]]
+    mixed = as_json(url, "substitute", "QZ100", "--vceo", "25V")
+    assert mixed["requirement"]["source"] == "mixed" and mixed["requirement"]["vceo"] == 25
+
+
+def test_in_stock_and_show_rejected(url: str) -> None:
+    data = as_json(url, "substitute", "QZ100", "--in-stock")
+    assert {c["designation"] for c in data["candidates"]} == {"QZ150", "QZ130"}
+    data = as_json(url, "substitute", "QZ100", "--show-rejected")
+    rejected = {c["designation"]: c for c in data["candidates"] if c["verdict"] == "incompatible"}
+    assert set(rejected) == {"QZ160", "QZ170"}
+    assert "polarity npn" in rejected["QZ160"]["flags"][0]["message"]
+
+
+def test_table_output_shows_verdicts_stock_and_cautions(url: str) -> None:
+    result = run(url, "substitute", "QZ100", "--vce-peak", "20V")
+    assert result.exit_code == 0, result.output
+    assert "QZ150" in result.output
+    assert "marginal" in result.output  # QZ150: silicon with other leads, needs bench work
+    assert "C1/D3" in result.output
+    assert "Caution:" in result.output
+    assert "re-form leads" in result.output  # QZ150 is ECB for an EBC original
+
+
+@pytest.mark.parametrize(("args", "words"), [
+    (("substitute", "NOPE1"), "no stored device 'NOPE1'"),
+    (("substitute", "X1", "--polarity", "pnp", "--hfe", "200..50"), "hfe"),
+    (("substitute", "QZ100", "--ambient", "hot"), "ambient"),
+    (("substitute", "QZ100", "--policy", "nonesuch"), "nonesuch"),
+    (("substitute", "QZ100", "--output", "x.md"), "--output"),
+])
+def test_bad_input_exits_2(url: str, args: tuple[str, ...], words: str) -> None:
+    result = run(url, *args)
+    assert result.exit_code == 2
+    assert words in result.output
+
+
+def test_negative_ambient_is_accepted(url: str) -> None:
+    data = as_json(url, "substitute", "QZ100", "--ambient", "-10")
+    assert data["stress"]["ambient"] == -10
+
+
+def test_job_sheet_files(url: str, tmp_path: Path) -> None:
+    md = tmp_path / "sheet.md"
+    result = run(url, "substitute", "QZ100", "--format", "md", "--output", str(md), "--job",
+                 "J-1")
+    assert result.exit_code == 0, result.output
+    text = md.read_text(encoding="utf-8")
+    assert "Job reference: J-1" in text and "QZ150" in text
+    page = run(url, "substitute", "QZ100", "--format", "html").output
+    assert page.startswith("<!DOCTYPE html>") and "Signature" in page
+
+
+def test_policies_lists_builtin_and_user(url: str, tmp_path: Path,
+                                        monkeypatch: pytest.MonkeyPatch) -> None:
+    config = tmp_path / "config.toml"
+    config.write_text('[policies.valve-set]\nvoltage = 0.6\ncurrent = 0.7\npower = 0.4\n'
+                      'source = "our bench"\n', encoding="utf-8")
+    monkeypatch.setenv("PARTSDB_CONFIG", str(config))
+    result = run(url, "policies", "--format", "json")
+    found = {p["name"]: p for p in json.loads(result.output)}
+    assert found["mil-std-975m"]["factors"]["voltage"] == 0.75
+    assert found["valve-set"]["factors"]["voltage"] == 0.6
+    assert found["valve-set"]["source"] == "our bench"
+    # The user policy is usable by name: 0.6 x 30 V = 18 V.
+    data = as_json(url, "substitute", "QZ100", "--vce-peak", "18.5V", "--policy", "valve-set")
+    cand = next(c for c in data["candidates"] if c["designation"] == "QZ130")
+    assert next(k for k in cand["checks"] if k["parameter"] == "vceo")["status"] == "marginal"
+    config.write_text('[policies.bad]\nvoltage = 1.5\n', encoding="utf-8")
+    result = run(url, "policies")
+    assert result.exit_code == 2
+    assert str(config) in result.output and "voltage" in result.output and "1.5" in result.output
+
+
+def test_swaplog_add_list_audit(url: str, db: Database) -> None:
+    result = run(url, "swaplog", "add", "QZ100", "QZ150", "--job", "J-9", "--vce-peak", "20V",
+                 "--outcome", "worked", "--note", "fine")
+    assert result.exit_code == 0, result.output
+    result = run(url, "swaplog", "add", "QZ100", "QZ130", "--job", "J-10")
+    assert result.exit_code == 0, result.output
+    with db.session() as session:
+        views = swaplog.list_swaps(session, "qz-100")
+    assert [(v.substitute, v.job, v.outcome) for v in views] == [
+        ("QZ130", "J-10", None), ("QZ150", "J-9", "worked")]
+    listed = json.loads(run(url, "swaplog", "list", "QZ100", "--format", "json").output)
+    assert len(listed) == 2
+    audit = json.loads(run(url, "swaplog", "audit", "--format", "json").output)
+    assert audit["checked"] == 2
+    assert [s["swap"]["substitute"] for s in audit["swaps"]] == ["QZ130"]  # 30 V for 40 V
+    table = run(url, "swaplog", "audit")
+    assert table.exit_code == 0 and "QZ130" in table.output
+    # The worked swap shows in the ranking.
+    data = as_json(url, "substitute", "QZ100")
+    cand = next(c for c in data["candidates"] if c["designation"] == "QZ150")
+    assert "worked-before" in [f["code"] for f in cand["flags"]]
+    bad = run(url, "swaplog", "add", "QZ100", "NOPE", "--job", "J-11")
+    assert bad.exit_code == 1 and "NOPE" in bad.output
+
+
+def test_demo_germanium_pnp(tmp_path: Path) -> None:
+    from partsdb.services.demo import build_demo
+
+    db = build_demo(tmp_path / "demo.sqlite")
+    url = f"sqlite:///{tmp_path / 'demo.sqlite'}"
+    db.dispose()
+    data = as_json(url, "substitute", "OC375", "--limit", "40")
+    assert data["requirement"]["polarity"] == "pnp" and data["requirement"]["material"] == "ge"
+    db = open_database(url, notify=None)
+    try:
+        from partsdb.services import catalog
+
+        with db.session() as session:
+            kinds = {c["designation"]: catalog.get_device(session, c["designation"])
+                     for c in data["candidates"]}
+    finally:
+        db.dispose()
+    assert all(d is not None and d.polarity == "pnp" for d in kinds.values())
+    silicon = [c for c in data["candidates"] if kinds[c["designation"]].material == "si"]
+    assert silicon and all("material-change" in [f["code"] for f in c["flags"]]
+                           for c in silicon)
+    stocked = [c for c in data["candidates"] if c["in_stock"] > 0]
+    assert stocked and all(c["locations"] for c in stocked)
