@@ -1,0 +1,339 @@
+"""Pilot tests of the five views: what the user does, checked afterwards through the services.
+
+Each test drives the app built by the same factory as ``partsdb tui`` at 80x24, then reads the
+database through :mod:`partsdb.services` (never through the widgets) to check that a change was
+made, or, for refused and invalid input, that nothing changed.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from textual.widgets import ContentSwitcher, Select, Static
+
+from partsdb.services import catalog, stock
+from tui.app import build_app
+from tui.device_form import DeviceForm
+from tui.help import HelpScreen
+from tui.stock_forms import StockForm
+
+SIZE = (80, 24)
+
+
+def quantity_at(db: Any, designation: str, place: str) -> int:
+    with db.session() as session:
+        return sum(v.quantity for v in stock.where(session, designation) if v.location == place)
+
+
+def ledger_size(db: Any) -> int:
+    with db.session() as session:
+        return len(stock.ledger(session))
+
+
+def static_text(widget: Static) -> str:
+    """The plain text a Static shows (Rich renderables rendered without colour)."""
+    from rich.console import Console
+
+    console = Console(width=200, record=True, color_system=None)
+    console.print(widget.content if hasattr(widget, "content") else widget.renderable)
+    return console.export_text()
+
+
+async def type_text(pilot: Any, text: str) -> None:
+    await pilot.press(*[{" ": "space"}.get(ch, ch) for ch in text])
+
+
+async def test_every_view_has_its_key(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        for key, view in (("f3", "devices"), ("f4", "substitute"), ("f5", "bench"),
+                          ("f6", "ledger"), ("f2", "drawers")):
+            await pilot.press(key)
+            await pilot.pause()
+            assert app.query_one("#views", ContentSwitcher).current == view
+        await pilot.press("f1")
+        await pilot.pause()
+        assert isinstance(app.screen, HelpScreen)
+        text = static_text(app.screen.query_one("#help-text", Static))
+        assert "CAUTION" in text and "can kill" in text
+        await pilot.press("escape")
+        await pilot.pause()
+        assert not isinstance(app.screen, HelpScreen)
+
+
+async def test_palette_lists_main_actions(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE):
+        titles = {c.title for c in app.get_system_commands(app.screen)}
+    assert {"Go to Drawers", "Go to Bench", "Stock: take", "Device: add"} <= titles
+
+
+async def test_devices_search_as_you_type_and_select(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f3")
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        view = app.view("devices")
+        assert view.table.row_count == 5  # the whole catalog, paged from the database
+        index = view.index
+        await type_text(pilot, "qx3302")
+        await pilot.pause()
+        assert view.index is index  # typing never rebuilds the index
+        assert view.selected_device().designation == "QX3302"
+        detail = static_text(view.query_one("#dev-detail", Static))
+        assert "QX3302" in detail and "60 V" in detail and "LOW" not in detail
+        await pilot.press("down")  # to the list
+        await pilot.pause()
+        assert app.focused is view.table
+
+
+async def test_devices_filters_suspect_and_polarity(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f3")
+        await pilot.pause()
+        view = app.view("devices")
+        view.query_one("#f-polarity", Select).value = "pnp"
+        await pilot.pause()
+        shown = {view.table.source.device(i).designation for i in range(view.table.row_count)}
+        assert shown == {"QX5500", "AC987"}
+        view.query_one("#f-suspect", Select).value = True
+        await pilot.pause()
+        shown = {view.table.source.device(i).designation for i in range(view.table.row_count)}
+        # AC987 is a Pro Electron "A" (germanium) name stored as silicon: the consistency
+        # check marks it (Pro Electron first letter A = germanium; see partsdb/consistency.py).
+        assert shown == {"AC987"}
+
+
+async def test_add_device_with_bad_unit_then_good(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f3")
+        await pilot.pause()
+        app.view("devices").table.focus()
+        await pilot.press("a")
+        await pilot.pause()
+        form = app.screen
+        assert isinstance(form, DeviceForm)
+        await type_text(pilot, "QX7777")
+        form.query_one("#fd-vceo").value = "40Q"  # not a voltage
+        form.query_one("#fd-ic_max").value = "200mA"
+        await pilot.pause()
+        assert "vceo" in static_text(form.query_one("#err-vceo", Static))
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert app.screen is form  # still open, nothing saved
+        assert "Not saved" in static_text(form.query_one("#form-message", Static))
+        with shop_db.session() as session:
+            assert catalog.get_device(session, "QX7777") is None
+        form.query_one("#fd-vceo").value = "40V"
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert app.screen is not form
+        with shop_db.session() as session:
+            saved = catalog.get_device(session, "QX7777")
+        assert saved is not None and saved.vceo == 40.0 and saved.ic_max == 0.2
+
+
+async def test_edit_device_bad_unit_changes_nothing(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f3")
+        await pilot.pause()
+        view = app.view("devices")
+        view.table.focus()
+        view.table.move_to(1)  # QX3301 (key order: AC987, QX3301, ...)
+        await pilot.pause()
+        assert view.selected_device().designation == "QX3301"
+        await pilot.press("e")
+        await pilot.pause()
+        form = app.screen
+        form.query_one("#fd-ic_max").value = "lots"
+        form.query_one("#fd-vceo").value = "50V"
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert app.screen is form
+        assert "ic_max" in static_text(form.query_one("#err-ic_max", Static))
+        await pilot.press("escape")
+        await pilot.pause()
+    with shop_db.session() as session:
+        device = catalog.get_device(session, "QX3301")
+    assert device.vceo == 45.0 and device.ic_max == 0.1  # as stored by the fixture
+
+
+async def _open_lot(app: Any, pilot: Any, designation: str) -> Any:
+    await pilot.pause()
+    view = app.view("drawers")
+    row = next(i for i, lot in enumerate(view.lots) if lot.designation == designation)
+    view.query_one("#lots-table").move_cursor(row=row)
+    view.query_one("#lots-table").focus()
+    await pilot.pause()
+    return view
+
+
+async def _submit(app: Any, pilot: Any, key: str, values: dict[str, str]) -> StockForm:
+    await pilot.press(key)
+    await pilot.pause()
+    form = app.screen
+    assert isinstance(form, StockForm)
+    for ident, value in values.items():
+        form.query_one(f"#sf-{ident}").value = value
+    await pilot.press("enter")
+    await pilot.pause()
+    return form
+
+
+async def test_stock_actions_receive_take_return_move_count(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await _open_lot(app, pilot, "QX3301")
+        await _submit(app, pilot, "r", {"quantity": "8"})
+        assert quantity_at(shop_db, "QX3301", "C1/D1") == 20
+        await _submit(app, pilot, "t", {"quantity": "5", "job": "J-100"})
+        assert quantity_at(shop_db, "QX3301", "C1/D1") == 15
+        await _submit(app, pilot, "u", {"quantity": "2"})
+        assert quantity_at(shop_db, "QX3301", "C1/D1") == 17
+        await _submit(app, pilot, "m", {"quantity": "7", "to": "C3/D9"})
+        assert quantity_at(shop_db, "QX3301", "C1/D1") == 10
+        assert quantity_at(shop_db, "QX3301", "C3/D9") == 7
+        await _open_lot(app, pilot, "QX3301")
+        view = await _open_lot(app, pilot, "QX3301")
+        await _submit(app, pilot, "c", {"quantity": "9", "place": "C1/D1"})
+        assert quantity_at(shop_db, "QX3301", "C1/D1") == 9
+        # The list shows the result at once.
+        shown = {(lot.location, lot.quantity) for lot in view.lots if lot.designation == "QX3301"}
+        assert ("C1/D1", 9) in shown and ("C3/D9", 7) in shown
+        with shop_db.session() as session:
+            jobs = [e.job for e in stock.ledger(session, "QX3301") if e.reason == "take"]
+        assert jobs == ["J-100"]
+
+
+async def test_refused_take_shows_message_and_changes_nothing(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await _open_lot(app, pilot, "QX3302")
+        before, entries = quantity_at(shop_db, "QX3302", "C1/D2"), ledger_size(shop_db)
+        form = await _submit(app, pilot, "t", {"quantity": "4", "job": "J-7"})
+        assert app.screen is form
+        message = static_text(form.query_one("#form-message", Static))
+        assert "REFUSED" in message and "only 3" in message
+        # Bad quantities never reach the service.
+        for bad in ("-2", "0", "two", "1.5"):
+            form.query_one("#sf-quantity").value = bad
+            await pilot.press("enter")
+            await pilot.pause()
+            assert "quantity" in static_text(form.query_one("#form-message", Static))
+    assert quantity_at(shop_db, "QX3302", "C1/D2") == before == 3
+    assert ledger_size(shop_db) == entries
+
+
+async def test_low_stock_mark_is_a_word(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        view = await _open_lot(app, pilot, "QX3302")
+        table = view.query_one("#lots-table")
+        row = next(i for i, lot in enumerate(view.lots) if lot.designation == "QX3302")
+        assert str(table.get_row_at(row)[4]) == "LOW"  # 3 in stock, low-stock mark 5
+
+
+async def test_substitute_search_then_take_one(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f4")
+        await pilot.pause()
+        await type_text(pilot, "qx3301")
+        await pilot.press("enter")
+        await pilot.pause()
+        view = app.view("substitute")
+        names = [c.designation for c in view.result.candidates]
+        assert "QX3301" not in names and "QX5500" not in names  # itself; wrong polarity
+        assert "QX3302" in names
+        caution = static_text(view.query_one("#sub-caution", Static))
+        assert "can kill" in caution
+        row = names.index("QX3302")
+        view.query_one("#sub-table").move_cursor(row=row)
+        await pilot.pause()
+        detail = static_text(view.query_one("#sub-detail", Static))
+        assert "vceo" in detail and "FLAG" in detail and "lead" in detail  # EBC vs CBE
+        await pilot.press("t")
+        await pilot.pause()
+        assert isinstance(app.screen, StockForm)
+        assert app.screen.query_one("#sf-quantity").value == "1"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert not isinstance(app.screen, StockForm)
+    assert quantity_at(shop_db, "QX3302", "C1/D2") == 2
+
+
+async def test_substitute_bad_stress_is_reported(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f4")
+        await pilot.pause()
+        view = app.view("substitute")
+        view.query_one("#ss-vce_peak").value = "12 A"
+        await type_text(pilot, "QX3301")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert "NOT RANKED" in static_text(view.query_one("#sub-status", Static))
+
+
+async def test_bench_swap_matches_the_bias_library(shop_db: Any) -> None:
+    from partsdb.bias import Stage, params_from_device, predict_swap
+
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=(120, 40)) as pilot:
+        await pilot.press("f5")
+        await pilot.pause()
+        await type_text(pilot, "QX3301")
+        await pilot.press("tab")
+        await type_text(pilot, "QX3302")
+        await pilot.press("enter")
+        await pilot.pause()
+        view = app.view("bench")
+        report = view.report
+        text = static_text(view.query_one("#bench-result", Static))
+    assert report is not None and report.substitute is not None
+    # The view shows what the library computes for the same stage typed as 47k, 10k, 2k2, 470.
+    with shop_db.session() as session:
+        a, b = catalog.get_device(session, "QX3301"), catalog.get_device(session, "QX3302")
+    expected = predict_swap(Stage("divider", 12.0, 2200.0, 470.0, r1=47e3, r2=10e3),
+                            params_from_device(a), params_from_device(b))
+    assert report.original.point.ic == expected.original.point.ic
+    assert report.substitute.point.ic == expected.substitute.point.ic
+    assert "Swap shifts Ic" in text and "Caution" in text
+
+
+async def test_bench_bad_resistor_is_inline(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f5")
+        await pilot.pause()
+        view = app.view("bench")
+        view.query_one("#bn-r2").value = "10x"
+        await type_text(pilot, "QX3301")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert "NOT SOLVED" in static_text(view.query_one("#bench-error", Static))
+        assert view.report is None
+
+
+async def test_ledger_filters(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f6")
+        await pilot.pause()
+        view = app.view("ledger")
+        table = view.query_one("#ledger-table")
+        assert table.row_count == ledger_size(shop_db)
+        await type_text(pilot, "QX5500")
+        await pilot.pause()
+        assert table.row_count == 1
+        view.query_one("#lg-since").value = "31/12/2024"
+        await pilot.pause()
+        assert "FILTER" in static_text(view.query_one("#ledger-status", Static))
+        view.query_one("#lg-since").value = "2000-01-01"
+        view.query_one("#lg-device").value = "NOPE123"
+        await pilot.pause()
+        assert "not found" in static_text(view.query_one("#ledger-status", Static))

@@ -1,0 +1,155 @@
+"""The partsdb terminal UI: five views over one database, built by one factory.
+
+``build_app(db)`` is what both ``partsdb tui`` (through :func:`run_app`) and the tests use, so
+the app under test is the app people run. Views only call :mod:`partsdb.services` and the
+pure domain modules; they never hold SQL, scoring or unit parsing of their own.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Iterable
+from typing import TYPE_CHECKING, Any, ClassVar
+
+from rich.text import Text
+from textual import on
+from textual.app import App, ComposeResult, SystemCommand
+from textual.binding import Binding, BindingType
+from textual.screen import Screen
+from textual.widgets import ContentSwitcher, Footer, Static
+
+from tui.bench import BenchView
+from tui.devices import DevicesView
+from tui.drawers import DrawersView
+from tui.help import HelpScreen
+from tui.ledger import LedgerView
+from tui.substitute import SubstituteView
+
+if TYPE_CHECKING:
+    from partsdb.storage.database import Database
+
+VIEWS: tuple[tuple[str, str, str], ...] = (
+    ("drawers", "f2", "Drawers"),
+    ("devices", "f3", "Devices"),
+    ("substitute", "f4", "Substitute"),
+    ("bench", "f5", "Bench"),
+    ("ledger", "f6", "Ledger"),
+)
+
+
+class ViewBar(Static):
+    """The line above the footer: every view with its key, the current one marked, and the
+    database."""
+
+    def show(self, current: str, database: str) -> None:
+        text = Text()
+        for ident, key, label in VIEWS:
+            style = "reverse bold" if ident == current else "dim"
+            text.append(f"{key.upper()}", style=style + " bold")
+            text.append(f" {label}", style=style)
+            text.append("  ")
+        text.append(f" {database}", style="italic dim")
+        self.update(text)
+
+
+class PartsdbApp(App[None]):
+    """Drawers, Devices, Substitute, Bench and Ledger over one open database."""
+
+    CSS_PATH = "partsdb.tcss"
+    TITLE = "partsdb"
+    HORIZONTAL_BREAKPOINTS: ClassVar[list[tuple[int, str]]] = [(0, "-narrow"), (110, "-wide")]
+    BINDINGS: ClassVar[list[BindingType]] = [
+        Binding("f1", "help", "Help"),
+        Binding("question_mark", "help", "Help", show=False),
+        # The view keys are drawn by the ViewBar just above the footer (one line for all five
+        # at 80 columns); the Textual footer below it lists the current view's actions.
+        *[Binding(key, f"show('{ident}')", label, show=False) for ident, key, label in VIEWS],
+        Binding("ctrl+q", "quit", "Quit", show=False),
+    ]
+
+    def __init__(self, db: Database, *, start: str = "drawers", cursor_blink: bool = True) -> None:
+        super().__init__()
+        self.db = db
+        self.start = start
+        self.cursor_blink = cursor_blink
+        self.current = start
+
+    def compose(self) -> ComposeResult:
+        with ContentSwitcher(initial=self.start, id="views"):
+            yield DrawersView(self.db, id="drawers")
+            yield DevicesView(self.db, id="devices")
+            yield SubstituteView(self.db, id="substitute")
+            yield BenchView(self.db, id="bench")
+            yield LedgerView(self.db, id="ledger")
+        yield ViewBar(id="view-bar")
+        yield Footer(compact=True)
+
+    def on_mount(self) -> None:
+        self.action_show(self.start)
+
+    def _database_label(self) -> str:
+        try:
+            return self.db.describe()
+        except Exception:  # a label must never stop the app
+            return ""
+
+    def view(self, ident: str) -> Any:
+        return self.query_one(f"#{ident}")
+
+    def action_show(self, ident: str) -> None:
+        """Switch to a view, loading its data the first time it is shown."""
+        self.current = ident
+        self.query_one("#views", ContentSwitcher).current = ident
+        self.query_one(ViewBar).show(ident, self._database_label())
+        view = self.view(ident)
+        if hasattr(view, "load"):
+            view.load()
+        focus = {"drawers": "#lots-table", "devices": "#dev-search", "substitute": "#sub-query",
+                 "bench": "#bn-original", "ledger": "#lg-device"}.get(ident)
+        targets = view.query(focus) if focus else None
+        if targets:
+            targets.first().focus()
+        else:
+            self.screen.focus_next()
+        self.refresh_bindings()
+
+    def action_help(self) -> None:
+        if not isinstance(self.screen, HelpScreen):
+            self.push_screen(HelpScreen())
+
+    @on(DevicesView.DeviceChosen)
+    def _substitute_for(self, event: DevicesView.DeviceChosen) -> None:
+        self.action_show("substitute")
+        self.view("substitute").search_for(event.designation)
+
+    def get_system_commands(self, screen: Screen[Any]) -> Iterable[SystemCommand]:
+        """The palette's main actions, after Textual's own (theme, keys, quit)."""
+        yield from super().get_system_commands(screen)
+        for ident, key, label in VIEWS:
+            yield SystemCommand(f"Go to {label}", f"Show the {label} view ({key.upper()})",
+                                lambda i=ident: self.action_show(i))
+        for action in ("receive", "take", "return", "move", "count"):
+            yield SystemCommand(f"Stock: {action}", f"{action.capitalize()} parts of the selected "
+                                "lot (Drawers)", lambda a=action: self._drawer_action(a))
+        yield SystemCommand("Device: add", "Add a device to the catalog",
+                            lambda: self._devices_action("add"))
+        yield SystemCommand("Device: edit", "Edit the selected device",
+                            lambda: self._devices_action("edit"))
+        yield SystemCommand("Help and safety cautions", "Keys and cautions (F1)", self.action_help)
+
+    def _drawer_action(self, action: str) -> None:
+        self.action_show("drawers")
+        self.view("drawers").action_stock(action)
+
+    def _devices_action(self, action: str) -> None:
+        self.action_show("devices")
+        getattr(self.view("devices"), f"action_{action}")()
+
+
+def build_app(db: Database, *, start: str = "drawers", cursor_blink: bool = True) -> PartsdbApp:
+    """The app on ``db``; tests pass ``cursor_blink=False`` for steady pictures."""
+    return PartsdbApp(db, start=start, cursor_blink=cursor_blink)
+
+
+def run_app(db: Database) -> None:
+    """Run the UI in this terminal until the user quits."""
+    build_app(db).run()

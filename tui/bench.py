@@ -1,0 +1,213 @@
+"""The Bench view: a common-emitter stage solved for the original and the substitute.
+
+The user gives the network, the supply and the resistors (R-notation such as 2k2 or 4R7
+accepted), the ambient temperature and the two designations. :func:`partsdb.bias.predict_swap`
+solves both operating points and proposes the one resistor change (nearest E12/E24 value);
+:func:`partsdb.operating.check_operating_point` gives each device's allowed dissipation, drawn
+with both points on a small Vce-Ic plot.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any, ClassVar
+
+from rich.console import Group
+from rich.table import Table
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding, BindingType
+from textual.containers import Horizontal, VerticalScroll
+from textual.widgets import Button, Label, Select, Static
+
+from tui.inputs import TextField
+from tui.plot import Curve, PlotData, VcePlot
+
+if TYPE_CHECKING:
+    from partsdb.bias import BiasReport
+    from partsdb.device import Device
+    from partsdb.storage.database import Database
+
+# (id, label, unit, initial value). The initial stage is a textbook-style divider stage
+# (common practice values), there only so the form is not empty.
+FIELDS: tuple[tuple[str, str, str, str], ...] = (
+    ("vcc", "Vcc", "V", "12V"),
+    ("r1", "R1", "Ω", "47k"),
+    ("r2", "R2", "Ω", "10k"),
+    ("rb", "Rb", "Ω", ""),
+    ("rc", "Rc", "Ω", "2k2"),
+    ("re", "Re", "Ω", "470"),
+    ("ambient", "Ambient", "°C", "25"),
+)
+STATUS_STYLE = {"ok": "green", "marginal": "yellow", "over": "bold red", "unknown": "dim"}
+
+
+class BenchView(Horizontal):
+    """Stage form on the left; both operating points, the fix and the plot on the right."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [Binding("ctrl+r", "solve", "Solve")]
+
+    def __init__(self, db: Database, **kwargs: Any) -> None:
+        super().__init__(**kwargs)
+        self.db = db
+        self.report: BiasReport | None = None
+
+    def compose(self) -> ComposeResult:
+        from partsdb.bias import NETWORKS
+
+        with VerticalScroll(id="bench-form"):
+            with Horizontal(classes="form-row"):
+                yield Label("Network", classes="form-label")
+                yield Select([(n, n) for n in NETWORKS], value="divider", allow_blank=False,
+                             id="bn-network", compact=True)
+            for ident, label, _unit, value in FIELDS:
+                with Horizontal(classes="form-row"):
+                    yield Label(label, classes="form-label")
+                    yield TextField(value, id=f"bn-{ident}", compact=True, classes="form-input")
+            for ident, label in (("original", "Original"), ("substitute", "Substitute")):
+                with Horizontal(classes="form-row"):
+                    yield Label(label, classes="form-label")
+                    yield TextField("", placeholder="designation", id=f"bn-{ident}",
+                                    compact=True, classes="form-input")
+            yield Button("Solve", id="bn-solve", compact=True, variant="primary")
+            yield Static("", id="bench-error", classes="form-error")
+        with VerticalScroll(id="bench-result-box"):
+            yield Static("Fill the stage and press Enter to solve it.", id="bench-result")
+            yield VcePlot(id="bench-plot")
+
+    def load(self) -> None:
+        """Nothing to read until asked."""
+
+    def fill(self, original: str | None = None, substitute: str | None = None) -> None:
+        """Put designations into the form (from the Substitute view)."""
+        if original is not None:
+            self.query_one("#bn-original", TextField).value = original
+        if substitute is not None:
+            self.query_one("#bn-substitute", TextField).value = substitute
+
+    @on(TextField.Submitted)
+    @on(Button.Pressed, "#bn-solve")
+    def action_solve(self) -> None:
+        error = self.query_one("#bench-error", Static)
+        try:
+            self.report, devices, ambient = self._solve()
+        except (ValueError, LookupError) as err:
+            error.update(Text("NOT SOLVED: " + str(err), style="bold yellow"))
+            return
+        error.update("")
+        self._show(self.report, devices, ambient)
+
+    def _text(self, ident: str) -> str:
+        return self.query_one(f"#bn-{ident}", TextField).value.strip()
+
+    def _device(self, session: Any, field: str) -> Device | None:
+        from partsdb.services import catalog
+
+        text = self._text(field)
+        if not text:
+            return None
+        device = catalog.get_device(session, text)
+        if device is None:
+            hints = catalog.suggest(session, text)
+            hint = f" (did you mean {', '.join(hints)}?)" if hints else ""
+            raise LookupError(f"{field}: {text!r} is not in the catalog{hint}")
+        return device
+
+    def _solve(self) -> tuple[BiasReport, list[Device], float]:
+        from partsdb.bias import Stage, analyse_bias, params_from_device, predict_swap
+        from partsdb.units import parse_quantity
+
+        network = str(self.query_one("#bn-network", Select).value)
+        values: dict[str, float | None] = {}
+        for ident, label, unit, _ in FIELDS:
+            text = self._text(ident)
+            values[ident] = parse_quantity(text, unit, label) if text else None
+        needed = ("r1", "r2") if network == "divider" else ("rb",)
+        for name in ("r1", "r2", "rb"):
+            if name not in needed:
+                values[name] = None
+        if values["vcc"] is None:
+            raise ValueError("Vcc: empty; expected a supply voltage such as 12V")
+        ambient = values.pop("ambient")
+        ambient = 25.0 if ambient is None else ambient
+        stage = Stage(network=network, vcc=values["vcc"], rc=values["rc"] or 0.0,
+                      re=values["re"] if values["re"] is not None else 0.0,
+                      r1=values["r1"], r2=values["r2"], rb=values["rb"])
+        with self.db.session() as session:
+            original = self._device(session, "original")
+            substitute = self._device(session, "substitute")
+        if original is None:
+            raise ValueError("original: empty; expected the designation of the part in the set")
+        if substitute is None:
+            report = analyse_bias(stage, params_from_device(original), ambient=ambient)
+            return report, [original], ambient
+        report = predict_swap(stage, params_from_device(original), params_from_device(substitute),
+                              ambient=ambient)
+        return report, [original, substitute], ambient
+
+    def _show(self, report: BiasReport, devices: list[Device], ambient: float) -> None:
+        from partsdb.cautions import SHORT_CAUTION
+        from partsdb.operating import check_operating_point
+        from partsdb.units import format_quantity as fq
+
+        results = [report.original] + ([report.substitute] if report.substitute else [])
+        table = Table(box=None, padding=(0, 1), header_style="bold")
+        table.add_column("")
+        for r in results:
+            table.add_column(r.device, justify="right")
+        rows: list[tuple[str, list[str]]] = [
+            ("Ic", [fq(r.point.ic, "A") for r in results]),
+            ("Vce", [fq(r.point.vce, "V") for r in results]),
+            ("Vb / Ve", [f"{fq(r.point.vb, 'V')} / {fq(r.point.ve, 'V')}" for r in results]),
+            ("P device", [fq(r.point.power, "W") for r in results]),
+            ("region", [r.point.region for r in results]),
+            ("Ic over hFE", [f"{fq(r.ic_hfe_min, 'A')}..{fq(r.ic_hfe_max, 'A')}" for r in results]),
+        ]
+        checks = []
+        for device, r in zip(devices, results, strict=False):
+            checks.append(check_operating_point(device, r.point.vce, r.point.ic, r.point.power,
+                                                ambient=ambient))
+        rows.append(("P allowed", [fq(c.p_allowed, "W") if c.p_allowed else "—" for c in checks]))
+        for name, cells in rows:
+            table.add_row(name, *cells)
+        status = Text("Checks: ")
+        for c in checks:
+            status.append(f"{c.device} ")
+            status.append(c.worst, style=STATUS_STYLE.get(c.worst, ""))
+            status.append("  ")
+        parts: list[Any] = [Text(f"{report.stage.network} stage, {model_name(report)} model, "
+                                 f"{ambient:g} °C", style="bold"), table, status]
+        if report.ic_change is not None:
+            change = report.ic_change
+            style = "green" if abs(change) < 0.1 else "yellow" if abs(change) < 0.3 else "bold red"
+            shift = Text("Swap shifts Ic by ")
+            shift.append(f"{change:+.0%}", style=style)
+            shift.append(f", Vce by {report.vce_change:+.2f} V")
+            parts.append(shift)
+        if report.fix is not None:
+            fix = report.fix
+            name = fix.resistor.upper()
+            parts.append(Text(
+                f"Fix: {name} {fq(fix.original_value, 'Ω')} -> {fq(fix.exact, 'Ω')} exact; "
+                f"E12 {fq(fix.e12.value, 'Ω')} gives Ic {fq(fix.e12.ic, 'A')}, "
+                f"E24 {fq(fix.e24.value, 'Ω')} gives Ic {fq(fix.e24.ic, 'A')}", style="cyan"))
+        for note in [*report.notes, *(n for r in results for n in r.notes),
+                     *(n for c in checks for n in c.notes)]:
+            parts.append(Text("· " + note, style="dim"))
+        parts.append(Text(SHORT_CAUTION, style="bold red"))
+        self.query_one("#bench-result", Static).update(Group(*parts))
+
+        stage = report.stage
+        load = (stage.rc + (stage.re or 0.0)) or None
+        marks = (("O", "bold cyan", "▪", "cyan"), ("S", "bold magenta", "▫", "magenta"))
+        data = PlotData(vcc=stage.vcc, load_resistance=load)
+        for (mark, point_style, curve_mark, curve_style), r, c in zip(marks, results, checks,
+                                                                      strict=False):
+            if c.p_allowed:
+                data.curves.append(Curve(f"P max {r.device}", c.p_allowed, curve_mark, curve_style))
+            data.points.append((mark, r.device, r.point.vce, r.point.ic, point_style))
+        self.query_one("#bench-plot", VcePlot).plot(data)
+
+
+def model_name(report: BiasReport) -> str:
+    return report.original.model

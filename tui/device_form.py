@@ -1,0 +1,140 @@
+"""Add or edit a device: one input per field of ``partsdb.device.FIELDS``, units accepted.
+
+Each field is checked as it is typed (``parse_field``) and the whole record again on save
+(``catalog.add_device`` / ``catalog.edit_device``); any problem is shown beside its field and
+nothing is written until the record is valid.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any, ClassVar
+
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding, BindingType
+from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.screen import ModalScreen
+from textual.widgets import Button, Input, Label, Static
+
+from partsdb.device import FIELDS, Device, FieldSpec
+from tui.inputs import TextField
+
+if TYPE_CHECKING:
+    from partsdb.storage.database import Database
+
+
+def placeholder(spec: FieldSpec) -> str:
+    if spec.choices:
+        return " / ".join(spec.choices)
+    if spec.kind == "bool":
+        return "yes / no"
+    if spec.kind == "quantity":
+        return {"V": "e.g. 40V", "A": "e.g. 200mA", "W": "e.g. 625mW", "Hz": "e.g. 300MHz",
+                "°C": "e.g. 150", "": "e.g. 110"}.get(spec.unit, spec.unit)
+    return spec.help[:30] if spec.help else ""
+
+
+class DeviceForm(ModalScreen[Device | None]):
+    """A modal form; dismisses with the saved :class:`Device`, or None when cancelled."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [
+        Binding("escape", "cancel", "Cancel"), Binding("ctrl+s", "save", "Save")]
+
+    def __init__(self, db: Database, device: Device | None) -> None:
+        super().__init__()
+        self.db = db
+        self.original = device
+
+    def compose(self) -> ComposeResult:
+        title = f"Edit {self.original.designation}" if self.original else "Add a device"
+        with Vertical(id="form-box", classes="form device-form"):
+            yield Static(title + "  (units accepted: 40V, 200mA, 2k2; ctrl+s saves)",
+                         classes="form-title")
+            with VerticalScroll(id="form-fields"):
+                for spec in FIELDS:
+                    value = ""
+                    if self.original is not None:
+                        shown = self.original.display(spec.name)
+                        value = "" if shown == "—" else shown
+                    elif spec.name in ("kind", "polarity", "material"):
+                        value = spec.choices[0]
+                    with Horizontal(classes="form-row"):
+                        yield Label(spec.label + (" *" if spec.required else ""),
+                                    classes="form-label")
+                        yield TextField(value, placeholder=placeholder(spec), id=f"fd-{spec.name}",
+                                    compact=True, classes="form-input")
+                    yield Static("", id=f"err-{spec.name}", classes="form-error")
+            yield Static("", id="form-message", classes="form-error")
+            with Horizontal(classes="form-buttons"):
+                yield Button("Save", id="save", variant="primary", compact=True)
+                yield Button("Cancel", id="cancel", compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one(f"#fd-{FIELDS[0].name}", Input).focus()
+
+    def raw_values(self) -> dict[str, Any]:
+        return {spec.name: self.query_one(f"#fd-{spec.name}", Input).value for spec in FIELDS}
+
+    def _show(self, field: str, message: str) -> None:
+        box = self.query_one(f"#err-{field}", Static)
+        box.update(message)
+        box.set_class(bool(message), "shown")
+
+    @on(Input.Changed, ".form-input")
+    def _check_field(self, event: Input.Changed) -> None:
+        from partsdb.device import parse_field
+        from partsdb.units import UnitError
+
+        name = (event.input.id or "")[3:]
+        try:
+            parse_field(name, event.value)
+        except UnitError as err:
+            self._show(name, str(err))
+        else:
+            self._show(name, "")
+
+    @on(Input.Submitted, ".form-input")
+    def _submitted(self) -> None:
+        self.action_save()
+
+    @on(Button.Pressed, "#save")
+    def _save_pressed(self) -> None:
+        self.action_save()
+
+    @on(Button.Pressed, "#cancel")
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+    def action_save(self) -> None:
+        from partsdb.device import InvalidRecord, parse_device
+        from partsdb.services import catalog
+        from partsdb.storage.database import DatabaseError
+        from partsdb.units import UnitError
+
+        for spec in FIELDS:
+            self._show(spec.name, "")
+        message = self.query_one("#form-message", Static)
+        raw = self.raw_values()
+        try:
+            if self.original is None:
+                device = parse_device(raw)
+                with self.db.session() as session:
+                    saved = catalog.add_device(session, device)
+            else:
+                with self.db.session() as session:
+                    saved = catalog.edit_device(session, self.original.designation, raw)
+        except InvalidRecord as err:
+            first = None
+            for field, text in err.problems:
+                if field in raw:
+                    self._show(field, text)
+                    first = first or field
+            message.update(f"Not saved: {len(err.problems)} problem(s) to fix.")
+            if first:
+                self.query_one(f"#fd-{first}", Input).focus()
+            return
+        except (UnitError, ValueError, LookupError, DatabaseError) as err:
+            # CatalogError (duplicate designation), NotFound, ReadOnlyError: nothing written.
+            message.update(f"Not saved: {err}")
+            return
+        self.dismiss(saved)

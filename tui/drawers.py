@@ -1,0 +1,143 @@
+"""The Drawers view: the cabinet/drawer/bin tree beside the lots held at the selected place.
+
+The lots come from ``stock.lots_at`` (the place and everything below it); the five stock actions
+open :class:`~tui.stock_forms.StockForm` on the selected lot and the list is re-read as soon as
+the form reports success.
+"""
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any, ClassVar
+
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding, BindingType
+from textual.containers import Horizontal, Vertical
+from textual.widgets import DataTable, Static, Tree
+
+from tui.stock_forms import StockForm, StockRequest
+
+if TYPE_CHECKING:
+    from partsdb.services.stock import LotView
+    from partsdb.storage.database import Database
+
+ALL_PLACES = "All places"
+
+
+class DrawersView(Horizontal):
+    """Place tree on the left, lots of the selected place on the right."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [
+        Binding("r", "stock('receive')", "Receive"),
+        Binding("t", "stock('take')", "Take"),
+        Binding("u", "stock('return')", "Return"),
+        Binding("m", "stock('move')", "Move"),
+        Binding("c", "stock('count')", "Count"),
+    ]
+
+    def __init__(self, db: Database, **kwargs: Any) -> None:
+        super().__init__(**kwargs)
+        self.db = db
+        self.place: str | None = None
+        self.lots: list[LotView] = []
+        self._loaded = False
+
+    def compose(self) -> ComposeResult:
+        tree: Tree[str | None] = Tree(ALL_PLACES, data=None, id="drawer-tree")
+        tree.show_root = True
+        yield tree
+        with Vertical(id="lots-box"):
+            yield Static("", id="lots-title")
+            table: DataTable[Any] = DataTable(id="lots-table", cursor_type="row", zebra_stripes=True)
+            yield table
+            yield Static("", id="lot-status")
+
+    def on_mount(self) -> None:
+        table = self.query_one("#lots-table", DataTable)
+        table.add_column("Device", key="device")
+        table.add_column("Place", key="place")
+        table.add_column("Cond.", key="cond")
+        table.add_column("Qty", key="qty")
+        table.add_column("Stock", key="low")
+
+    def load(self) -> None:
+        if not self._loaded:
+            self._loaded = True
+            self.reload()
+
+    def reload(self) -> None:
+        """Re-read the place tree and the lots (after any stock change)."""
+        from partsdb.services import stock
+
+        with self.db.session() as session:
+            paths = stock.location_paths(session)
+        tree = self.query_one("#drawer-tree", Tree)
+        tree.clear()
+        nodes: dict[str, Any] = {}
+        parents = {path.rpartition("/")[0] for path in paths}
+        for path in paths:
+            parent_path, _, name = path.rpartition("/")
+            parent = nodes.get(parent_path, tree.root)
+            if path in parents:  # cabinets open, drawers closed: the tree fits a small screen
+                nodes[path] = parent.add(name, data=path, expand="/" not in path)
+            else:
+                nodes[path] = parent.add_leaf(name, data=path)
+        tree.root.expand()
+        self.show_lots(self.place)
+        if self.place and self.place in nodes:
+            tree.move_cursor(nodes[self.place])
+
+    def show_lots(self, place: str | None) -> None:
+        from partsdb.services import stock
+
+        self.place = place
+        with self.db.session() as session:
+            self.lots = stock.lots_at(session, place)
+        table = self.query_one("#lots-table", DataTable)
+        row = table.cursor_row
+        table.clear()
+        for i, lot in enumerate(self.lots):
+            mark = Text("LOW", style="bold red") if lot.low else Text("ok", style="green")
+            qty = Text(str(lot.quantity), style="dim" if lot.quantity == 0 else "",
+                       justify="right")
+            table.add_row(lot.designation, lot.location, lot.condition, qty, mark, key=str(i))
+        if self.lots:
+            table.move_cursor(row=min(row, len(self.lots) - 1))
+        total = sum(lot.quantity for lot in self.lots)
+        low = sum(1 for lot in self.lots if lot.low)
+        self.query_one("#lots-title", Static).update(
+            f"{place or ALL_PLACES}: {len(self.lots)} lots, {total} parts"
+            + (f", {low} LOW" if low else ""))
+
+    @on(Tree.NodeHighlighted, "#drawer-tree")
+    def _place_highlighted(self, event: Tree.NodeHighlighted[str | None]) -> None:
+        if event.node.data != self.place:
+            self.show_lots(event.node.data)
+
+    def selected_lot(self) -> LotView | None:
+        table = self.query_one("#lots-table", DataTable)
+        if not self.lots or table.cursor_row < 0 or table.cursor_row >= len(self.lots):
+            return None
+        return self.lots[table.cursor_row]
+
+    def action_stock(self, action: str) -> None:
+        lot = self.selected_lot()
+        if lot is None and action != "receive":
+            self.notify(f"Select a lot to {action} first.", severity="warning")
+            return
+        if lot is None:
+            request = StockRequest(action, place=self.place or "")
+        elif action == "receive":
+            request = StockRequest(action, lot.designation, lot.location, lot.condition)
+        else:
+            request = StockRequest(action, lot.designation, lot.location, lot.condition,
+                                   lot.quantity)
+        self.app.push_screen(StockForm(self.db, request), self._after)
+
+    def _after(self, result: str | None) -> None:
+        if result is None:
+            return
+        self.reload()
+        self.query_one("#lot-status", Static).update(result)
+        self.notify(result)

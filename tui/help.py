@@ -1,0 +1,63 @@
+"""The help screen: every key of every view, and the safety cautions in full."""
+
+from __future__ import annotations
+
+from typing import ClassVar
+
+from rich.console import Group
+from rich.table import Table
+from rich.text import Text
+from textual.app import ComposeResult
+from textual.binding import Binding, BindingType
+from textual.containers import VerticalScroll
+from textual.screen import ModalScreen
+from textual.widgets import Static
+
+from partsdb.cautions import SAFETY_CAUTIONS
+
+KEYS: tuple[tuple[str, str, str], ...] = (
+    ("Anywhere", "F2 / F3 / F4 / F5 / F6", "Drawers / Devices / Substitute / Bench / Ledger"),
+    ("Anywhere", "F1 or ?", "this help (Esc closes it)"),
+    ("Anywhere", "ctrl+p", "command palette: every main action by name"),
+    ("Anywhere", "tab / shift+tab", "next / previous field"),
+    ("Anywhere", "ctrl+q", "quit"),
+    ("Drawers", "r t u m c", "receive, take (with a job ref.), return, move, count the selected lot"),
+    ("Devices", "/", "search (fuzzy: designation, or words in the notes)"),
+    ("Devices", "a / e", "add a device / edit the selected one (units such as 40V, 200mA, 2k2)"),
+    ("Devices", "s", "find substitutes for the selected device"),
+    ("Substitute", "enter", "rank substitutes for the original typed in the search field"),
+    ("Substitute", "t / w / o", "take one of the selected candidate / record the swap / save the report"),
+    ("Bench", "enter or ctrl+r", "solve the stage for both transistors"),
+    ("Ledger", "type in a filter", "device, place, job, from/to date (YYYY-MM-DD)"),
+    ("Forms", "enter or ctrl+s / esc", "save / cancel; nothing is written until every field is valid"),
+)
+
+
+def help_renderable() -> Group:
+    keys = Table(show_header=True, header_style="bold", box=None, padding=(0, 1), expand=True)
+    keys.add_column("Where", style="cyan", no_wrap=True)
+    keys.add_column("Key", style="bold", no_wrap=True)
+    keys.add_column("Does")
+    for where, key, does in KEYS:
+        keys.add_row(where, key, does)
+    parts: list[Text | Table] = [Text("Keys", style="bold underline"), keys, Text(""),
+                                 Text("Safety", style="bold underline")]
+    for caution in SAFETY_CAUTIONS:
+        parts.append(Text("CAUTION ", style="bold red") + Text(caution))
+    parts.append(Text(""))
+    parts.append(Text("Colours repeat what the words say: ok, marginal, OVER, unknown, LOW, "
+                      "suspect, obsolete.", style="dim"))
+    return Group(*parts)
+
+
+class HelpScreen(ModalScreen[None]):
+    """Keys and cautions; any of Esc, q, F1 or ? closes it."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [Binding("escape,q,f1,question_mark", "close", "Close")]
+
+    def compose(self) -> ComposeResult:
+        with VerticalScroll(id="help-box"):
+            yield Static(help_renderable(), id="help-text")
+
+    def action_close(self) -> None:
+        self.dismiss(None)

@@ -1,0 +1,167 @@
+"""Small modal forms for the five stock actions: receive, take, return, move and count.
+
+The form checks what it can see (a whole quantity, a place given) and then makes exactly one
+call to :mod:`partsdb.services.stock` in one transaction. A refusal from the service (taking
+more than the drawer holds, an unknown device) is shown in the form and nothing is changed:
+the transaction is rolled back.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, ClassVar
+
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding, BindingType
+from textual.containers import Horizontal, Vertical
+from textual.screen import ModalScreen
+from textual.widgets import Button, Input, Label, Static
+
+from tui.inputs import TextField
+
+if TYPE_CHECKING:
+    from partsdb.storage.database import Database
+
+ACTIONS = ("receive", "take", "return", "move", "count")
+
+
+@dataclass(frozen=True)
+class StockRequest:
+    """What the form was opened with: the action and the selected lot's details."""
+
+    action: str
+    designation: str = ""
+    place: str = ""
+    condition: str = ""
+    quantity: int | None = None
+    """The lot's current quantity (shown; a count starts from it)."""
+
+
+def parse_count(text: str, allow_zero: bool) -> int:
+    """A whole number of parts from the form, or ValueError naming what was expected."""
+    stripped = text.strip()
+    expected = "a whole number " + ("0 or more" if allow_zero else "above 0")
+    if not stripped.isdigit():
+        raise ValueError(f"quantity: {text!r} is not valid; expected {expected}")
+    value = int(stripped)
+    if value == 0 and not allow_zero:
+        raise ValueError(f"quantity: {text!r} is not valid; expected {expected}")
+    return value
+
+
+class StockForm(ModalScreen[str | None]):
+    """One stock action as a form; dismisses with a one-line result, or None if cancelled."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [Binding("escape", "cancel", "Cancel")]
+
+    def __init__(self, db: Database, request: StockRequest) -> None:
+        super().__init__()
+        self.db = db
+        self.request = request
+
+    def _fields(self) -> list[tuple[str, str, str, str]]:
+        """(id, label, initial value, placeholder) for this action."""
+        r = self.request
+        place_label = {"receive": "To place", "take": "From place", "return": "To place",
+                       "move": "From place", "count": "At place"}[r.action]
+        fields = [("designation", "Device", r.designation, "e.g. BC547B"),
+                  ("quantity", "Quantity",
+                   str(r.quantity) if r.action == "count" and r.quantity is not None else "",
+                   "whole number"),
+                  ("place", place_label, r.place, "e.g. C1/D3")]
+        if r.action == "move":
+            fields.append(("to", "To place", "", "e.g. C2/D1"))
+        if r.action in ("receive", "count", "take", "return", "move"):
+            fields.append(("condition", "Condition", r.condition if r.action != "receive"
+                           else (r.condition or "new"), "new / used / pulled / tested"))
+        if r.action in ("take", "return", "receive", "move"):
+            fields.append(("job", "Job ref.", "", "job or repair ticket"))
+        fields.append(("note", "Note", "", ""))
+        return fields
+
+    def compose(self) -> ComposeResult:
+        r = self.request
+        held = "" if r.quantity is None else f"  (lot holds {r.quantity})"
+        with Vertical(id="form-box", classes="form stock-form"):
+            yield Static(f"{r.action.capitalize()} parts{held}", classes="form-title")
+            for ident, label, value, hint in self._fields():
+                with Horizontal(classes="form-row"):
+                    yield Label(label, classes="form-label")
+                    yield TextField(value, placeholder=hint, id=f"sf-{ident}", compact=True,
+                                classes="form-input")
+            yield Static("", id="form-message", classes="form-error")
+            with Horizontal(classes="form-buttons"):
+                yield Button(r.action.capitalize(), id="ok", variant="primary", compact=True)
+                yield Button("Cancel", id="cancel", compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#sf-quantity" if self.request.designation else "#sf-designation",
+                       Input).focus()
+
+    def value(self, ident: str) -> str | None:
+        found = self.query(f"#sf-{ident}")
+        if not found:
+            return None
+        text = found.first(Input).value.strip()
+        return text or None
+
+    @on(Input.Submitted)
+    @on(Button.Pressed, "#ok")
+    def action_submit(self) -> None:
+        message = self.query_one("#form-message", Static)
+        try:
+            result = self._perform()
+        except Exception as err:  # the service's refusal, shown as is: nothing was changed
+            from partsdb.storage.database import DatabaseError
+            from partsdb.units import UnitError
+
+            if not isinstance(err, ValueError | LookupError | UnitError | DatabaseError):
+                raise
+            text = str(err.args[0]) if isinstance(err, KeyError) and err.args else str(err)
+            message.update(f"REFUSED: {text}")
+            message.add_class("shown")
+            return
+        self.dismiss(result)
+
+    @on(Button.Pressed, "#cancel")
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+    def _perform(self) -> str:
+        from partsdb.services import stock
+
+        action = self.request.action
+        designation = self.value("designation")
+        if not designation:
+            raise ValueError("device: empty; expected a designation such as BC547B")
+        qty = parse_count(self.value("quantity") or "", allow_zero=action == "count")
+        place = self.value("place")
+        if not place:
+            raise ValueError("place: empty; expected a path such as C1/D3")
+        condition = self.value("condition")
+        job, note = self.value("job"), self.value("note")
+        with self.db.session() as session:
+            if action == "receive":
+                lot = stock.receive(session, designation, qty, place, condition or "new", job=job,
+                                    note=note)
+                return f"Received {qty} {lot.designation} into {lot.location}: now {lot.quantity}"
+            if action == "take":
+                lot = stock.take(session, designation, qty, place, condition, job=job, note=note)
+                return (f"Took {qty} {lot.designation} from {lot.location}"
+                        + (f" for {job}" if job else "") + f": {lot.quantity} left")
+            if action == "return":
+                lot = stock.return_parts(session, designation, qty, place, condition, job=job,
+                                         note=note)
+                return f"Returned {qty} {lot.designation} to {lot.location}: now {lot.quantity}"
+            if action == "move":
+                to = self.value("to")
+                if not to:
+                    raise ValueError("to place: empty; expected a path such as C2/D1")
+                source, target = stock.move(session, designation, qty, place, to, condition,
+                                            job=job, note=note)
+                return (f"Moved {qty} {source.designation} {source.location} -> "
+                        f"{target.location}: {source.quantity} / {target.quantity}")
+            lot, change = stock.count(session, designation, qty, place, condition, job=job,
+                                      note=note)
+            return f"Counted {lot.designation} at {lot.location}: {lot.quantity} ({change:+d})"

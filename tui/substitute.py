@@ -1,0 +1,451 @@
+"""The Substitute view: rank the catalog as substitutes for an original, and act on the choice.
+
+The original is chosen by (fuzzy) designation, optionally with a spec override line and the
+circuit stress and policy; the ranking itself is done by ``partsdb.services.substitution``.
+The selected candidate is shown beside the requirement parameter by parameter, each ratio as
+a small bar with its status word, its flags, the lead drawing when the lead order differs, and
+the safety caution, always. Actions: take one from its drawer, record the swap, save the report,
+open the stage on the Bench.
+"""
+
+from __future__ import annotations
+
+import importlib
+from typing import TYPE_CHECKING, Any, ClassVar
+
+from rich.console import Group
+from rich.table import Table
+from rich.text import Text
+from textual import on
+from textual.app import ComposeResult
+from textual.binding import Binding, BindingType
+from textual.containers import Horizontal, Vertical, VerticalScroll
+from textual.screen import ModalScreen
+from textual.widgets import Button, DataTable, Label, Select, Static
+
+from tui.inputs import TextField
+from tui.stock_forms import StockForm, StockRequest
+
+if TYPE_CHECKING:
+    from partsdb.storage.database import Database
+
+STATUS_STYLE = {"ok": "green", "suitable": "green", "marginal": "yellow",
+                "under-rated": "bold red", "over": "bold red", "incompatible": "red",
+                "unknown": "dim"}
+STRESS_FIELDS: tuple[tuple[str, str, str], ...] = (
+    ("vce_peak", "Vce peak", "V"), ("ic_peak", "Ic peak", "A"), ("power", "power", "W"),
+    ("ambient", "ambient °C", "°C"),
+)
+RANK_LIMIT = 30
+PARAMETER_UNITS = {"vceo": "V", "vcbo": "V", "ic_max": "A", "ptot": "W", "tj_max": "°C",
+                   "ft": "Hz", "hfe": ""}
+
+
+def substitution_service() -> Any | None:
+    """The substitution service module, or None while it is not installed."""
+    try:
+        return importlib.import_module("partsdb.services.substitution")
+    except ModuleNotFoundError as err:
+        if err.name != "partsdb.services.substitution":
+            raise
+        return None
+
+
+def ratio_bar(ratio: float | None, width: int = 10) -> Text:
+    """A bar whose midpoint mark is ratio 1.0 (just meets the need); full at 2x or more."""
+    if ratio is None:
+        return Text("?".center(width), style="dim")
+    filled = max(0, min(width, round(ratio / 2 * width)))
+    style = "green" if ratio >= 1.2 else "yellow" if ratio >= 1.0 else "red"
+    text = Text()
+    for i in range(width):
+        if i < filled:
+            text.append("█", style=style)
+        elif i == width // 2:
+            text.append("│", style="dim")
+        else:
+            text.append("░", style="dim")
+    return text
+
+
+def lead_drawing(original: str, substitute: str, names: tuple[str, str]) -> Text:
+    """Both parts seen from the flat side, leads down, and which lead goes to which pad."""
+    out = Text()
+    width = 18
+    out.append(names[0][:width].ljust(width + 2) + names[1][:width] + "\n", style="bold")
+    out.append(" ┌─────┐".ljust(width + 2) + " ┌─────┐\n")
+    out.append(" └┬─┬─┬┘".ljust(width + 2) + " └┬─┬─┬┘\n")
+    out.append(("  " + " ".join(original)).ljust(width + 2) + "  " + " ".join(substitute) + "\n",
+               style="cyan")
+    pads = []
+    for pad, function in enumerate(original, start=1):
+        lead = substitute.index(function) + 1
+        pads.append(f"pad {pad} {function} ← lead {lead}" + ("" if lead == pad else " (cross)"))
+    out.append("  " + "; ".join(pads), style="yellow")
+    return out
+
+
+class PromptForm(ModalScreen[dict[str, str] | None]):
+    """A small form of text fields; dismisses with their values, or None when cancelled."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [Binding("escape", "cancel", "Cancel")]
+
+    def __init__(self, title: str, fields: list[tuple[str, str, str]],
+                 check: Any = None) -> None:
+        super().__init__()
+        self.title_text = title
+        self.fields = fields
+        self.check = check
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="form-box", classes="form"):
+            yield Static(self.title_text, classes="form-title")
+            for ident, label, value in self.fields:
+                with Horizontal(classes="form-row"):
+                    yield Label(label, classes="form-label")
+                    yield TextField(value, id=f"pf-{ident}", compact=True, classes="form-input")
+            yield Static("", id="form-message", classes="form-error")
+            with Horizontal(classes="form-buttons"):
+                yield Button("OK", id="ok", variant="primary", compact=True)
+                yield Button("Cancel", id="cancel", compact=True)
+
+    @on(TextField.Submitted)
+    @on(Button.Pressed, "#ok")
+    def _ok(self) -> None:
+        values = {ident: self.query_one(f"#pf-{ident}", TextField).value.strip()
+                  for ident, _, _ in self.fields}
+        if self.check is not None:
+            try:
+                message = self.check(values)
+            except (ValueError, LookupError, OSError) as err:
+                message = f"REFUSED: {err}"
+            if message:
+                self.query_one("#form-message", Static).update(message)
+                return
+        self.dismiss(values)
+
+    @on(Button.Pressed, "#cancel")
+    def action_cancel(self) -> None:
+        self.dismiss(None)
+
+
+class SubstituteView(Vertical):
+    """Original and stress on top; ranked candidates beside the selected one's comparison."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [
+        Binding("t", "take_one", "Take one"),
+        Binding("w", "record_swap", "Log swap"),
+        Binding("o", "save_report", "Report"),
+        Binding("b", "to_bench", "Bench"),
+        Binding("down", "focus_list", "List", show=False),
+    ]
+
+    def __init__(self, db: Database, **kwargs: Any) -> None:
+        super().__init__(**kwargs)
+        self.db = db
+        self.result: Any = None
+        self.original: str | None = None
+
+    def compose(self) -> ComposeResult:
+        from partsdb.services.config import available_policies
+
+        try:
+            policies = list(available_policies())
+        except ValueError as err:  # a broken config file: the built-ins still work
+            from partsdb.derating import BUILTIN_POLICIES
+
+            policies = list(BUILTIN_POLICIES)
+            self.notify(str(err), severity="warning")
+        with Horizontal(id="sub-top"):
+            yield TextField(placeholder="original: designation (fuzzy), then Enter", id="sub-query",
+                            compact=True)
+            yield TextField(placeholder="spec: vceo=60V ic_max=1A", id="sub-spec", compact=True)
+        with Horizontal(id="sub-stress"):
+            for ident, label, _unit in STRESS_FIELDS:
+                yield TextField(placeholder=label, id=f"ss-{ident}", compact=True)
+            yield Select([(name, name) for name in policies], prompt="policy",
+                         id="sub-policy", compact=True)
+        yield Static("", id="sub-status")
+        with Horizontal(id="sub-body"):
+            table: DataTable[Any] = DataTable(id="sub-table", cursor_type="row")
+            yield table
+            with VerticalScroll(id="sub-detail-box"):
+                yield Static("", id="sub-detail")
+        yield Static(Text("CAUTION ", style="bold") + Text(_short_caution()), id="sub-caution")
+
+    def on_mount(self) -> None:
+        table = self.query_one("#sub-table", DataTable)
+        for label in ("Substitute", "Score", "Verdict", "Stock"):
+            table.add_column(label)
+        if substitution_service() is None:
+            self._status(Text("Substitute ranking is not available yet in this build "
+                              "(partsdb.services.substitution is missing).", style="bold yellow"))
+
+    def load(self) -> None:
+        """Nothing to read until an original is given."""
+
+    def action_focus_list(self) -> None:
+        self.query_one("#sub-table", DataTable).focus()
+
+    def _status(self, text: str | Text) -> None:
+        self.query_one("#sub-status", Static).update(text)
+
+    # ------------------------------------------------------------------ ranking
+
+    def search_for(self, designation: str) -> None:
+        self.query_one("#sub-query", TextField).value = designation
+        self.run_search()
+
+    @on(TextField.Submitted, "#sub-query, #sub-spec, #sub-stress Input")
+    def _submitted(self) -> None:
+        self.run_search()
+
+    @on(Select.Changed, "#sub-policy")
+    def _policy_changed(self) -> None:
+        if self.original or self.query_one("#sub-spec", TextField).value.strip():
+            self.run_search()
+
+    def run_search(self) -> None:
+        service = substitution_service()
+        if service is None:
+            self._status(Text("Substitute ranking is not available yet in this build.",
+                              style="bold yellow"))
+            return
+        try:
+            self.result, self.original, note = self._rank(service)
+        except (ValueError, LookupError) as err:
+            message = str(err.args[0]) if isinstance(err, KeyError) and err.args else str(err)
+            self._status(Text("NOT RANKED: " + message, style="bold yellow"))
+            return
+        self._show_result(note)
+
+    def _stress(self) -> Any:
+        """The circuit stress typed in the stress row (ambient 25 °C when blank)."""
+        from partsdb.ranking import Stress
+        from partsdb.units import parse_quantity
+
+        values: dict[str, Any] = {}
+        for ident, label, unit in STRESS_FIELDS:
+            text = self.query_one(f"#ss-{ident}", TextField).value.strip()
+            if text:
+                values[ident] = parse_quantity(text, unit, label)
+        return Stress(**values)
+
+    def _policy(self) -> str | None:
+        policy = self.query_one("#sub-policy", Select).value
+        return None if policy is Select.NULL else str(policy)
+
+    def _spec_values(self) -> dict[str, Any]:
+        """``name=value`` pairs of the spec line, each read like the device field it names."""
+        from partsdb.device import parse_field
+        from partsdb.services.substitution import SPEC_FIELDS
+
+        text = self.query_one("#sub-spec", TextField).value.strip()
+        spec: dict[str, Any] = {}
+        for item in text.replace(",", " ").split():
+            name, sep, value = item.partition("=")
+            name = name.strip().lower()
+            if not sep or not value:
+                raise ValueError(f"spec: {item!r} is not valid; expected name=value such as "
+                                 "vceo=60V")
+            if name not in SPEC_FIELDS:
+                raise ValueError(f"spec: {name!r} is not a spec field; expected one of "
+                                 + ", ".join(SPEC_FIELDS))
+            spec[name] = parse_field(name, value.strip())
+        return spec
+
+    def _resolve_original(self) -> tuple[str | None, str]:
+        """The stored designation meant by the query (exact, else the best fuzzy hit)."""
+        from partsdb.search import SearchIndex
+        from partsdb.services import catalog
+
+        query = self.query_one("#sub-query", TextField).value.strip()
+        if not query:
+            return None, ""
+        with self.db.session() as session:
+            device = catalog.get_device(session, query)
+            if device is not None:
+                return device.designation, ""
+            designations, _notes = catalog.designations_and_notes(session)
+        hits = SearchIndex(designations).find(query, limit=1)
+        if not hits:
+            raise LookupError(f"original: {query!r} is not in the catalog and nothing is close")
+        return hits[0].designation, f"{query!r} read as {hits[0].designation} ({hits[0].reason})"
+
+    def _rank(self, service: Any) -> tuple[Any, str | None, str]:
+        original, note = self._resolve_original()
+        spec = self._spec_values()
+        stress = self._stress()
+        if original is None and not spec:
+            raise ValueError("original: empty; type a designation, or a spec such as "
+                             "polarity=npn vceo=60V ic_max=1A")
+        with self.db.session() as session:
+            result = service.rank_substitutes(session, original, spec or None, stress,
+                                              self._policy(), limit=RANK_LIMIT)
+        return result, original, note
+
+    def _show_result(self, note: str) -> None:
+        result = self.result
+        table = self.query_one("#sub-table", DataTable)
+        table.clear()
+        for c in result.candidates:
+            stock = Text(str(c.in_stock), style="green") if c.in_stock else Text("0", style="dim")
+            table.add_row(c.designation, f"{c.score:.0f}",
+                          Text(c.verdict, style=STATUS_STYLE.get(c.verdict, "")), stock)
+        who = self.original or "the spec"
+        line = Text(f"{len(result.candidates)} of {result.compatible} compatible for {who} "
+                    f"(policy {result.policy.name})")
+        if note:
+            line.append("  " + note, style="cyan")
+        self._status(line)
+        if result.candidates:
+            table.move_cursor(row=0)
+            self._show_candidate(0)
+            table.focus()
+        else:
+            self.query_one("#sub-detail", Static).update("No compatible part in the catalog.")
+
+    @on(DataTable.RowHighlighted, "#sub-table")
+    def _row(self, event: DataTable.RowHighlighted) -> None:
+        self._show_candidate(event.cursor_row)
+
+    def selected(self) -> Any | None:
+        if self.result is None or not self.result.candidates:
+            return None
+        row = self.query_one("#sub-table", DataTable).cursor_row
+        return self.result.candidates[row] if 0 <= row < len(self.result.candidates) else None
+
+    def _show_candidate(self, row: int) -> None:
+        from partsdb.units import format_quantity
+
+        if self.result is None or not 0 <= row < len(self.result.candidates):
+            return
+        c = self.result.candidates[row]
+        req = self.result.requirement
+
+        def fmt(value: float | None, unit: str) -> str:
+            return "—" if value is None else format_quantity(value, unit)
+
+        grid = Table(box=None, padding=(0, 1), header_style="bold", expand=False)
+        grid.add_column("Parameter")
+        grid.add_column("Need", justify="right")
+        grid.add_column(c.designation, justify="right")
+        grid.add_column("Ratio")
+        grid.add_column("Status")
+        for check in c.checks:
+            unit = PARAMETER_UNITS.get(check.parameter)
+            if unit is None:  # package, pinout, material: compared as words
+                need = str(getattr(req, check.parameter, None) or "—")
+                offered = str((c.device or {}).get(check.parameter) or "—")
+            else:
+                need, offered = fmt(check.need, unit), fmt(check.offered, unit)
+            grid.add_row(check.parameter, need, offered, ratio_bar(check.ratio),
+                         Text(check.status, style=STATUS_STYLE.get(check.status, "")))
+        head = Text(f"{c.designation}: ", style="bold")
+        head.append(c.verdict, style=STATUS_STYLE.get(c.verdict, ""))
+        head.append(f"  score {c.score:.0f}  confidence {c.confidence:.0%}  ")
+        head.append(f"stock {c.in_stock}" + (f" in {', '.join(c.locations[:3])}"
+                                             if c.locations else ""))
+        parts: list[Any] = [head, grid]
+        for flag in c.flags:
+            parts.append(Text("FLAG ", style="bold yellow") + Text(flag.message))
+        for check in c.checks:
+            if check.note and check.status != "ok":
+                parts.append(Text(f"· {check.parameter}: {check.note}", style="dim"))
+        sub_pin = (c.device or {}).get("pinout")
+        if req.pinout and sub_pin and sub_pin != req.pinout:
+            parts.append(lead_drawing(req.pinout, sub_pin, (req.designation or "original",
+                                                             c.designation)))
+        for text in self.result.notes:
+            parts.append(Text("· " + text, style="dim"))
+        self.query_one("#sub-detail", Static).update(Group(*parts))
+
+    # ------------------------------------------------------------------ actions
+
+    def action_take_one(self) -> None:
+        c = self.selected()
+        if c is None:
+            self.notify("Rank substitutes first, then select one.", severity="warning")
+            return
+        if not c.in_stock or not c.locations:
+            self.notify(f"{c.designation} is not in the drawers.", severity="warning")
+            return
+        request = StockRequest("take", c.designation, c.locations[0], "")
+        form = StockForm(self.db, request)
+        self.app.push_screen(form, self._after_take)
+        form.call_after_refresh(self._prefill_one, form)
+
+    def _prefill_one(self, form: StockForm) -> None:
+        form.query_one("#sf-quantity", TextField).value = "1"
+
+    def _after_take(self, result: str | None) -> None:
+        if result is None:
+            return
+        self.notify(result)
+        self._status(Text(result, style="green"))
+        self.run_search()  # stock changed: show the new counts
+
+    def action_record_swap(self) -> None:
+        c = self.selected()
+        service = substitution_service()
+        if c is None or service is None or self.original is None:
+            self.notify("Rank substitutes for a stored original first.", severity="warning")
+            return
+
+        def check(values: dict[str, str]) -> str:
+            if not values["job"]:
+                return "job: empty; expected the repair's job reference"
+            from partsdb.services import swaplog
+
+            stress = self.result.stress
+            with self.db.session() as session:
+                swaplog.add(session, self.original, c.designation, values["job"],
+                            vce_peak=stress.vce_peak, ic_peak=stress.ic_peak, power=stress.power,
+                            ambient=stress.ambient, freq=stress.freq, heatsink=stress.heatsink,
+                            policy=self.result.policy.name, note=values["note"] or None)
+            return ""
+
+        self.app.push_screen(PromptForm(f"Record the swap {self.original} -> {c.designation}",
+                                        [("job", "Job ref.", ""), ("note", "Note", "")], check),
+                             lambda v: v and self.notify("Swap recorded in the swap log."))
+
+    def action_save_report(self) -> None:
+        service = substitution_service()
+        if self.result is None or service is None:
+            self.notify("Rank substitutes first.", severity="warning")
+            return
+        default = f"substitutes-{(self.original or 'spec').lower()}.md"
+
+        def check(values: dict[str, str]) -> str:
+            from datetime import date
+            from pathlib import Path
+
+            from partsdb.reports import render_html, render_markdown
+
+            path = Path(values["path"]).expanduser()
+            if path.suffix.lower() not in (".md", ".html", ".htm"):
+                return f"file: {values['path']!r} is not valid; expected a name ending in .md or .html"
+            render = render_markdown if path.suffix.lower() == ".md" else render_html
+            path.write_text(render(self.result, job=values["job"] or None,
+                                   date=date.today().isoformat()), encoding="utf-8")
+            return ""
+
+        self.app.push_screen(PromptForm("Save the report (Markdown .md or HTML .html)",
+                                        [("path", "File", default), ("job", "Job ref.", "")],
+                                        check),
+                             lambda v: v and self.notify(f"Report saved to {v['path']}."))
+
+    def action_to_bench(self) -> None:
+        c = self.selected()
+        if c is None or self.original is None:
+            self.notify("Rank substitutes for a stored original first.", severity="warning")
+            return
+        app: Any = self.app
+        app.action_show("bench")
+        app.view("bench").fill(self.original, c.designation)
+
+
+def _short_caution() -> str:
+    from partsdb.cautions import SHORT_CAUTION
+
+    return SHORT_CAUTION.removeprefix("Caution: ")
