@@ -74,6 +74,7 @@ class DeviceRow(Base):
         CheckConstraint("kind IN ('bjt', 'darlington')", name="ck_devices_kind"),
         CheckConstraint("polarity IN ('npn', 'pnp')", name="ck_devices_polarity"),
         Index("ix_devices_pol_kind", "polarity", "kind"),
+        Index("ix_devices_updated_at", "updated_at"),
     )
 
 
