@@ -8,17 +8,20 @@ brings its schema to the newest Alembic revision, with a one-line notice when it
 from __future__ import annotations
 
 import os
+import random
 import re
+import time
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from pathlib import Path
-from typing import Any
+from typing import Any, TypeVar
 
 from sqlalchemy import create_engine, event, inspect
 from sqlalchemy.engine import URL, Engine, make_url
 from sqlalchemy.exc import OperationalError
 from sqlalchemy.orm import Session, sessionmaker
 
+T = TypeVar("T")
 ENV_VAR = "PARTSDB_DB"
 SQLITE_BUSY_TIMEOUT_MS = 15_000
 MIGRATIONS = Path(__file__).with_name("migrations")
@@ -148,8 +151,43 @@ class Database:
         finally:
             session.close()
 
+    def transact(self, work: Callable[[Session], T], attempts: int = 8) -> T:
+        """Run ``work(session)`` as one transaction, re-running it from the start when the
+        server aborted it as a serialization failure or deadlock (PostgreSQL SQLSTATE 40001 /
+        40P01, PostgreSQL docs Appendix A); ``work`` must therefore only touch the database.
+        SQLite needs no re-run: a locked database is waited for up to the busy timeout."""
+        for attempt in range(attempts):
+            session = self._sessions()
+            try:
+                result = work(session)
+                session.commit()
+                return result
+            except OperationalError as err:
+                session.rollback()
+                if is_transient(err) and attempt + 1 < attempts:
+                    # Random back-off so the transactions that collided do not collide again.
+                    time.sleep(random.uniform(0.0, 0.02 * 2 ** attempt))
+                    continue
+                raise _friendly(err, self) from err
+            except BaseException:
+                session.rollback()
+                raise
+            finally:
+                session.close()
+        raise AssertionError("unreachable")  # pragma: no cover
+
     def dispose(self) -> None:
         self.engine.dispose()
+
+
+TRANSIENT_SQLSTATES = frozenset({"40001", "40P01"})
+"""serialization_failure, deadlock_detected: the transaction may simply be run again."""
+
+
+def is_transient(err: BaseException) -> bool:
+    """Whether a database error means "run the same transaction again" (see TRANSIENT_SQLSTATES)."""
+    orig = getattr(err, "orig", err)
+    return getattr(orig, "sqlstate", None) in TRANSIENT_SQLSTATES
 
 
 _WRITE = re.compile(r"^\s*(INSERT|UPDATE|DELETE|CREATE|DROP|ALTER|REPLACE)\b", re.IGNORECASE)

@@ -1,0 +1,112 @@
+"""CLI: ``copy`` a whole shop between databases, ``backup`` it, ``restore`` it.
+
+Each command is one call into :mod:`partsdb.services.shop`; refusals (a non-empty target, an
+existing backup file, a damaged archive) exit 2 with a message, and nothing is changed.
+"""
+
+from __future__ import annotations
+
+import click
+
+from partsdb.cli.common import CliState, emit_json, format_option, pass_state
+
+
+def _notice(state: CliState) -> object:
+    return None if state.quiet else (lambda message: click.echo(message, err=True))
+
+
+def _print_report(report: object, verb: str) -> None:
+    from partsdb.services.shop import CopyReport
+
+    assert isinstance(report, CopyReport)
+    click.echo(f"{verb} {report.source} -> {report.target}")
+    for line in report.lines():
+        click.echo(f"  {line}")
+    click.echo("verified: row counts per table, every lot's quantity and the ledger sum match")
+
+
+@click.command("copy")
+@click.option("--from", "source", required=True, metavar="PATH|URL",
+              help="Database to copy from (a SQLite file or a SQLAlchemy URL).")
+@click.option("--to", "target", required=True, metavar="PATH|URL",
+              help="Database to copy into (created and brought to the newest schema if needed).")
+@click.option("--force", is_flag=True,
+              help="Replace everything in a target that already holds data.")
+@format_option("table", "json")
+@pass_state
+def copy(state: CliState, source: str, target: str, force: bool, fmt: str) -> None:
+    """Copy a whole shop (devices, places, lots, ledger, swap log) into another database,
+    keeping ids, e.g. from a bench's SQLite file to the shop's PostgreSQL server:
+
+    \b
+      partsdb copy --from bench.sqlite --to postgresql+psycopg://shop@server/partsdb
+
+    The source is read in one consistent snapshot; the target is written in one transaction
+    and committed only when row counts per table, every lot's quantity and the ledger sum
+    match the source. A target holding data is refused unless --force is given. Give
+    passwords through PGPASSFILE or PGPASSWORD rather than in the URL; they are never printed.
+    """
+    from partsdb.services.shop import copy_database
+    from partsdb.storage.database import open_database
+
+    notify = _notice(state)
+    source_db = open_database(source, notify=notify)  # type: ignore[arg-type]
+    try:
+        target_db = open_database(target, read_only=state.read_only,
+                                  notify=notify)  # type: ignore[arg-type]
+        try:
+            report = copy_database(source_db, target_db, force=force)
+        finally:
+            target_db.dispose()
+    finally:
+        source_db.dispose()
+    if fmt == "json":
+        emit_json(report.to_json())
+    else:
+        _print_report(report, "copied")
+
+
+@click.command("backup")
+@click.argument("dest", type=click.Path(dir_okay=False))
+@click.option("--format", "kind", type=click.Choice(["auto", "sqlite", "zip"]), default="auto",
+              show_default=True,
+              help="sqlite: a SQLite file made with SQLite's online backup API (SQLite databases "
+                   "only); zip: one CSV per table plus manifest.json, restorable into SQLite or "
+                   "PostgreSQL; auto: sqlite for a SQLite database, zip otherwise.")
+@click.option("--force", is_flag=True, help="Overwrite DEST if it exists.")
+@pass_state
+def backup(state: CliState, dest: str, kind: str, force: bool) -> None:
+    """Write a consistent backup of the database to DEST while others may keep working.
+
+    A SQLite database is copied with SQLite's online backup API into a single SQLite file; a
+    PostgreSQL database is exported, in one REPEATABLE READ snapshot, as a portable zip of
+    CSV files (one per table) with a manifest giving the schema revision, row counts and
+    checksums. The zip is for `partsdb restore`, not for spreadsheets (use `partsdb export`).
+    DEST appears only when complete; an existing DEST is refused unless --force is given.
+    """
+    from partsdb.services.shop import backup as make_backup
+
+    report = make_backup(state.database(), dest, fmt=kind, force=force)
+    rows = ", ".join(f"{n} {t}" for t, n in report.tally.rows.items())
+    click.echo(f"backed up {state.database().describe()} to {report.path} ({report.format}, "
+               f"schema {report.revision}): {rows}; stock total {report.tally.stock_total}")
+
+
+@click.command("restore")
+@click.argument("src", type=click.Path(exists=True, dir_okay=False))
+@click.option("--force", is_flag=True,
+              help="Replace everything in a database that already holds data.")
+@pass_state
+def restore(state: CliState, src: str, force: bool) -> None:
+    """Load the backup SRC (a zip or SQLite file from `partsdb backup`) into the database.
+
+    A database holding data is refused unless --force is given; then its whole content is
+    replaced in one transaction, committed only when the result matches the backup's counts.
+    """
+    from partsdb.services.shop import restore as load_backup
+
+    report = load_backup(state.database(), src, force=force)
+    _print_report(report, "restored")
+
+
+COMMANDS = (copy, backup, restore)

@@ -1,0 +1,101 @@
+"""Schema evolution: a database made by an older partsdb is upgraded on open, data intact.
+
+The database is built at revision 0001 with Alembic itself, filled with rows written by plain
+SQL (not by the current services), then opened with ``open_database``. The reference for the
+final schema is Alembic's own comparison of the migrated database with the ORM models
+(``alembic.autogenerate.compare_metadata``), on both backends.
+"""
+
+from __future__ import annotations
+
+from datetime import datetime
+
+import pytest
+from sqlalchemy import insert, inspect, select
+
+from partsdb.services import stock
+from partsdb.storage.database import (
+    ReadOnlyError,
+    current_revision,
+    head_revision,
+    make_engine,
+    open_database,
+    resolve_url,
+    upgrade,
+)
+from partsdb.storage.models import Base, SwapRow
+from tests.storage.workers import dump
+
+AT = datetime(2026, 3, 1, 9, 30, 15, 250000)
+
+
+def _old_database(url: str) -> dict[str, list[tuple[object, ...]]]:
+    """A database at revision 0001 holding one device, two places, a lot and its ledger."""
+    engine = make_engine(resolve_url(url))
+    upgrade(engine, "0001")
+    t = Base.metadata.tables
+    # Ids come from the database (as the old version's inserts did), so sequences stay right.
+    device = {"designation": "ZT303", "key": "ZT303", "kind": "bjt", "polarity": "npn",
+              "material": "si", "vceo": 60.0, "ic_max": 0.8, "ptot": 0.625, "ptot_ref": "ambient",
+              "obsolete": True, "notes": "bought 1994", "low_stock": 4, "updated_at": AT}
+    with engine.begin() as conn:
+        def add(table: str, **values: object) -> int:
+            return int(conn.execute(insert(t[table]).values(**values)).inserted_primary_key[0])
+
+        device_id = add("devices", **device)
+        cabinet = add("locations", parent_id=None, name="K3", path="K3")
+        drawer = add("locations", parent_id=cabinet, name="D2", path="K3/D2")
+        lot = add("lots", device_id=device_id, location_id=drawer, condition="used", quantity=9)
+        add("movements", at=AT, lot_id=lot, change=12, reason="receive")
+        add("movements", at=AT, lot_id=lot, change=-3, reason="take", job="R-1", note="amp")
+    assert current_revision(engine) == "0001"
+    assert "swaps" not in inspect(engine).get_table_names()
+    old_rows = {}
+    with engine.connect() as conn:
+        for name in ("devices", "locations", "lots", "movements"):
+            table = t[name]
+            old_rows[name] = [tuple(r) for r in conn.execute(select(table).order_by(table.c.id))]
+    engine.dispose()
+    return old_rows
+
+
+def test_old_database_is_upgraded_on_open_with_data_intact(db_url: str) -> None:
+    old_rows = _old_database(db_url)
+    notices: list[str] = []
+    db = open_database(db_url, notify=notices.append)
+    assert current_revision(db.engine) == head_revision() != "0001"
+    assert notices == [f"partsdb: upgraded database schema 0001 -> {head_revision()}"]
+    now = dump(db)
+    assert {name: now[name] for name in old_rows} == old_rows
+    assert now["swaps"] == []
+    with db.session() as session:
+        assert stock.ledger_mismatches(session) == []
+        # The upgraded database works like a new one: stock moves and the new swap log.
+        stock.take(session, "ZT303", 2, "K3/D2", job="R-2")
+        session.add(SwapRow(original="ZT303", original_key="ZT303", substitute="ZT101",
+                            substitute_key="ZT101", job="R-2"))
+    with db.session() as session:
+        assert stock.where(session, "ZT303")[0].quantity == 7
+        assert stock.ledger_mismatches(session) == []
+    db.dispose()
+
+
+def test_old_database_is_not_upgraded_read_only(db_url: str) -> None:
+    _old_database(db_url)
+    with pytest.raises(ReadOnlyError, match="needs a schema upgrade"):
+        open_database(db_url, read_only=True, notify=None)
+    engine = make_engine(resolve_url(db_url))
+    assert current_revision(engine) == "0001"
+    engine.dispose()
+
+
+def test_migrations_build_exactly_the_models(db_url: str) -> None:
+    from alembic.autogenerate import compare_metadata
+    from alembic.runtime.migration import MigrationContext
+
+    db = open_database(db_url, notify=None)
+    with db.engine.connect() as conn:
+        context = MigrationContext.configure(conn, opts={"compare_type": True})
+        differences = compare_metadata(context, Base.metadata)
+    db.dispose()
+    assert differences == []
