@@ -1,0 +1,423 @@
+"""The performance harness behind ``partsdb bench``: import, ranking, search and start-up times.
+
+It builds a synthetic catalog (:mod:`partsdb.services.synthetic`, fixed seed) in a temporary
+directory, imports it through the normal importer, and measures each figure as the median of K
+runs after one warm-up run, all in this one process (the two CLI figures time child processes):
+
+* ``import_rows_per_s``: the CSV file read and imported by ``exchange.import_devices`` in one
+  transaction, into a fresh database each run (creating the empty schema is not timed). The
+  warm-up imports the first 2,000 rows, enough to load every module and code path.
+* ``rank_ms``: one ranking by :func:`partsdb.ranking.rank`, called exactly as
+  :func:`partsdb.services.substitution.rank_substitutes` (the CLI's ``substitute``) calls it, with
+  everything it loads already in memory: the catalog columns (the service's per-database cache),
+  the stock quantities and drawers, the policy and weights. ``rank_cold_ms``: the whole service
+  call with that cache cleared first, so the candidates are read from the database each time.
+* ``rank_floor_ms``: a bare numpy boolean filter over the same in-memory columns: polarity and
+  kind, then Vceo, Ic max and Ptot against the requirement. ``rank_ratio`` is rank / floor.
+* ``find_ms``: one :meth:`partsdb.search.SearchIndex.find` on an index already built from the
+  catalog. ``find_floor_ms``: rapidfuzz ``process.extract`` with ``fuzz.ratio``, limit 10, over
+  the plain list of normalised designations, its strings laid out contiguously (as in a fresh
+  process; see :meth:`_Bench.measure_find`). ``find_ratio`` is find / floor.
+* ``cli_help_s`` / ``cli_substitute_s``: wall time of a whole ``partsdb --help`` and of one
+  ``partsdb substitute`` on the demo database (built from ``seed_data/``), as child processes.
+* ``peak_rss_mb``: this process's peak resident memory (``resource.getrusage``), taken last.
+
+A figure that cannot be measured here (a module or the demo seed files missing) is ``None`` and
+the reason is in :attr:`BenchReport.notes`.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+import platform
+import resource
+import shutil
+import statistics
+import subprocess
+import sys
+import tempfile
+import time
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Any
+
+import numpy as np
+
+from partsdb.services.synthetic import SEED, write_catalog_csv
+
+DEFAULT_DEVICES = 200_000
+DEFAULT_REPEAT = 5
+WARMUP_IMPORT_ROWS = 2_000
+
+METRICS: tuple[str, ...] = (
+    "import_rows_per_s", "rank_ms", "rank_cold_ms", "rank_floor_ms", "rank_ratio", "find_ms",
+    "find_floor_ms", "find_ratio", "cli_help_s", "cli_substitute_s", "peak_rss_mb",
+)
+"""Every measured figure, in report order; the JSON adds ``devices`` and ``machine``."""
+
+TARGETS: dict[str, tuple[str, float]] = {
+    "rank_ms": ("<=", 30), "rank_ratio": ("<=", 10), "rank_cold_ms": ("<=", 500),
+    "find_ms": ("<=", 40), "find_ratio": ("<=", 3), "import_rows_per_s": (">=", 20_000),
+    "cli_help_s": ("<=", 0.3), "cli_substitute_s": ("<=", 1.0), "peak_rss_mb": ("<=", 400),
+}
+"""The figures the project aims for at 200,000 devices on a 2-core machine."""
+
+# The mid-range requirement ranked in every run: what a repair of a driver stage might need,
+# given as a spec the way ``partsdb substitute --polarity npn --vceo 60V ...`` gives it.
+REQUIREMENT: dict[str, Any] = {
+    "polarity": "npn", "kind": "bjt", "material": "si", "vceo": 60.0, "ic_max": 1.0,
+    "ptot": 1.0, "ptot_ref": "ambient", "hfe_min": 60.0, "hfe_max": 180.0, "ft": 50e6,
+    "package": "TO-126", "pinout": "ECB",
+}
+STRESS: dict[str, float] = {"vce_peak": 40.0, "ic_peak": 0.5, "power": 0.6, "ambient": 40.0}
+
+Progress = Callable[[str, int, int], None]
+"""``progress(step, done, total)``: called as the harness goes (done == total when a step ends)."""
+
+
+@dataclass
+class BenchReport:
+    """The figures of one bench run, and why any of them is missing."""
+
+    devices: int
+    metrics: dict[str, float | None]
+    machine: dict[str, Any]
+    notes: list[str] = field(default_factory=list)
+    """What is cached where, the queries used, and the reason for each missing figure."""
+
+    def to_json(self) -> dict[str, Any]:
+        """Exactly the metric keys plus ``devices`` and ``machine``."""
+        return {"devices": self.devices, "machine": self.machine,
+                **{name: self.metrics.get(name) for name in METRICS}}
+
+
+def meets_target(name: str, value: float | None) -> bool | None:
+    """Whether ``value`` meets the target of ``name`` (None: no target or no value)."""
+    if name not in TARGETS or value is None:
+        return None
+    op, limit = TARGETS[name]
+    return value <= limit if op == "<=" else value >= limit
+
+
+def machine_info() -> dict[str, Any]:
+    return {"cores": os.cpu_count(), "python": platform.python_version(),
+            "platform": platform.platform(terse=True)}
+
+
+def peak_rss_mb() -> float:
+    """Peak resident memory of this process so far, MiB (ru_maxrss is KiB on Linux, bytes on macOS)."""
+    peak = resource.getrusage(resource.RUSAGE_SELF).ru_maxrss
+    return peak / (1024 * 1024) if sys.platform == "darwin" else peak / 1024
+
+
+def median_seconds(run: Callable[[], Any], repeat: int, warmup: Callable[[], Any] | None = None,
+                   before: Callable[[], Any] | None = None,
+                   tick: Callable[[int], None] | None = None) -> float:
+    """Median wall time of ``repeat`` calls of ``run`` after one warm-up call.
+
+    ``before`` runs untimed ahead of each call (the warm-up too), e.g. to clear a cache.
+    """
+    if before is not None:
+        before()
+    (warmup or run)()
+    times = []
+    for i in range(repeat):
+        if before is not None:
+            before()
+        start = time.perf_counter()
+        run()
+        times.append(time.perf_counter() - start)
+        if tick is not None:
+            tick(i + 1)
+    return statistics.median(times)
+
+
+def _partsdb_command() -> list[str]:
+    """How to start the installed ``partsdb`` command from this interpreter's environment."""
+    beside = Path(sys.executable).with_name("partsdb")
+    if beside.is_file():
+        return [str(beside)]
+    found = shutil.which("partsdb")
+    if found:
+        return [found]
+    return [sys.executable, "-c", "import sys; from partsdb.cli import main; sys.exit(main())"]
+
+
+def _run_cli(args: list[str], env: dict[str, str]) -> None:
+    done = subprocess.run([*_partsdb_command(), *args], env=env, stdout=subprocess.DEVNULL,
+                          stderr=subprocess.PIPE, text=True, timeout=120, check=False)
+    if done.returncode != 0:
+        raise RuntimeError(f"partsdb {' '.join(args)} exited {done.returncode}: "
+                           f"{done.stderr.strip()[-300:]}")
+
+
+class _Bench:
+    def __init__(self, devices: int, repeat: int, workdir: Path, progress: Progress | None,
+                 seed: int) -> None:
+        self.n = devices
+        self.repeat = repeat
+        self.dir = workdir
+        self.progress = progress or (lambda step, done, total: None)
+        self.seed = seed
+        self.metrics: dict[str, float | None] = dict.fromkeys(METRICS)
+        self.notes: list[str] = []
+        self.csv = workdir / "catalog.csv"
+        self.db: Any = None
+
+    # ------------------------------------------------------------------ catalog and import
+
+    def build_csv(self) -> None:
+        done = 0
+
+        def on_rows(count: int) -> None:
+            nonlocal done
+            done += count
+            self.progress("writing the synthetic catalog", done, self.n)
+
+        catalog = write_catalog_csv(self.csv, self.n, self.seed, on_rows)
+        if catalog.fallback_names:
+            self.notes.append(f"{catalog.fallback_names} designations fell back to numbered house "
+                              "names (their scheme's name space was full)")
+        del catalog
+
+    def _fresh_db(self, name: str) -> Any:
+        from partsdb.storage.database import open_database
+
+        path = self.dir / name
+        for suffix in ("", "-wal", "-shm", "-journal"):
+            Path(str(path) + suffix).unlink(missing_ok=True)
+        return open_database(path, notify=None)
+
+    def measure_import(self) -> None:
+        from partsdb.services import exchange
+
+        warm_csv = self.dir / "warmup.csv"
+        with open(self.csv, encoding="utf-8") as src, open(warm_csv, "w", encoding="utf-8") as dst:
+            for i, line in enumerate(src):
+                if i > WARMUP_IMPORT_ROWS:
+                    break
+                dst.write(line)
+        pending: list[Any] = []
+
+        def prepare() -> None:
+            for db in pending:
+                db.dispose()
+            pending.clear()
+            pending.append(self._fresh_db("catalog.sqlite"))
+
+        def import_into(path: Path) -> None:
+            with pending[0].session() as session:
+                exchange.import_devices(session, path=path)
+
+        def tick(i: int) -> None:
+            self.progress(f"importing {self.n:,} rows ({self.repeat} runs)", i, self.repeat)
+
+        self.progress(f"importing {self.n:,} rows ({self.repeat} runs)", 0, self.repeat)
+        seconds = median_seconds(lambda: import_into(self.csv), self.repeat,
+                                 warmup=lambda: import_into(warm_csv), before=prepare, tick=tick)
+        self.db = pending[0]  # the last run's database serves the ranking and search figures
+        self.metrics["import_rows_per_s"] = self.n / seconds
+
+    # ------------------------------------------------------------------ ranking
+
+    def measure_rank(self) -> None:
+        try:
+            from partsdb.ranking import Stress, rank
+            from partsdb.services import substitution
+            from partsdb.services.config import load_policy, load_weights
+        except ImportError as err:
+            self.notes.append(f"rank_ms, rank_cold_ms, rank_floor_ms: not measured, the ranking "
+                              f"engine is not importable ({err})")
+            return
+        step = "ranking substitutes"
+        self.progress(step, 0, 3)
+        stress = Stress(**STRESS)
+
+        def cold() -> Any:
+            return substitution.rank_substitutes(self.db, None, REQUIREMENT, stress, None)
+
+        self.metrics["rank_cold_ms"] = 1000 * median_seconds(
+            cold, self.repeat, before=substitution.clear_cache)
+        self.progress(step, 1, 3)
+
+        # Load everything once exactly as rank_substitutes does, then time rank() alone.
+        policy, weights = load_policy(None), load_weights()
+        with self.db.session() as session:
+            requirement = substitution.build_requirement(session, None, REQUIREMENT)
+            cat = substitution.load_catalog(session)
+            qty, places = substitution.stock_columns(session, cat)
+        result = rank(cat, requirement, stress, policy, weights, qty, history=None,
+                      locations=places, limit=15)
+        if cat.size != self.n or not result.candidates:
+            raise RuntimeError(f"ranking saw {cat.size} rows and returned "
+                               f"{len(result.candidates)} candidates; expected {self.n} rows and "
+                               "some candidates")
+        self.metrics["rank_ms"] = 1000 * median_seconds(
+            lambda: rank(cat, requirement, stress, policy, weights, qty, history=None,
+                         locations=places, limit=15), self.repeat)
+        self.progress(step, 2, 3)
+
+        from partsdb.ranking import KINDS, POLARITIES
+
+        pol = POLARITIES.index(REQUIREMENT["polarity"])
+        kind = KINDS.index(REQUIREMENT["kind"])
+        vceo, ic, ptot = REQUIREMENT["vceo"], REQUIREMENT["ic_max"], REQUIREMENT["ptot"]
+
+        def floor() -> np.ndarray:
+            mask = (cat.polarity == pol) & (cat.kind == kind)
+            mask &= (cat.vceo >= vceo) & (cat.ic_max >= ic) & (cat.ptot >= ptot)
+            return np.flatnonzero(mask)
+
+        self.metrics["rank_floor_ms"] = 1000 * median_seconds(floor, self.repeat)
+        self.progress(step, 3, 3)
+        self.notes.append(
+            f"rank: {result.compatible:,} of {result.considered:,} rows compatible; rank_ms has "
+            "the catalog columns (the service's per-database cache), stock, drawers, policy and "
+            "weights in memory; rank_cold_ms clears that cache before each run")
+
+    # ------------------------------------------------------------------ search
+
+    def measure_find(self) -> None:
+        from rapidfuzz import fuzz, process
+
+        from partsdb.designations import normalize
+
+        try:
+            from partsdb.search import SearchIndex
+        except ImportError as err:
+            self.notes.append(f"find_ms: not measured, the search module is not importable ({err})")
+            SearchIndex = None
+        step = "fuzzy find"
+        self.progress(step, 0, 2)
+        with self.db.session() as session:
+            rows = session.connection().exec_driver_sql(
+                "SELECT designation, notes, key FROM devices ORDER BY key").all()
+        designations = [r[0] for r in rows]
+        notes = [r[1] for r in rows]
+        # The floor's strings laid out one after another, as in a fresh process: after the
+        # imports the heap is churned, and 200,000 scattered string objects made the same
+        # extract 4-6 times slower (cache misses), which is not rapidfuzz's cost.
+        keys = "\n".join(r[2] for r in rows).split("\n")
+        del rows
+        query = sloppy_query(keys[len(keys) // 2])
+        q = normalize(query)
+        self.metrics["find_floor_ms"] = 1000 * median_seconds(
+            lambda: process.extract(q, keys, scorer=fuzz.ratio, limit=10), self.repeat)
+        self.progress(step, 1, 2)
+        if SearchIndex is not None:
+            index = SearchIndex(designations, notes)
+            hits = index.find(query, limit=10)
+            if not hits:
+                raise RuntimeError(f"find {query!r} returned nothing on {self.n:,} devices")
+            self.metrics["find_ms"] = 1000 * median_seconds(
+                lambda: index.find(query, limit=10), self.repeat)
+            self.notes.append(f"find: query {query!r} (a sloppy spelling of "
+                              f"{keys[len(keys) // 2]}), best hit {hits[0].designation} "
+                              f"({hits[0].reason}); index built before timing")
+        self.progress(step, 2, 2)
+
+    # ------------------------------------------------------------------ CLI
+
+    def measure_cli(self) -> None:
+        step = "partsdb as a command"
+        self.progress(step, 0, 2)
+        env = dict(os.environ)
+        env.pop("PARTSDB_DB", None)
+        self.metrics["cli_help_s"] = median_seconds(lambda: _run_cli(["--help"], env), self.repeat)
+        self.progress(step, 1, 2)
+        try:
+            from partsdb.services.demo import DemoError, build_demo
+
+            demo_path = self.dir / "demo.sqlite"
+            demo = build_demo(demo_path)
+        except (ImportError, DemoError) as err:
+            self.notes.append(f"cli_substitute_s: not measured, the demo database cannot be "
+                              f"built ({err})")
+            return
+        try:
+            original = _first_obsolete(demo)
+        finally:
+            demo.dispose()
+        args = ["--db", str(demo_path), "substitute", original]
+        self.metrics["cli_substitute_s"] = median_seconds(lambda: _run_cli(args, env), self.repeat)
+        self.notes.append(f"cli_substitute_s: partsdb substitute {original} on the demo database")
+        self.progress(step, 2, 2)
+
+
+def sloppy_query(key: str) -> str:
+    """A bench-style misspelling of ``key``: lower case, two adjacent digits swapped (or the
+    last character dropped when there are none), so the search must work rather than look up."""
+    text = key.lower()
+    for i in range(len(text) - 1):
+        if text[i].isdigit() and text[i + 1].isdigit() and text[i] != text[i + 1]:
+            return text[:i] + text[i + 1] + text[i] + text[i + 2:]
+    return text[:-1]
+
+
+def _first_obsolete(db: Any) -> str:
+    from sqlalchemy import select
+
+    from partsdb.storage.models import DeviceRow
+
+    with db.session() as session:
+        name = session.scalars(select(DeviceRow.designation).where(DeviceRow.obsolete)
+                               .order_by(DeviceRow.key)).first()
+        if name is None:
+            name = session.scalars(select(DeviceRow.designation).order_by(DeviceRow.key)).first()
+    if name is None:
+        raise RuntimeError("the demo database holds no device")
+    return str(name)
+
+
+def _load_average() -> str:
+    try:
+        return f"{os.getloadavg()[0]:.2f}"
+    except OSError:  # not available on this platform
+        return "unknown"
+
+
+@contextlib.contextmanager
+def _workdir(path: str | os.PathLike[str] | None) -> Iterator[Path]:
+    if path is not None:
+        Path(path).mkdir(parents=True, exist_ok=True)
+        yield Path(path)
+        return
+    with tempfile.TemporaryDirectory(prefix="partsdb-bench-") as tmp:
+        yield Path(tmp)
+
+
+def run_bench(devices: int = DEFAULT_DEVICES, repeat: int = DEFAULT_REPEAT, *,
+              workdir: str | os.PathLike[str] | None = None, progress: Progress | None = None,
+              seed: int = SEED) -> BenchReport:
+    """Build the synthetic catalog of ``devices`` rows and measure every figure (see module doc).
+
+    ``workdir`` keeps the CSV and databases there (default: a temporary directory, removed).
+    """
+    if isinstance(devices, bool) or not isinstance(devices, int) or devices < 100:
+        raise ValueError(f"devices: {devices!r} is not valid; expected a whole number of 100 or more")
+    if isinstance(repeat, bool) or not isinstance(repeat, int) or repeat < 1:
+        raise ValueError(f"repeat: {repeat!r} is not valid; expected a whole number of 1 or more")
+    load_before = _load_average()
+    with _workdir(workdir) as folder:
+        bench = _Bench(devices, repeat, folder, progress, seed)
+        try:
+            bench.build_csv()
+            bench.measure_import()
+            bench.measure_rank()
+            bench.measure_find()
+            bench.measure_cli()
+        finally:
+            if bench.db is not None:
+                bench.db.dispose()
+    m = bench.metrics
+    if m["rank_ms"] is not None and m["rank_floor_ms"]:
+        m["rank_ratio"] = m["rank_ms"] / m["rank_floor_ms"]
+    if m["find_ms"] is not None and m["find_floor_ms"]:
+        m["find_ratio"] = m["find_ms"] / m["find_floor_ms"]
+    m["peak_rss_mb"] = peak_rss_mb()
+    # Other work on the machine skews every figure; the load average says how much there was.
+    bench.notes.append(f"1-minute load average {load_before} at the start, {_load_average()} at "
+                       f"the end ({os.cpu_count()} cores)")
+    return BenchReport(devices, m, machine_info(), bench.notes)

@@ -1,0 +1,104 @@
+"""Smoke runs of ``partsdb bench`` on a small synthetic catalog (no timing assertions).
+
+The harness must run end to end, report every figure with exactly the documented JSON keys, and
+build its catalog through the normal importer. The synthetic catalog itself must be importable,
+unique after normalisation, cover every numbering scheme the decoder knows, and agree with the
+consistency checks (its designations are drawn to match their records).
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from pathlib import Path
+
+import pytest
+from click.testing import CliRunner
+
+from partsdb.bench import METRICS, TARGETS, meets_target, run_bench, sloppy_query
+from partsdb.cli import main
+
+SMALL = 2_000
+
+
+def test_bench_json_has_exactly_the_documented_keys() -> None:
+    result = CliRunner().invoke(main, ["bench", "--devices", str(SMALL), "--repeat", "1",
+                                       "--format", "json"])
+    assert result.exit_code == 0, result.output + (result.stderr or "")
+    data = json.loads(result.stdout)
+    assert set(data) == {"devices", "machine", *METRICS}
+    assert data["devices"] == SMALL
+    assert isinstance(data["machine"]["cores"], int) and data["machine"]["cores"] >= 1
+    assert data["machine"]["python"].count(".") == 2
+    # Every dependency is present in this tree, so every figure is measured.
+    for name in METRICS:
+        assert isinstance(data[name], float) and math.isfinite(data[name]) and data[name] > 0, name
+    assert data["rank_ratio"] == pytest.approx(data["rank_ms"] / data["rank_floor_ms"])
+    assert data["find_ratio"] == pytest.approx(data["find_ms"] / data["find_floor_ms"])
+
+
+def test_bench_table_shows_targets() -> None:
+    result = CliRunner().invoke(main, ["bench", "--devices", "300", "--repeat", "1"])
+    assert result.exit_code == 0, result.output
+    for name in METRICS:
+        assert name in result.stdout
+    assert ">= 20,000" in result.stdout and "<= 400" in result.stdout
+
+
+def test_bench_refuses_a_tiny_catalog() -> None:
+    result = CliRunner().invoke(main, ["bench", "--devices", "10"])
+    assert result.exit_code == 2
+    assert "--devices" in result.output and "10" in result.output
+
+
+def test_harness_imports_the_whole_catalog_through_the_importer(tmp_path: Path) -> None:
+    report = run_bench(SMALL, 1, workdir=tmp_path)
+    assert set(report.to_json()) == {"devices", "machine", *METRICS}
+    # Checked through the library: the last timed import left the whole catalog in the database.
+    from sqlalchemy import func, select
+
+    from partsdb.storage.database import open_database
+    from partsdb.storage.models import DeviceRow
+
+    db = open_database(tmp_path / "catalog.sqlite", notify=None)
+    try:
+        with db.session() as session:
+            assert session.scalar(select(func.count(DeviceRow.id))) == SMALL
+            # Consistency checks agree with every drawn designation.
+            assert session.scalar(select(func.count(DeviceRow.id))
+                                  .where(DeviceRow.warnings.is_not(None))) == 0
+    finally:
+        db.dispose()
+    assert any(note.startswith("rank:") for note in report.notes)
+
+
+def test_synthetic_catalog_is_unique_and_covers_every_scheme() -> None:
+    from partsdb.designations import SCHEMES, decode, normalize
+    from partsdb.services.synthetic import synthetic_frame
+
+    frame = synthetic_frame(SMALL)
+    assert list(frame.columns)[:4] == ["designation", "kind", "polarity", "material"]
+    keys = [normalize(d) for d in frame["designation"]]
+    assert len(set(keys)) == SMALL
+    found = {decode(d).scheme for d in frame["designation"]}
+    assert found == set(SCHEMES)
+    # Same seed, same catalog.
+    assert frame.equals(synthetic_frame(SMALL))
+    # Like a hand-kept file: some quantities carry units, some cells are blank.
+    vceo = frame["vceo"]
+    with_unit = vceo.str.endswith("V").sum()
+    assert 0.1 * SMALL < with_unit < 0.6 * SMALL
+    assert (frame["icbo"] == "").sum() > 0.2 * SMALL
+
+
+def test_meets_target_reads_the_direction() -> None:
+    assert meets_target("rank_ms", TARGETS["rank_ms"][1]) is True
+    assert meets_target("rank_ms", TARGETS["rank_ms"][1] + 1) is False
+    assert meets_target("import_rows_per_s", 19_999) is False
+    assert meets_target("rank_floor_ms", 1.0) is None
+    assert meets_target("find_ms", None) is None
+
+
+def test_sloppy_query_is_a_misspelling() -> None:
+    assert sloppy_query("2SC1815") == "2sc8115"
+    assert sloppy_query("OC7") == "oc"
