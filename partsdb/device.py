@@ -60,13 +60,15 @@ FIELDS: tuple[FieldSpec, ...] = (
     FieldSpec("tj_max", "Tj max", "quantity", "°C", low=40, high=300, help="maximum junction temperature"),
     FieldSpec("hfe_min", "hFE min", "quantity", "", low=1, high=100_000),
     FieldSpec("hfe_max", "hFE max", "quantity", "", low=1, high=100_000),
-    FieldSpec("hfe_ic", "hFE at Ic", "quantity", "A", low=1e-7, high=2000, help="test current of the hFE window"),
+    FieldSpec("hfe_ic", "hFE at Ic", "quantity", "A", low=1e-7, high=2000,
+              help="test current of the hFE window"),
     FieldSpec("ft", "fT", "quantity", "Hz", low=1e3, high=100e9, help="transition frequency"),
     FieldSpec("vbe_on", "Vbe(on)", "quantity", "V", low=0.05, high=5, help="base-emitter voltage at vbe_ic"),
     FieldSpec("vbe_ic", "Vbe at Ic", "quantity", "A", low=1e-7, high=2000, help="test current of Vbe(on)"),
     FieldSpec("vce_sat", "Vce(sat)", "quantity", "V", low=1e-3, high=10),
     FieldSpec("icbo", "Icbo", "quantity", "A", low=1e-15, high=0.1, help="collector-base leakage at 25 °C"),
-    FieldSpec("package", "Package", "text", help="outline such as TO-92, TO-18, TO-126, TO-220, TO-3, SOT-23"),
+    FieldSpec("package", "Package", "text",
+              help="outline such as TO-92, TO-18, TO-126, TO-220, TO-3, SOT-23"),
     FieldSpec("pinout", "Pinout", "text",
               help="lead order as E/B/C letters, read left to right facing the flat (marked) side, "
                    "leads down; for metal cans and SOT-23: pin 1, 2, 3"),
@@ -160,9 +162,8 @@ class Device:
 def parse_bool(value: object, field: str) -> bool:
     if isinstance(value, bool):
         return value
-    if isinstance(value, int | float) and not (isinstance(value, float) and math.isnan(value)):
-        if value in (0, 1):
-            return bool(value)
+    if isinstance(value, int | float) and value in (0, 1):
+        return bool(value)
     text = "" if value is None else str(value).strip().lower()
     if text in TRUE_WORDS:
         return True
@@ -252,7 +253,7 @@ def check_columns(columns: Mapping[str, Any], n: int) -> dict[int, list[tuple[st
         for pos in np.flatnonzero(mask):
             problems.setdefault(int(pos), []).append((name, message(int(pos))))
 
-    cols = {name: _floats(columns.get(name), n) for name in QUANTITY_FIELDS + ("low_stock",)
+    cols = {name: _floats(columns.get(name), n) for name in (*QUANTITY_FIELDS, "low_stock")
             if name in columns}
     for name, values in cols.items():
         spec = FIELD_BY_NAME[name]

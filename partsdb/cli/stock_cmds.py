@@ -21,7 +21,11 @@ CONDITION = click.Choice(["new", "used", "pulled", "tested"], case_sensitive=Fal
 
 @click.group()
 def stock() -> None:
-    """Stock by place: every change is written to the ledger in the same transaction."""
+    """Stock by place: every change is written to the ledger in the same transaction.
+
+    Changes run through Database.transact, so a shared server's serialization failure or
+    deadlock is retried rather than reported.
+    """
 
 
 def _said(verb: str, view: object) -> None:
@@ -46,8 +50,8 @@ def receive(state: CliState, designation: str, qty: int, to: str, condition: str
     """Parts arrive (bought, salvaged) into a drawer."""
     from partsdb.services import stock as svc
 
-    with state.database().session() as session:
-        view = svc.receive(session, designation, qty, to, condition.lower(), job, note)
+    view = state.database().transact(
+        lambda session: svc.receive(session, designation, qty, to, condition.lower(), job, note))
     _said("received", view)
 
 
@@ -64,8 +68,8 @@ def take(state: CliState, designation: str, qty: int, from_: str, condition: str
     """Take parts out of a drawer (refused, changing nothing, if fewer are there)."""
     from partsdb.services import stock as svc
 
-    with state.database().session() as session:
-        view = svc.take(session, designation, qty, from_, condition, job, note)
+    view = state.database().transact(
+        lambda session: svc.take(session, designation, qty, from_, condition, job, note))
     _said("took", view)
 
 
@@ -83,8 +87,8 @@ def return_(state: CliState, designation: str, qty: int, to: str, condition: str
     """Put unused parts back from a job."""
     from partsdb.services import stock as svc
 
-    with state.database().session() as session:
-        view = svc.return_parts(session, designation, qty, to, condition, job, note)
+    view = state.database().transact(
+        lambda session: svc.return_parts(session, designation, qty, to, condition, job, note))
     _said("returned", view)
 
 
@@ -101,8 +105,8 @@ def move(state: CliState, designation: str, qty: int, from_: str, to: str,
     """Move parts from one place to another."""
     from partsdb.services import stock as svc
 
-    with state.database().session() as session:
-        source, target = svc.move(session, designation, qty, from_, to, condition, None, note)
+    source, target = state.database().transact(
+        lambda session: svc.move(session, designation, qty, from_, to, condition, None, note))
     _said("moved from", source)
     _said("moved to", target)
 
@@ -119,8 +123,8 @@ def count(state: CliState, designation: str, qty: int, at: str, condition: str |
     """Record a stock-take: set the counted quantity; the ledger keeps the difference."""
     from partsdb.services import stock as svc
 
-    with state.database().session() as session:
-        view, diff = svc.count(session, designation, qty, at, condition, None, note)
+    view, diff = state.database().transact(
+        lambda session: svc.count(session, designation, qty, at, condition, None, note))
     _said(f"counted ({diff:+d})", view)
 
 

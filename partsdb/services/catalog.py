@@ -76,7 +76,7 @@ def suggest(session: Session, text: str, limit: int = 3) -> list[str]:
     """Close spellings of ``text`` among stored designations (for "not found" messages)."""
     from partsdb.search import SearchIndex
 
-    designations, notes = designations_and_notes(session)
+    designations, _notes = designations_and_notes(session)
     if not designations:
         return []
     hits = SearchIndex(designations).find(text, limit=limit)

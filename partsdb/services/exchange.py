@@ -23,9 +23,9 @@ from sqlalchemy.orm import Session
 
 from partsdb.designations import normalize
 from partsdb.device import (
+    FALSE_WORDS,
     FIELD_BY_NAME,
     FIELD_NAMES,
-    FALSE_WORDS,
     FIELDS,
     TRUE_WORDS,
     Device,

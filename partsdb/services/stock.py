@@ -264,10 +264,13 @@ def move(session: Session, designation: str, qty: int, from_: str, to: str,
     if target_place.id == source.location_id:
         raise StockError(f"move: from and to are the same place ({target_place.path})")
     target = _get_or_create_lot(session, device, target_place, source.condition)
-    _apply(session, source, -qty, "move", job, note,
-           f"cannot move {qty} {device.designation} from {source.location.path}: only {{have}} "
-           "there; nothing was changed")
-    _apply(session, target, qty, "move", job, note, "cannot move")
+    out = (source, -qty, f"cannot move {qty} {device.designation} from {source.location.path}: "
+                         "only {have} there; nothing was changed")
+    into = (target, qty, "cannot move")
+    # Lots are changed in id order, so two benches moving between the same two drawers in
+    # opposite directions take their row locks in the same order and cannot deadlock.
+    for lot, delta, refusal in sorted((out, into), key=lambda step: step[0].id):
+        _apply(session, lot, delta, "move", job, note, refusal)
     return _view(source), _view(target)
 
 

@@ -77,8 +77,9 @@ def make_engine(url: URL) -> Engine:
     if url.get_backend_name() == "sqlite":
         if url.database and url.database != ":memory:":
             Path(url.database).parent.mkdir(parents=True, exist_ok=True)
-        # The driver's own transaction handling is replaced by explicit BEGIN so that
-        # SERIALIZABLE-like behaviour holds across reads and writes in one transaction.
+        # Python's sqlite3 opens a transaction before the first write; every stock change is
+        # one guarded UPDATE (see services/stock.py), so it needs nothing stronger. The
+        # timeout is the busy wait for another writer's lock.
         engine = create_engine(url, connect_args={"timeout": SQLITE_BUSY_TIMEOUT_MS / 1000})
         event.listen(engine, "connect", _sqlite_pragmas)
         return engine

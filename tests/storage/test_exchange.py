@@ -74,7 +74,7 @@ def test_reimport_updates_in_place(empty_db, tmp_path: Path) -> None:  # type: i
 def test_unknown_column_lists_known_ones(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
     path = tmp_path / "d.csv"
     path.write_text("designation,kind,polarity,material,colour\nQ1,bjt,npn,si,red\n")
-    with pytest.raises(ImportRejected, match="colour.*known columns are designation"), \
+    with pytest.raises(ImportRejected, match=r"colour.*known columns are designation"), \
             empty_db.session() as session:
         exchange.import_devices(session, path)
 

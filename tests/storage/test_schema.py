@@ -5,7 +5,14 @@ from __future__ import annotations
 from sqlalchemy import select
 
 from partsdb.services import catalog, stock
-from partsdb.storage.database import current_revision, head_revision, make_engine, open_database, resolve_url, upgrade
+from partsdb.storage.database import (
+    current_revision,
+    head_revision,
+    make_engine,
+    open_database,
+    resolve_url,
+    upgrade,
+)
 from partsdb.storage.models import Base
 
 
