@@ -70,3 +70,10 @@ def test_sqlite_pragmas(tmp_path) -> None:  # type: ignore[no-untyped-def]
         assert conn.exec_driver_sql("PRAGMA journal_mode").scalar() == "wal"
         assert conn.exec_driver_sql("PRAGMA busy_timeout").scalar() > 0
     db.dispose()
+
+
+def test_schema_head_constant_matches_alembic() -> None:
+    # open_database compares against SCHEMA_HEAD without importing Alembic; it must not drift.
+    from partsdb.storage.database import SCHEMA_HEAD
+
+    assert head_revision() == SCHEMA_HEAD
