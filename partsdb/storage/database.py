@@ -166,23 +166,15 @@ class Database:
         40P01, PostgreSQL docs Appendix A); ``work`` must therefore only touch the database.
         SQLite needs no re-run: a locked database is waited for up to the busy timeout."""
         for attempt in range(attempts):
-            session = self._sessions()
             try:
-                result = work(session)
-                session.commit()
-                return result
-            except OperationalError as err:
-                session.rollback()
-                if is_transient(err) and attempt + 1 < attempts:
+                with self.session() as session:
+                    return work(session)
+            except DatabaseError as err:
+                if is_transient(err.__cause__) and attempt + 1 < attempts:
                     # Random back-off so the transactions that collided do not collide again.
                     time.sleep(random.uniform(0.0, 0.02 * 2 ** attempt))
                     continue
-                raise _friendly(err, self) from err
-            except BaseException:
-                session.rollback()
                 raise
-            finally:
-                session.close()
         raise AssertionError("unreachable")  # pragma: no cover
 
     def dispose(self) -> None:
@@ -193,7 +185,7 @@ TRANSIENT_SQLSTATES = frozenset({"40001", "40P01"})
 """serialization_failure, deadlock_detected: the transaction may simply be run again."""
 
 
-def is_transient(err: BaseException) -> bool:
+def is_transient(err: BaseException | None) -> bool:
     """Whether a database error means "run the same transaction again" (see TRANSIENT_SQLSTATES)."""
     orig = getattr(err, "orig", err)
     return getattr(orig, "sqlstate", None) in TRANSIENT_SQLSTATES
