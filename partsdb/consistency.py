@@ -15,6 +15,11 @@ from partsdb.designations import Decoded, decode
 from partsdb.device import Device
 from partsdb.units import format_quantity
 
+CHECKED_FIELDS: tuple[str, ...] = ("designation", "kind", "polarity", "material", "ptot", "ptot_ref",
+                                   "tj_max", "ft")
+"""The only Device fields :func:`consistency_warnings` reads (the importer sets just these on one
+reused record; a test holds the checker to this list)."""
+
 _MATERIAL_WORDS: dict[str, str] = {"si": "silicon", "ge": "germanium", "other": "other material",
                                    "iii-v": "a III-V compound"}
 # Device.material has no III-V choice; such parts are entered as "other".
@@ -94,44 +99,55 @@ def _power(device: Device, d: Decoded) -> list[str]:
     if tj <= 25:
         return []
     split = (tj - 25.0) / PRO_ELECTRON_RTH_SPLIT
-    tj_text = f"Tj max {tj:g} °C" + (" assumed" if assumed else "")
-    ptot = format_quantity(device.ptot, "W")
-    rated = {"case": " (case-rated)", "ambient": " (free air)"}.get(device.ptot_ref or "", "")
-    meaning = d.device_type.removeprefix("transistor, ") if d.device_type else d.power_class
+    # The tests come first and the sentences are built only for a contradiction: formatting a
+    # quantity is far slower than the comparison, and most records of a catalog agree.
     if d.power_class == "small-signal":
         # Rth j-a >= Rth j-mb, so a free-air rating above the split is above it at the case too.
         if device.ptot > split * ROUNDING_MARGIN:
-            return [f"second letter {d.type_letter} means {meaning} (Rth j-mb > 15 K/W, so Ptot "
-                    f"below about {format_quantity(split, 'W')} at {tj_text}) but Ptot is "
-                    f"{ptot}{rated}"]
+            return [f"second letter {d.type_letter} means {_meaning(d)} (Rth j-mb > 15 K/W, so "
+                    f"Ptot below about {format_quantity(split, 'W')} at {_tj_text(tj, assumed)})"
+                    f" but Ptot is {_ptot_text(device)}"]
         return []
     if device.ptot_ref == "case":
         if device.ptot * ROUNDING_MARGIN < split:
-            return [f"second letter {d.type_letter} means {meaning} (Rth j-mb <= 15 K/W, so "
+            return [f"second letter {d.type_letter} means {_meaning(d)} (Rth j-mb <= 15 K/W, so "
                     f"case-rated Ptot of at least about {format_quantity(split, 'W')} at "
-                    f"{tj_text}) but Ptot is {ptot}{rated}"]
+                    f"{_tj_text(tj, assumed)}) but Ptot is {_ptot_text(device)}"]
         return []
     if device.ptot < FREE_AIR_POWER_FLOOR:
-        return [f"second letter {d.type_letter} means {meaning} but Ptot is {ptot}{rated}; "
-                f"power packages are rated above {format_quantity(FREE_AIR_POWER_FLOOR, 'W')} "
-                "even in free air (common practice)"]
+        return [f"second letter {d.type_letter} means {_meaning(d)} but Ptot is "
+                f"{_ptot_text(device)}; power packages are rated above "
+                f"{format_quantity(FREE_AIR_POWER_FLOOR, 'W')} even in free air (common practice)"]
     return []
+
+
+def _meaning(d: Decoded) -> str:
+    return d.device_type.removeprefix("transistor, ") if d.device_type else str(d.power_class)
+
+
+def _tj_text(tj: float, assumed: bool) -> str:
+    return f"Tj max {tj:g} °C" + (" assumed" if assumed else "")
+
+
+def _ptot_text(device: Device) -> str:
+    """Ptot for a warning, with how it is rated ("1.2 W (case-rated)")."""
+    rated = {"case": " (case-rated)", "ambient": " (free air)"}.get(device.ptot_ref or "", "")
+    return f"{format_quantity(device.ptot, 'W')}{rated}"
 
 
 def _frequency(device: Device, d: Decoded) -> list[str]:
     if device.ft is None:
         return []
-    ft = format_quantity(device.ft, "Hz")
     if d.scheme == "jis" and d.application == "high-frequency" \
             and device.ft < JIS_HIGH_FREQUENCY_FT_FLOOR:
-        return [f"{_label(d)} means high-frequency but fT is {ft} (common practice: such types "
-                f"have fT above {format_quantity(JIS_HIGH_FREQUENCY_FT_FLOOR, 'Hz')}); check "
-                "the unit"]
+        return [f"{_label(d)} means high-frequency but fT is {format_quantity(device.ft, 'Hz')} "
+                "(common practice: such types have fT above "
+                f"{format_quantity(JIS_HIGH_FREQUENCY_FT_FLOOR, 'Hz')}); check the unit"]
     if d.scheme == "pro-electron" and d.application == "rf" \
             and device.ft < PRO_ELECTRON_RF_FT_FLOOR:
-        return [f"second letter {d.type_letter} means RF but fT is {ft} (common practice: RF "
-                f"types have fT above {format_quantity(PRO_ELECTRON_RF_FT_FLOOR, 'Hz')}); check "
-                "the unit"]
+        return [f"second letter {d.type_letter} means RF but fT is "
+                f"{format_quantity(device.ft, 'Hz')} (common practice: RF types have fT above "
+                f"{format_quantity(PRO_ELECTRON_RF_FT_FLOOR, 'Hz')}); check the unit"]
     return []
 
 

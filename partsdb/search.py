@@ -19,7 +19,7 @@ used: it scores very short strings too high (RECIPES.md).
 from __future__ import annotations
 
 import re
-from collections.abc import Sequence
+from collections.abc import Iterable, Sequence
 from dataclasses import asdict, dataclass
 from typing import Any
 
@@ -100,6 +100,22 @@ def _leading_zero_as_o(query: str) -> str:
     return query
 
 
+def _consecutive(keys: Iterable[str]) -> list[str]:
+    """The strings as new objects laid out one after another in memory.
+
+    After a large import the heap is full of freed slots; strings made one by one land in them,
+    scattered, and the one rapidfuzz pass over 200,000 keys ran 2-6 times slower from cache
+    misses alone (measured with ``partsdb bench``). A first split of the joined text takes those
+    scattered slots of each size and is dropped; the second gets fresh, consecutive memory.
+    The keys hold no newline: normalize() removes all white space.
+    """
+    blob = "\n".join(keys)
+    spare = blob.split("\n")
+    out = blob.split("\n")
+    del spare
+    return out
+
+
 class SearchIndex:
     """Designations (and notes) prepared once for many fast ``find`` calls."""
 
@@ -107,7 +123,7 @@ class SearchIndex:
                  notes: Sequence[str | None] | None = None) -> None:
         self._designations: list[str] = list(designations)
         n = len(self._designations)
-        self._keys: list[str] = [normalize(d) for d in self._designations]
+        self._keys: list[str] = _consecutive(map(normalize, self._designations)) if n else []
         self._exact: dict[str, list[int]] = {}
         for i, key in enumerate(self._keys):
             self._exact.setdefault(key, []).append(i)

@@ -1,10 +1,13 @@
 """CSV exchange of devices and stock (pandas), all-or-nothing.
 
 An import reads the whole file, checks every row, and writes nothing unless every row is good;
-the report lists every bad row by its line number in the file (the header is line 1). Plain
-numeric cells are parsed column-wise; only cells carrying units or R-notation take the slower
-per-cell path, so a catalog of 200,000 rows imports in seconds. Re-importing a file updates the
-records in place (matched by normalised designation), so it never duplicates.
+the report lists every bad row by its line number in the file (the header is line 1). The file
+is read and parsed CHUNK_ROWS rows at a time into columns (float arrays, lists of shared
+strings), so the text cells of the whole file are never in memory at once; rows are written
+only after the last chunk has parsed. Plain numeric cells are parsed column-wise; only cells
+carrying units or R-notation take the slower per-cell path, so a catalog of 200,000 rows imports
+in seconds. Re-importing a file updates the records in place (matched by normalised
+designation), so it never duplicates.
 
 Export writes SI base units and neutralises spreadsheet formula injection: a text cell starting
 with = + - @ TAB or CR gets a leading apostrophe (OWASP "CSV Injection"), while numbers such as
@@ -14,7 +17,9 @@ with = + - @ TAB or CR gets a leading apostrophe (OWASP "CSV Injection"), while 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+import re
+from collections.abc import Iterator
+from dataclasses import dataclass, field, fields
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -35,7 +40,6 @@ from partsdb.device import (
     parse_field,
 )
 from partsdb.services import catalog
-from partsdb.services.catalog import device_values
 from partsdb.storage.models import DeviceRow
 from partsdb.units import UnitError
 
@@ -72,6 +76,43 @@ class ImportReport:
                 + (f", {len(self.warnings)} warning(s)" if self.warnings else ""))
 
 
+CHUNK_ROWS = 20_000
+"""Rows parsed at a time: the text cells of one chunk are freed before the next is read, so a
+200,000-row import never holds the whole file as Python strings (about 1.4 KB a row)."""
+
+
+def _open_error(path: str | Path, err: Exception) -> ImportRejected:
+    import pandas as pd
+
+    if isinstance(err, FileNotFoundError):
+        return ImportRejected([(0, f"file {str(path)!r} not found")])
+    if isinstance(err, pd.errors.EmptyDataError):
+        return ImportRejected([(0, f"file {str(path)!r} is empty")])
+    return ImportRejected([(0, f"file {str(path)!r} is not a readable CSV: {err}")])
+
+
+def _read_errors() -> tuple[type[Exception], ...]:
+    import pandas as pd
+
+    return (FileNotFoundError, pd.errors.ParserError, UnicodeDecodeError, pd.errors.EmptyDataError)
+
+
+def _tidy(frame: pd.DataFrame) -> pd.DataFrame:
+    """Header names stripped and lower-cased; our own formula guard undone."""
+    frame.columns = [str(c).strip().lower() for c in frame.columns]
+    # Undo our own export's formula neutralising ("'=x" -> "=x") so files round-trip. One C-speed
+    # scan of the joined column finds the columns with any cell starting with an apostrophe; only
+    # those take the per-cell match (a false alarm from a cell holding NUL only costs time).
+    for col in frame.columns:
+        cells = frame[col]
+        if len(cells) == 0 or "\x00'" not in "\x00" + "\x00".join(cells.astype(str).tolist()):
+            continue
+        guarded = cells.str.match(r"^'[=+\-@\t\r\n]")
+        if guarded.any():
+            frame[col] = cells.where(~guarded, cells.str[1:])
+    return frame
+
+
 def read_csv(path: str | Path) -> pd.DataFrame:
     """Read a CSV as text cells (nothing guessed), blank cells as empty strings."""
     import pandas as pd
@@ -79,41 +120,83 @@ def read_csv(path: str | Path) -> pd.DataFrame:
     try:
         frame = pd.read_csv(path, dtype=str, keep_default_na=False, skipinitialspace=True,
                             encoding="utf-8-sig")
-    except FileNotFoundError as err:
-        raise ImportRejected([(0, f"file {str(path)!r} not found")]) from err
-    except (pd.errors.ParserError, UnicodeDecodeError) as err:
-        raise ImportRejected([(0, f"file {str(path)!r} is not a readable CSV: {err}")]) from err
-    except pd.errors.EmptyDataError as err:
-        raise ImportRejected([(0, f"file {str(path)!r} is empty")]) from err
-    frame.columns = [str(c).strip().lower() for c in frame.columns]
-    # Undo our own export's formula neutralising ("'=x" -> "=x") so files round-trip.
-    for col in frame.columns:
-        cells = frame[col]
-        guarded = cells.str.match(r"^'[=+\-@\t\r\n]")
-        if guarded.any():
-            frame[col] = cells.where(~guarded, cells.str[1:])
-    return frame
+    except _read_errors() as err:
+        raise _open_error(path, err) from err
+    return _tidy(frame)
+
+
+def read_csv_chunks(path: str | Path, rows: int | None = None) -> Iterator[pd.DataFrame]:
+    """:func:`read_csv` ``rows`` (default :data:`CHUNK_ROWS`) rows at a time; a header-only file
+    gives one empty frame."""
+    import pandas as pd
+
+    try:
+        reader = pd.read_csv(path, dtype=str, keep_default_na=False, skipinitialspace=True,
+                             encoding="utf-8-sig", chunksize=rows or CHUNK_ROWS)
+    except _read_errors() as err:
+        raise _open_error(path, err) from err
+    with reader:
+        first = True
+        while True:
+            try:
+                frame = next(reader)
+            except StopIteration:
+                if first:  # header only: the columns still have to be checked
+                    yield _tidy(pd.DataFrame(columns=_header_of(path), dtype=str))
+                return
+            except _read_errors() as err:
+                raise _open_error(path, err) from err
+            first = False
+            yield _tidy(frame)
+
+
+def _header_of(path: str | Path) -> list[str]:
+    import pandas as pd
+
+    return [str(c) for c in pd.read_csv(path, dtype=str, nrows=0, skipinitialspace=True,
+                                        encoding="utf-8-sig").columns]
 
 
 # ---------------------------------------------------------------- devices
 
+def _stripped(cells: pd.Series) -> list[str]:
+    """The cells with surrounding white space removed, as a list (str.strip, as parse_field does).
+
+    A list comprehension: pandas' ``.str`` methods cost about three times as much per cell.
+    """
+    return [cell.strip() for cell in cells.tolist()]
+
+
+# Cells made only of these characters are numbers exactly when Python's float() reads them, and
+# then float() and units.parse_quantity read them alike (its number pattern is the decimal
+# float syntax); anything else (units, R-notation, "inf", "1_000", junk) goes to the slower paths.
+_NUMBER_CHARS = "0123456789.+-eE"
+
+
 def _parse_quantity_column(name: str, cells: pd.Series, problems: dict[int, list[str]]
                            ) -> np.ndarray:
-    """Column-wise parse: numbers vectorised, only unit-bearing cells one by one."""
+    """Column-wise parse: plain numbers vectorised, only unit-bearing cells one by one."""
     import numpy as np
-    import pandas as pd
 
-    text = cells.str.strip()
-    blank = text.isin(["", "—"]).to_numpy()
-    numbers = pd.to_numeric(text.where(~blank), errors="coerce").to_numpy(dtype=float, copy=True)
+    text = _stripped(cells)
+    n = len(text)
+    raw = np.empty(n, dtype=object)
+    raw[:] = text
+    blank = (raw == "") | (raw == "—")
+    plain = np.array([not cell.strip(_NUMBER_CHARS) for cell in text], dtype=bool) & ~blank
+    numbers = np.full(n, np.nan)
+    if plain.any():
+        try:
+            numbers[plain] = raw[plain].astype(float)
+        except ValueError:  # a stray "." or "1-2": read those one by one below
+            numbers[plain] = [_float_or_nan(cell) for cell in raw[plain].tolist()]
     pending = ~blank & np.isnan(numbers)
     spec = FIELD_BY_NAME[name]
     if pending.any() and spec.kind == "quantity":
-        # The common written form "40V", "300 MHz", "200mA" in one vectorised pass; anything
-        # else (R-notation, junk) falls through to the per-cell parser and its messages.
-        numbers, pending = _scale_plain(text, numbers, pending, spec.unit)
+        # The common written form "40V", "300 MHz", "200mA" in one pass; anything else
+        # (R-notation, junk) falls through to the per-cell parser and its messages.
+        numbers, pending = _scale_plain(raw, numbers, pending, spec.unit)
     slow = np.flatnonzero(pending)
-    raw = text.to_numpy()
     for pos in slow:
         try:
             numbers[pos] = parse_field(name, raw[pos])
@@ -133,57 +216,109 @@ def _parse_quantity_column(name: str, cells: pd.Series, problems: dict[int, list
     return numbers
 
 
+def _float_or_nan(cell: str) -> float:
+    try:
+        return float(cell)
+    except ValueError:
+        return math.nan
+
+
 _PLAIN_WITH_UNIT = r"^([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([TGMkKmuµμnpf]?)\s*({unit})$"
+_UNIT_PATTERNS: dict[str, Any] = {}
 
 
-def _scale_plain(text: pd.Series, numbers: np.ndarray, pending: np.ndarray, unit: str
+def _unit_pattern(unit: str) -> Any:
+    from partsdb.units import UNIT_SPELLINGS
+
+    if unit not in _UNIT_PATTERNS:
+        spellings = [re.escape(u) for u in UNIT_SPELLINGS.get(unit, ()) if u]
+        _UNIT_PATTERNS[unit] = (re.compile(_PLAIN_WITH_UNIT.format(unit="|".join(spellings)),
+                                           re.IGNORECASE) if spellings else None)
+    return _UNIT_PATTERNS[unit]
+
+
+def _scale_plain(raw: np.ndarray, numbers: np.ndarray, pending: np.ndarray, unit: str
                  ) -> tuple[np.ndarray, np.ndarray]:
-    """Parse "number [prefix] unit" cells column-wise with the same prefix table as units.py."""
-    import re
+    """Parse "number [prefix] unit" cells with the same prefix table as units.py.
 
+    Only the pending cells (about a third of a hand-kept column) are matched, with one compiled
+    pattern; pandas' ``str.extract`` builds a frame per call and cost several times more.
+    """
     import numpy as np
 
-    from partsdb.units import PREFIXES, UNIT_SPELLINGS
+    from partsdb.units import PREFIXES
 
-    spellings = [re.escape(u) for u in UNIT_SPELLINGS.get(unit, ()) if u]
-    if not spellings:
+    pattern = _unit_pattern(unit)
+    if pattern is None:
         return numbers, pending
-    pattern = _PLAIN_WITH_UNIT.format(unit="|".join(spellings))
-    subset = text[pending]
-    parts = subset.str.extract(pattern, flags=re.IGNORECASE)
-    matched = parts[0].notna().to_numpy()
-    # A lower-case-insensitive match must not turn "m" (milli) into "M" (mega): prefixes are
-    # taken exactly as written, from the original text.
-    factor = parts[1].fillna("").map(PREFIXES).to_numpy(dtype=float)
-    matched = matched & ~np.isnan(factor)  # a letter the case-folded match took for a prefix
-    values = parts[0].astype(float).to_numpy() * factor
-    positions = np.flatnonzero(pending)[matched]
-    numbers[positions] = values[matched]
-    pending = pending.copy()
-    pending[positions] = False
+    positions = np.flatnonzero(pending)
+    done = []
+    values = []
+    match = pattern.match
+    for pos, cell in zip(positions.tolist(), raw[positions].tolist(), strict=True):
+        m = match(cell)
+        # A case-insensitive match must not turn "m" (milli) into "M" (mega): the prefix is
+        # taken exactly as written; a letter the case-folded match took for a prefix ("U", "t")
+        # is left to the per-cell parser.
+        if m is not None and (factor := PREFIXES.get(m.group(2))) is not None:
+            done.append(pos)
+            values.append(float(m.group(1)) * factor)
+    if done:
+        numbers[done] = values
+        pending = pending.copy()
+        pending[done] = False
     return numbers, pending
+
+
+def _parse_words(name: str, cells: list[str], wanted: list[bool], table: dict[str, Any],
+                 problems: dict[int, list[str]]) -> list[Any]:
+    """A choice or yes/no column: the lower-cased cells found in ``table``, the rest (aliases,
+    blanks of a required field, junk) through parse_field, once per distinct cell text."""
+    out: list[Any] = []
+    odd: dict[str, Any] = {}
+    for pos, (cell, ok) in enumerate(zip(cells, wanted, strict=True)):
+        if ok:
+            out.append(table[cell.strip().lower()])
+            continue
+        if cell not in odd:
+            try:
+                odd[cell] = parse_field(name, cell)
+            except UnitError as err:
+                odd[cell] = err
+        value = odd[cell]
+        if isinstance(value, UnitError):
+            problems.setdefault(pos, []).append(str(value))
+            value = None
+        out.append(value)
+    return out
 
 
 def _parse_choice_column(name: str, cells: pd.Series, problems: dict[int, list[str]]
                          ) -> list[str | None]:
-    import numpy as np
-
     spec = FIELD_BY_NAME[name]
-    lowered = cells.str.strip().str.lower()
-    ok = (lowered.isin(spec.choices) | (lowered.eq("") & (not spec.required))).to_numpy()
-    out: list[str | None] = [v or None for v in lowered.tolist()]
-    for pos in np.flatnonzero(~ok):
-        try:
-            out[pos] = parse_field(name, cells.iloc[pos])
-        except UnitError as err:
-            problems.setdefault(int(pos), []).append(str(err))
-    return out
+    # The choice strings themselves, not one new lower-cased string per cell: a 200,000-row
+    # import keeps these columns until the write.
+    table: dict[str, str | None] = {c: c for c in spec.choices}
+    if not spec.required:
+        table[""] = None
+    raw = cells.tolist()
+    wanted = [cell.strip().lower() in table for cell in raw]
+    return _parse_words(name, raw, wanted, table, problems)
 
 
-def parse_device_frame(frame: pd.DataFrame) -> tuple[list[Device], dict[int, list[str]]]:
-    """Devices from a frame of text cells, and problems by row position (column-wise)."""
-    import numpy as np
+def _parse_bool_column(name: str, cells: pd.Series, problems: dict[int, list[str]]) -> list[bool]:
+    table = {**dict.fromkeys(TRUE_WORDS, True), **dict.fromkeys(FALSE_WORDS, False)}
+    raw = cells.tolist()
+    wanted = [cell.strip().lower() in table for cell in raw]
+    return _parse_words(name, raw, wanted, table, problems)
 
+
+def _text_column(cells: pd.Series) -> list[str | None]:
+    return [cell.strip() or None for cell in cells.tolist()]
+
+
+def _parse_chunk(frame: pd.DataFrame) -> tuple[dict[str, Any], dict[int, list[str]]]:
+    """Parsed columns of one frame of text cells, and problems by row position in the frame."""
     problems: dict[int, list[str]] = {}
     n = len(frame)
     columns: dict[str, Any] = {}
@@ -196,51 +331,91 @@ def parse_device_frame(frame: pd.DataFrame) -> tuple[list[Device], dict[int, lis
         elif spec.kind == "choice":
             columns[spec.name] = _parse_choice_column(spec.name, cells, problems)
         elif spec.kind == "bool":
-            lowered = cells.str.strip().str.lower()
-            values = lowered.isin(TRUE_WORDS).tolist()
-            for pos in np.flatnonzero(~(lowered.isin(TRUE_WORDS) | lowered.isin(FALSE_WORDS))
-                                      .to_numpy()):
-                try:
-                    values[pos] = parse_field(spec.name, cells.iloc[pos])
-                except UnitError as err:
-                    problems.setdefault(int(pos), []).append(str(err))
-            columns[spec.name] = values
+            columns[spec.name] = _parse_bool_column(spec.name, cells, problems)
         else:
-            stripped = cells.str.strip()
-            columns[spec.name] = [v or None for v in stripped.tolist()]
+            columns[spec.name] = _text_column(cells)
     if "pinout" in columns:
-        columns["pinout"] = [normalize_pinout(v) for v in columns["pinout"]]
+        # A catalog has a handful of distinct pinouts: each is normalised once.
+        pinouts = {v: normalize_pinout(v) for v in set(columns["pinout"])}
+        columns["pinout"] = [pinouts[v] for v in columns["pinout"]]
     for pos, found in check_columns(columns, n).items():
         seen = {m.split(":")[0] for m in problems.get(pos, [])}
         problems.setdefault(pos, []).extend(msg for fld, msg in found if fld not in seen)
-    problems = {pos: msgs for pos, msgs in problems.items() if msgs}
-
-    # Rows of plain Python values: NaN -> None, floats as float, counts as int.
-    as_lists: dict[str, list[Any]] = {}
-    for name, col in columns.items():
-        if isinstance(col, np.ndarray):
-            values = col.tolist()
-            as_lists[name] = [None if v != v else v for v in values]
-        else:
-            as_lists[name] = col
-    if "low_stock" in as_lists:
-        as_lists["low_stock"] = [None if v is None else int(v) for v in as_lists["low_stock"]]
-    names = list(as_lists)
-    devices = [Device(**dict(zip(names, row, strict=True)))
-               for row in zip(*as_lists.values(), strict=True)]
-    return devices, problems
+    return columns, {pos: msgs for pos, msgs in problems.items() if msgs}
 
 
-def import_devices(session: Session, path: str | Path | None = None,
-                   frame: pd.DataFrame | None = None, strict: bool = False) -> ImportReport:
-    """Import device rows from a CSV file (or a frame of text cells); all or nothing.
+_DEFAULTS: dict[str, Any] = {f.name: f.default for f in fields(Device) if f.name in FIELD_NAMES}
 
-    ``strict`` turns consistency warnings (designation vs fields) into errors.
+
+class _Columns:
+    """Every field of every parsed row, column by column, in file order.
+
+    Quantities are float arrays (NaN for blank), the rest lists; a column the file does not
+    have holds the :class:`Device` default. Built chunk by chunk, so the text frame of a chunk
+    can be freed as soon as it is parsed, and never turned into one object per row.
     """
-    if frame is None:
-        if path is None:
-            raise ValueError("import_devices needs a path or a frame")
-        frame = read_csv(path)
+
+    def __init__(self) -> None:
+        self.n = 0
+        self._parts: dict[str, list[Any]] = {name: [] for name in FIELD_NAMES}
+        self.values: dict[str, Any] = {}
+
+    def add(self, columns: dict[str, Any], n: int) -> None:
+        import numpy as np
+
+        for name in FIELD_NAMES:
+            col = columns.get(name)
+            if col is None:
+                kind = FIELD_BY_NAME[name].kind
+                col = np.full(n, np.nan) if kind in ("quantity", "count") else [_DEFAULTS[name]] * n
+            self._parts[name].append(col)
+        self.n += n
+
+    def finish(self) -> None:
+        import numpy as np
+
+        for name, parts in self._parts.items():
+            if FIELD_BY_NAME[name].kind in ("quantity", "count"):
+                self.values[name] = np.concatenate(parts) if parts else np.zeros(0)
+            else:
+                self.values[name] = [v for part in parts for v in part]
+        self._parts.clear()
+
+    def plain(self, name: str, start: int, stop: int) -> list[Any]:
+        """Rows start:stop of one column as the Python values a Device holds (None for blank)."""
+        import numpy as np
+
+        col = self.values[name]
+        if not isinstance(col, np.ndarray):
+            return col[start:stop]
+        part = col[start:stop]
+        blank = np.isnan(part)
+        if name == "low_stock":  # a count is stored as an int
+            part = np.where(blank, 0.0, part).astype(np.int64)
+        out = part.astype(object)  # Python floats (ints), as Device holds them
+        out[blank] = None
+        return out.tolist()
+
+    def row(self, pos: int) -> dict[str, Any]:
+        return {name: self.plain(name, pos, pos + 1)[0] for name in FIELD_NAMES}
+
+
+def _parse_frames(frames: Iterator[pd.DataFrame]) -> tuple[_Columns, dict[int, list[str]]]:
+    """Parse every chunk before anything is written; problems keyed by row position in the file."""
+    parsed = _Columns()
+    problems: dict[int, list[str]] = {}
+    for frame in frames:
+        _check_header(frame)
+        columns, found = _parse_chunk(frame)
+        offset = parsed.n
+        problems.update((offset + pos, msgs) for pos, msgs in found.items())
+        parsed.add(columns, len(frame))
+        del frame, columns
+    parsed.finish()
+    return parsed, problems
+
+
+def _check_header(frame: pd.DataFrame) -> None:
     unknown = [c for c in frame.columns if c not in FIELD_BY_NAME]
     if unknown:
         raise ImportRejected([(1, f"unknown column(s) {', '.join(map(repr, unknown))}; known "
@@ -249,46 +424,97 @@ def import_devices(session: Session, path: str | Path | None = None,
     if missing:
         raise ImportRejected([(1, f"missing required column(s) {', '.join(missing)}")])
 
-    devices, problems = parse_device_frame(frame)
-    keys = [normalize(d.designation) for d in devices]
+
+def parse_device_frame(frame: pd.DataFrame) -> tuple[list[Device], dict[int, list[str]]]:
+    """Devices from a frame of text cells, and problems by row position (column-wise)."""
+    columns, problems = _parse_chunk(frame)
+    parsed = _Columns()
+    parsed.add(columns, len(frame))
+    parsed.finish()
+    lists = [parsed.plain(name, 0, parsed.n) for name in FIELD_NAMES]
+    return [Device(**dict(zip(FIELD_NAMES, row, strict=True)))
+            for row in zip(*lists, strict=True)], problems
+
+
+def _frame_chunks(frame: pd.DataFrame) -> Iterator[pd.DataFrame]:
+    rows = CHUNK_ROWS
+    if len(frame) == 0:
+        yield frame
+    for start in range(0, len(frame), rows):
+        yield frame.iloc[start:start + rows]
+
+
+def import_devices(session: Session, path: str | Path | None = None,
+                   frame: pd.DataFrame | None = None, strict: bool = False) -> ImportReport:
+    """Import device rows from a CSV file (or a frame of text cells); all or nothing.
+
+    ``strict`` turns consistency warnings (designation vs fields) into errors. The file is
+    parsed in chunks of :data:`CHUNK_ROWS` rows; nothing is written until every chunk has
+    parsed and every row has passed.
+    """
+    if frame is None:
+        if path is None:
+            raise ValueError("import_devices needs a path or a frame")
+        frames = read_csv_chunks(path)
+    else:
+        frames = _frame_chunks(frame)
+    parsed, problems = _parse_frames(frames)
+    designations: list[str | None] = parsed.values["designation"]
+    keys = [normalize(d) if d else "" for d in designations]
     first_line: dict[str, int] = {}
-    for pos, (device, key) in enumerate(zip(devices, keys, strict=True)):
+    for pos, key in enumerate(keys):
         if not key:
             continue
         if key in first_line:
             problems.setdefault(pos, []).append(
-                f"designation: {device.designation!r} repeats line {first_line[key]} "
+                f"designation: {designations[pos]!r} repeats line {first_line[key]} "
                 f"(same normalised key {key})")
         else:
             first_line[key] = pos + 2
 
     report = ImportReport()
-    for pos, device in enumerate(devices):
-        if pos in problems:
-            continue
-        device.warnings = catalog.consistency_warnings(device)
-        for w in device.warnings:
-            if strict:
-                problems.setdefault(pos, []).append(f"{device.designation}: {w} (--strict)")
-            else:
-                report.warnings.append((pos + 2, f"{device.designation}: {w}"))
+    warnings = _consistency(parsed, problems, strict, report)
     if problems:
         raise ImportRejected([(pos + 2, "; ".join(msgs)) for pos, msgs in sorted(problems.items())])
 
-    _write_devices(session, devices, keys, report)
+    _write_devices(session, parsed, keys, warnings, report)
     return report
 
 
+def _consistency(parsed: _Columns, problems: dict[int, list[str]], strict: bool,
+                 report: ImportReport) -> list[str | None]:
+    """Stored warnings text per row (designation vs fields), for the rows without problems."""
+    from partsdb.consistency import CHECKED_FIELDS, consistency_warnings
+
+    out: list[str | None] = [None] * parsed.n
+    # One reused record carrying just the fields the checker reads (partsdb.consistency says
+    # which, and a test holds it to that): a Device per row cost more than the check.
+    probe = Device(designation="")
+    for start in range(0, parsed.n, _WRITE_ROWS):
+        stop = min(parsed.n, start + _WRITE_ROWS)
+        rows = zip(*[parsed.plain(name, start, stop) for name in CHECKED_FIELDS], strict=True)
+        for pos, row in enumerate(rows, start):
+            if pos in problems:
+                continue
+            probe.__dict__.update(zip(CHECKED_FIELDS, row, strict=True))
+            found = consistency_warnings(probe)
+            if not found:
+                continue
+            out[pos] = "\n".join(found)
+            for w in found:
+                if strict:
+                    problems.setdefault(pos, []).append(f"{probe.designation}: {w} (--strict)")
+                else:
+                    report.warnings.append((pos + 2, f"{probe.designation}: {w}"))
+    return out
+
+
 _ROW_COLUMNS: tuple[str, ...] = ("key", *FIELD_NAMES, "warnings", "updated_at")
+_WRITE_ROWS = 20_000
 
 
-def _row_tuple(device: Device, key: str, now: Any) -> tuple[Any, ...]:
-    d = device.__dict__
-    return (key, *[d[name] for name in FIELD_NAMES], "\n".join(device.warnings) or None, now)
-
-
-def _write_devices(session: Session, devices: list[Device], keys: list[str],
-                   report: ImportReport) -> None:
+def _write_devices(session: Session, parsed: _Columns, keys: list[str],
+                   warnings: list[str | None], report: ImportReport) -> None:
     from sqlalchemy import bindparam, func
 
     from partsdb.storage.models import utcnow
@@ -302,34 +528,46 @@ def _write_devices(session: Session, devices: list[Device], keys: list[str],
             chunk = keys[start:start + 900]
             for row in session.execute(select(*cols).where(table.c.key.in_(chunk))).mappings():
                 existing[row["key"]] = (row["id"], dict(row))
-    inserts: list[tuple[Any, ...]] = []
     updates: list[dict[str, Any]] = []
-    for device, key in zip(devices, keys, strict=True):
-        if key in existing:
-            values = device_values(device)
-            ident, old = existing[key]
-            if all(_same(old.get(k), v) for k, v in values.items() if k != "key"):
-                report.unchanged += 1
-                continue
-            updates.append({"_id": ident, **values, "updated_at": now})
-            report.updated += 1
-        else:
-            inserts.append(_row_tuple(device, key, now))
-            report.added += 1
-    if inserts:
-        # The driver's own executemany on plain tuples: a 200,000-row catalog is mostly inserts,
-        # and SQLAlchemy's per-row parameter processing would cost more than the insert itself.
-        connection = session.connection()
-        dialect = connection.dialect
-        marker = "?" if dialect.paramstyle == "qmark" else "%s"
-        sql = (f"INSERT INTO {table.name} ({', '.join(_ROW_COLUMNS)}) "
-               f"VALUES ({', '.join([marker] * len(_ROW_COLUMNS))})")
-        for start in range(0, len(inserts), 20000):
-            connection.exec_driver_sql(sql, inserts[start:start + 20000])
+    connection = session.connection()
+    marker = "?" if connection.dialect.paramstyle == "qmark" else "%s"
+    # sqlite3 would adapt the datetime once per row, to exactly this text (its default adapter
+    # is datetime.isoformat(" ")); other drivers take the datetime itself.
+    stamp: Any = now.isoformat(" ") if connection.dialect.name == "sqlite" else now
+    sql = (f"INSERT INTO {table.name} ({', '.join(_ROW_COLUMNS)}) "
+           f"VALUES ({', '.join([marker] * len(_ROW_COLUMNS))})")
+    for start in range(0, parsed.n, _WRITE_ROWS):
+        stop = min(parsed.n, start + _WRITE_ROWS)
+        # Row tuples straight from the columns, one batch at a time: the driver's own
+        # executemany on plain tuples, as SQLAlchemy's per-row parameter processing would cost
+        # more than the insert itself.
+        rows = zip(keys[start:stop], *[parsed.plain(name, start, stop) for name in FIELD_NAMES],
+                   warnings[start:stop], strict=True)
+        if not existing:  # a new catalog: every row is an insert
+            inserts = [(*row, stamp) for row in rows]
+            report.added += len(inserts)
+            connection.exec_driver_sql(sql, inserts)
+            continue
+        inserts = []
+        for row in rows:
+            key = row[0]
+            if key in existing:
+                values = dict(zip(_ROW_COLUMNS[:-1], row, strict=True))
+                ident, old = existing[key]
+                if all(_same(old.get(k), v) for k, v in values.items() if k != "key"):
+                    report.unchanged += 1
+                    continue
+                updates.append({"_id": ident, **values, "updated_at": now})
+                report.updated += 1
+            else:
+                inserts.append((*row, stamp))
+                report.added += 1
+        if inserts:
+            connection.exec_driver_sql(sql, inserts)
     if updates:
         stmt = (update(table).where(table.c.id == bindparam("_id"))
                 .values({k: bindparam(k) for k in updates[0] if k != "_id"}))
-        session.connection().execute(stmt, updates)
+        connection.execute(stmt, updates)
     session.flush()
 
 

@@ -10,8 +10,19 @@ from __future__ import annotations
 
 import pytest
 
-from partsdb.consistency import consistency_warnings
-from partsdb.device import Device
+from partsdb import consistency
+from partsdb.consistency import (
+    CHECKED_FIELDS,
+    FREE_AIR_POWER_FLOOR,
+    JIS_HIGH_FREQUENCY_FT_FLOOR,
+    PRO_ELECTRON_RF_FT_FLOOR,
+    PRO_ELECTRON_RTH_SPLIT,
+    ROUNDING_MARGIN,
+    consistency_warnings,
+)
+from partsdb.designations import Decoded, decode
+from partsdb.device import FIELD_NAMES, Device
+from partsdb.units import format_quantity
 
 
 def warnings_for(**fields: object) -> list[str]:
@@ -127,3 +138,142 @@ def test_frequency_heuristics(designation: str, ft: float, flagged: bool) -> Non
     assert bool(out) is flagged
     if flagged:
         assert "common practice" in out[0] and "fT is" in out[0]
+
+
+# ---------------------------------------------------------------- the importer's fast path
+# The sentences are now built only when a check fails, and the importer runs the checker on one
+# reused record carrying CHECKED_FIELDS. These tests hold both to the behaviour before that
+# change. The reference below is the previous implementation of the two functions that changed
+# (its sentences were built before the tests); it is a regression oracle, not a domain source:
+# the domain facts behind each sentence are checked by the tests above.
+
+def _reference_power(device: Device, d: Decoded) -> list[str]:
+    if d.scheme != "pro-electron" or d.power_class is None or device.ptot is None:
+        return []
+    tj, assumed = device.tj_max_or_default()
+    if tj <= 25:
+        return []
+    split = (tj - 25.0) / PRO_ELECTRON_RTH_SPLIT
+    tj_text = f"Tj max {tj:g} °C" + (" assumed" if assumed else "")
+    ptot = format_quantity(device.ptot, "W")
+    rated = {"case": " (case-rated)", "ambient": " (free air)"}.get(device.ptot_ref or "", "")
+    meaning = d.device_type.removeprefix("transistor, ") if d.device_type else d.power_class
+    if d.power_class == "small-signal":
+        if device.ptot > split * ROUNDING_MARGIN:
+            return [f"second letter {d.type_letter} means {meaning} (Rth j-mb > 15 K/W, so Ptot "
+                    f"below about {format_quantity(split, 'W')} at {tj_text}) but Ptot is "
+                    f"{ptot}{rated}"]
+        return []
+    if device.ptot_ref == "case":
+        if device.ptot * ROUNDING_MARGIN < split:
+            return [f"second letter {d.type_letter} means {meaning} (Rth j-mb <= 15 K/W, so "
+                    f"case-rated Ptot of at least about {format_quantity(split, 'W')} at "
+                    f"{tj_text}) but Ptot is {ptot}{rated}"]
+        return []
+    if device.ptot < FREE_AIR_POWER_FLOOR:
+        return [f"second letter {d.type_letter} means {meaning} but Ptot is {ptot}{rated}; "
+                f"power packages are rated above {format_quantity(FREE_AIR_POWER_FLOOR, 'W')} "
+                "even in free air (common practice)"]
+    return []
+
+
+def _reference_frequency(device: Device, d: Decoded) -> list[str]:
+    if device.ft is None:
+        return []
+    ft = format_quantity(device.ft, "Hz")
+    if d.scheme == "jis" and d.application == "high-frequency" \
+            and device.ft < JIS_HIGH_FREQUENCY_FT_FLOOR:
+        return [f"{consistency._label(d)} means high-frequency but fT is {ft} (common practice: "
+                f"such types have fT above {format_quantity(JIS_HIGH_FREQUENCY_FT_FLOOR, 'Hz')}); "
+                "check the unit"]
+    if d.scheme == "pro-electron" and d.application == "rf" \
+            and device.ft < PRO_ELECTRON_RF_FT_FLOOR:
+        return [f"second letter {d.type_letter} means RF but fT is {ft} (common practice: RF "
+                f"types have fT above {format_quantity(PRO_ELECTRON_RF_FT_FLOOR, 'Hz')}); check "
+                "the unit"]
+    return []
+
+
+def _reference_warnings(device: Device) -> list[str]:
+    d = decode(device.designation)
+    if d.scheme == "unknown":
+        return []
+    return [*consistency._family(device, d), *consistency._material(device, d),
+            *consistency._polarity(device, d), *_reference_power(device, d),
+            *_reference_frequency(device, d)]
+
+
+def _many_devices() -> list[Device]:
+    """Synthetic records (agreeing with their names), the same records under other rows' names
+    (so most checks fire), variations of Tj max and Ptot reference, and the demo seed file."""
+    import csv
+    import random
+    from pathlib import Path
+
+    from partsdb.device import parse_device
+    from partsdb.services.synthetic import CLASSES, draw_catalog
+
+    cat = draw_catalog(3000, seed=11)
+    rng = random.Random(3)
+    names = cat.designation.tolist()
+    shuffled = names[:]
+    rng.shuffle(shuffled)
+    extra = ["BC384", "AD384", "BU384", "BF384", "CF384", "RL384", "BY384", "2SK377", "2SC3377",
+             "C3377", "A3377", "1N7781", "OC83", "ORP83", "2N7781", "QX9", ""]
+    out = []
+    for i in range(len(cat)):
+        cls = CLASSES[int(cat.cls[i])]
+        nums = {k: (None if v != v else float(v)) for k, v in
+                ((k, cat.numbers[k][i]) for k in ("ptot", "tj_max", "ft"))}
+        for name in (names[i], shuffled[i], extra[i % len(extra)]):
+            out.append(Device(designation=name, kind=cls.kind, polarity=str(cat.polarity[i]),
+                              material=rng.choice([cls.material, "si", "ge", "other"]),
+                              ptot=nums["ptot"], ptot_ref=rng.choice([cls.ptot_ref, None, "case"]),
+                              tj_max=rng.choice([nums["tj_max"], None, 20.0, 25.0, 90.0]),
+                              ft=nums["ft"] if i % 7 else rng.choice([None, 5e3, 0.5e6, 5e6])))
+    seed = Path(__file__).resolve().parents[2] / "seed_data" / "devices.csv"
+    with open(seed, encoding="utf-8") as fh:
+        out.extend(parse_device({k: v for k, v in row.items() if v != ""})
+                   for row in csv.DictReader(fh))
+    return out
+
+
+def test_lazy_sentences_match_the_previous_implementation() -> None:
+    devices = _many_devices()
+    flagged = 0
+    for device in devices:
+        expected = _reference_warnings(device)
+        assert consistency_warnings(device) == expected, device
+        flagged += bool(expected)
+    # The sample must exercise the warning branches, not only the quiet ones.
+    assert flagged > 2000
+    kinds = {w.split(" ")[0] for dev in devices for w in consistency_warnings(dev)}
+    assert {"second", "designated", "JIS"} <= kinds
+
+
+class _Watched(Device):
+    """A Device that records which of its attributes are read."""
+
+    def __getattribute__(self, name: str) -> object:
+        if name in FIELD_NAMES:
+            object.__getattribute__(self, "__dict__").setdefault("_read", set()).add(name)
+        return object.__getattribute__(self, name)
+
+
+def test_checker_reads_only_the_declared_fields() -> None:
+    # The importer fills only CHECKED_FIELDS on a reused record; reading any other field would
+    # see a stale value from another row.
+    read: set[str] = set()
+    for device in _many_devices():
+        watched = _Watched(**{k: getattr(device, k) for k in FIELD_NAMES})
+        consistency_warnings(watched)
+        read |= watched.__dict__.get("_read", set())
+    assert read <= set(CHECKED_FIELDS)
+    assert {"designation", "material", "polarity", "ptot", "ft"} <= read
+
+
+def test_reused_record_gives_the_same_warnings_as_fresh_ones() -> None:
+    probe = Device(designation="")
+    for device in _many_devices():
+        probe.__dict__.update({k: getattr(device, k) for k in CHECKED_FIELDS})
+        assert consistency_warnings(probe) == consistency_warnings(device)

@@ -263,3 +263,14 @@ def test_find_speed_on_200k_designations() -> None:
     ours = median_ms(lambda q: idx.find(q, limit=10))
     assert ours < 40
     assert ours < 3 * bare + 2  # 2 ms slack for timer noise on a loaded machine
+
+
+def test_keys_are_the_normalised_designations_in_input_order() -> None:
+    # The index builds its keys in one joined block (for memory locality); they must still be
+    # exactly normalize() of each designation, blanks and separators included.
+    names = ["bc 547-b", "", "2sc\n1815", "  ", "BC547B", "2N3904", "oc_71/x", "A.B"]
+    idx = SearchIndex(names)
+    assert idx.keys == [normalize(n) for n in names]
+    assert [h.position for h in idx.find("BC547B", limit=5)][:2] == [0, 4]
+    assert SearchIndex([]).keys == []
+    assert SearchIndex([]).find("BC547") == []

@@ -197,3 +197,126 @@ def test_column_parser_agrees_with_the_cell_parser(cells: list[str]) -> None:
             continue
         assert pos not in problems, (cell, problems.get(pos))
         assert got[pos] == pytest.approx(expected, rel=1e-12), cell
+
+
+# ---------------------------------------------------------------- chunked import
+# The importer parses the file CHUNK_ROWS rows at a time. These tests shrink the chunk so that
+# small files cross many chunk boundaries, and hold the result to the one-record path
+# (partsdb.device.parse_device: per-cell parse_field plus check_record) and to the rules of
+# the module docstring: nothing written unless every row passes, every bad line named.
+
+def _stored(db) -> list[tuple[object, ...]]:  # type: ignore[no-untyped-def]
+    from partsdb.device import FIELD_NAMES
+
+    with db.session() as session:
+        return [tuple(r) for r in session.connection().exec_driver_sql(
+            f"SELECT key, {', '.join(FIELD_NAMES)}, warnings FROM devices ORDER BY key").all()]
+
+
+def test_chunked_import_matches_the_one_record_parser(empty_db, tmp_path: Path,  # type: ignore[no-untyped-def]
+                                                      monkeypatch: pytest.MonkeyPatch) -> None:
+    from partsdb.consistency import consistency_warnings
+    from partsdb.device import FIELD_NAMES, parse_device
+    from partsdb.services.synthetic import synthetic_frame
+
+    frame = synthetic_frame(1200, seed=5)  # invented rows: the input, not the oracle
+    path = tmp_path / "s.csv"
+    frame.to_csv(path, index=False)
+    monkeypatch.setattr(exchange, "CHUNK_ROWS", 250)
+    with empty_db.session() as session:
+        report = exchange.import_devices(session, path)
+    assert report.added == 1200
+    with path.open(newline="", encoding="utf-8") as fh:
+        expected = {}
+        for row in csv.DictReader(fh):
+            device = parse_device(row)
+            device.warnings = consistency_warnings(device)
+            expected[device.key] = device
+    stored = _stored(empty_db)
+    assert len(stored) == len(expected)
+    for row in stored:
+        device = expected[row[0]]
+        for name, got in zip(FIELD_NAMES, row[1:-1], strict=True):
+            want = getattr(device, name)
+            if isinstance(want, float):
+                assert got == pytest.approx(want, rel=1e-12), (row[0], name)
+            elif name == "obsolete":
+                assert bool(got) is want, (row[0], name)
+            else:
+                assert got == want, (row[0], name)
+        assert row[-1] == ("\n".join(device.warnings) or None)
+
+    # Re-importing the same file, then the same rows as a frame, changes nothing.
+    with empty_db.session() as session:
+        again = exchange.import_devices(session, path)
+    assert (again.added, again.updated, again.unchanged) == (0, 0, 1200)
+    with empty_db.session() as session:
+        again = exchange.import_devices(session, frame=exchange.read_csv(path))
+    assert (again.added, again.updated, again.unchanged) == (0, 0, 1200)
+    assert _stored(empty_db) == stored
+
+
+def test_problems_in_every_chunk_keep_their_line_numbers(empty_db, tmp_path: Path,  # type: ignore[no-untyped-def]
+                                                         monkeypatch: pytest.MonkeyPatch) -> None:
+    rows = [*GOOD_ROWS, *BAD_ROWS,                                          # lines 2-6
+            GOOD_ROWS[1].replace("QR-101", "qr 101"),                       # 7: repeats line 3
+            GOOD_ROWS[0].replace("QR 100", "  "),                           # 8: no designation
+            "QR105,fet,npn,si,45V,50V,100mA,500mW,ambient,110,450,250MHz,\n",  # 9: bad kind
+            "QR106,bjt,npn,si,45V,50V,100mA,500mW,ambient,110,450,250MHz,\n"]  # 10: good
+    path = write(tmp_path / "d.csv", rows)
+    reports = []
+    for chunk in (2, 3, 1000):
+        monkeypatch.setattr(exchange, "CHUNK_ROWS", chunk)
+        with pytest.raises(ImportRejected) as info, empty_db.session() as session:
+            exchange.import_devices(session, path)
+        reports.append(info.value.problems)
+        assert device_count(empty_db) == 0
+    assert reports[0] == reports[1] == reports[2]
+    lines = dict(reports[0])
+    assert set(lines) == {5, 6, 7, 8, 9}
+    assert "4O0V" in lines[5] and "hfe_min" in lines[6]
+    assert "repeats line 3" in lines[7]
+    assert lines[8] == "designation: empty; expected the part number"
+    assert lines[9].startswith("kind: 'fet' is not valid")
+
+
+def test_formula_guard_is_undone_in_later_chunks(empty_db, tmp_path: Path,  # type: ignore[no-untyped-def]
+                                                 monkeypatch: pytest.MonkeyPatch) -> None:
+    # Our export writes '=x for a text cell =x (OWASP CSV Injection); the import undoes it
+    # wherever the cell falls, and leaves other apostrophes alone.
+    rows = [*GOOD_ROWS,
+            "'=QR7,bjt,npn,si,45V,50V,100mA,500mW,ambient,110,450,250MHz,'@note\n",
+            "QR8,bjt,npn,si,45V,50V,100mA,500mW,ambient,110,450,250MHz,'quoted' word\n"]
+    monkeypatch.setattr(exchange, "CHUNK_ROWS", 2)
+    with empty_db.session() as session:
+        exchange.import_devices(session, write(tmp_path / "d.csv", rows))
+    with empty_db.session() as session:
+        notes = dict(session.connection().exec_driver_sql(
+            "SELECT designation, notes FROM devices").all())
+    assert notes["=QR7"] == "@note"
+    assert notes["QR8"] == "'quoted' word"
+
+
+def test_header_only_file_imports_nothing(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    with empty_db.session() as session:
+        report = exchange.import_devices(session, write(tmp_path / "d.csv", []))
+    assert (report.added, report.updated, report.unchanged) == (0, 0, 0)
+    (tmp_path / "e.csv").write_text("")
+    with pytest.raises(ImportRejected, match="is empty"), empty_db.session() as session:
+        exchange.import_devices(session, tmp_path / "e.csv")
+
+
+@pytest.mark.parametrize(("cell", "value"), [
+    ("40", 40.0), ("+40", 40.0), ("4e1", 40.0), ("40.", 40.0), (".5e2", 50.0), ("40 V", 40.0),
+    ("40mV", 0.04), (" 40 ", 40.0), ("4k", 4000.0),
+])
+def test_number_fast_path_reads_like_parse_quantity(cell: str, value: float) -> None:
+    # units.parse_quantity's number syntax is the decimal float syntax; cells outside it go to
+    # the per-cell parser, so "1_000" (which Python's float() reads) and "inf" are refused.
+    import pandas as pd
+
+    problems: dict[int, list[str]] = {}
+    got = exchange._parse_quantity_column("vceo", pd.Series([cell, "1_000", "inf", ".", "1-2"]),
+                                          problems)
+    assert got[0] == pytest.approx(value, rel=1e-12)
+    assert sorted(problems) == [1, 2, 3, 4]
