@@ -5,6 +5,12 @@ constraints (polarity, kind) are boolean masks, every check and score is an arra
 the compatible rows, and the readable details (:class:`Check`, :class:`Flag`) are built only for
 the rows returned. :func:`rank` is the entry point; it takes data already loaded.
 
+Speed on large catalogs: a group's rows repeat few distinct values per check, so after its
+first ranking each group keeps a table of its distinct value tuples per check and a code per
+row (:func:`_group_scores`); a ranking then computes each check once per distinct tuple and
+gathers score and verdict to the rows, bit for bit what the row-by-row :func:`_evaluate` gives
+(tests compare both, and both with :func:`assess` on each device).
+
 Checks, one per parameter and candidate (status ``ok`` / ``marginal`` / ``under-rated`` /
 ``unknown``):
 
@@ -61,7 +67,7 @@ raise the estimated Tj (a fact of the rating model, not a scoring choice).
 from __future__ import annotations
 
 import math
-from collections.abc import Iterable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, fields, replace
 from functools import cached_property
 from typing import Any
@@ -347,6 +353,8 @@ class CatalogColumns:
     pinouts: tuple[str, ...] = ()
     _groups: dict[tuple[int, int], tuple[np.ndarray, CatalogColumns]] = field(
         default_factory=dict, repr=False)
+    _memo: dict[str, Any] = field(default_factory=dict, repr=False)
+    """Tables derived from these rows for the ranking (see :func:`_group_blocks`)."""
 
     @property
     def size(self) -> int:
@@ -423,8 +431,10 @@ class CatalogColumns:
             hfe_min=self.hfe_min[rows], hfe_max=self.hfe_max[rows], ft=self.ft[rows],
             package=self.package[rows], pinout=self.pinout[rows], packages=self.packages,
             pinouts=self.pinouts)
-        # The tie-break order stays the whole catalog's (cached_property lives in __dict__).
-        view.__dict__["key_rank"] = self.key_rank[rows]
+        # The tie-break order stays the whole catalog's when it is known (cached_property lives
+        # in __dict__); otherwise the view ranks its own keys, in the same relative order.
+        if "key_rank" in self.__dict__:
+            view.__dict__["key_rank"] = self.key_rank[rows]
         return view
 
     def group(self, polarity: str, kind: str) -> tuple[np.ndarray, CatalogColumns]:
@@ -437,7 +447,8 @@ class CatalogColumns:
         hit = self._groups.get(code)
         if hit is None:
             rows = np.flatnonzero((self.polarity == code[0]) & (self.kind == code[1]))
-            hit = (rows, self.take(rows))
+            # A catalog read as one group already is that group: no copy.
+            hit = (rows, self if rows.shape[0] == self.size else self.take(rows))
             self._groups[code] = hit
         return hit
 
@@ -525,6 +536,22 @@ def grade_codes(stress: Any, rating: Any, factor: Any) -> np.ndarray:
     return out
 
 
+def _piecewise(h: np.ndarray, xs: Sequence[float], ys: Sequence[float]) -> np.ndarray:
+    """The broken line through (xs, ys), flat outside, as closed-form array arithmetic.
+
+    Bit for bit what ``np.interp(h, xs, ys)`` returns (numpy's own formula per segment:
+    slope x (h - x_j) + y_j with slope = (y_j+1 - y_j) / (x_j+1 - x_j); y_j at a break point;
+    NaN stays NaN), without its binary search per element; a test checks both agree.
+    """
+    h = np.asarray(h, dtype=float)
+    out = np.full(h.shape, float(ys[-1]))
+    for j in range(len(xs) - 2, -1, -1):
+        slope = (ys[j + 1] - ys[j]) / (xs[j + 1] - xs[j])
+        out = np.where(h < xs[j + 1], slope * (h - xs[j]) + ys[j], out)
+    out = np.where(h < xs[0], float(ys[0]), out)
+    return np.where(np.isnan(h), np.nan, out)
+
+
 def headroom_score_stressed(h: np.ndarray, factor: Any) -> np.ndarray:
     """Sub-score of headroom h = rating / stress under a policy factor (see module docstring).
 
@@ -534,7 +561,7 @@ def headroom_score_stressed(h: np.ndarray, factor: Any) -> np.ndarray:
     if np.ndim(factor) == 0:
         inv = 1.0 / float(factor)
         if inv > 1.0:
-            return np.interp(h, (0.0, 1.0, inv, 2.0 * inv), (0.0, 0.3, 0.7, 1.0))
+            return _piecewise(h, (0.0, 1.0, inv, 2.0 * inv), (0.0, 0.3, 0.7, 1.0))
         return headroom_score_plain(h)
     inv = 1.0 / np.asarray(factor, dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -548,7 +575,7 @@ def headroom_score_plain(h: np.ndarray) -> np.ndarray:
 
     0.3 h below the rating, then a step to 0.7 at the rating and 0.3 more up to twice it.
     """
-    out = np.interp(h, (0.0, 1.0, 2.0), (0.0, 0.3, 0.6))
+    out = _piecewise(h, (0.0, 1.0, 2.0), (0.0, 0.3, 0.6))
     out[h >= 1.0] += 0.4
     return out
 
@@ -623,79 +650,123 @@ _VERDICT_OF = np.array([0, 1, 2, 0], dtype=np.int8)
 """Verdict contribution of a status code: ok 0, marginal 1, under-rated 2, unknown 0."""
 
 
+def _columns(cat: CatalogColumns, req: Requirement, stress: Stress, policy: Policy,
+             names: Sequence[str] = PARAMETERS
+             ) -> tuple[dict[str, _Column], np.ndarray | None, np.ndarray | None]:
+    """The checks ``names`` over every row of ``cat``: (columns, allowed power, Tj estimate).
+
+    Each check depends only on its own row, so the same function serves the rows returned
+    (details) and the distinct value tuples of a large group (:func:`_group_scores`).
+    """
+    n = cat.size
+    cols: dict[str, _Column] = {}
+    if "vceo" in names:
+        cols["vceo"] = _rating_column(cat.vceo, req.vceo, stress.vce_peak, policy.voltage)
+    if "vcbo" in names:
+        # Vcb is Vce minus Vbe: the Vce peak bounds it, so it is the stress on Vcbo too.
+        cols["vcbo"] = _rating_column(cat.vcbo, req.vcbo, stress.vce_peak, policy.voltage)
+    if "ic_max" in names:
+        cols["ic_max"] = _rating_column(cat.ic_max, req.ic_max, stress.ic_peak, policy.current)
+
+    allowed: np.ndarray | None = None
+    tj_est: np.ndarray | None = None
+    if "ptot" in names or "tj_max" in names:
+        # Power allowed at the ambient in this mounting: free-air ratings derate linearly, case
+        # ratings go through Rth j-c + c-s + s-a (thermal.py); the two groups are computed apart
+        # so the reference is a scalar, not a string array.
+        ptot = cat.ptot
+        tj_eff = cat.tj_effective
+        case = cat.case_rated
+        rth = np.asarray(thermal_path(ptot, tj_eff, "ambient", None), dtype=float)
+        allowed = np.asarray(derated_power(ptot, tj_eff, stress.ambient), dtype=float)
+        if case.any():
+            rc = np.asarray(thermal_path(ptot[case], tj_eff[case], "case", stress.heatsink,
+                                         DEFAULT_CASE_TO_SINK, cat.free_air[case]), dtype=float)
+            rth[case] = rc
+            allowed[case] = allowed_power(ptot[case], tj_eff[case], "case", stress.ambient, rc)
+        req_power, _ = _requirement_power(req, stress)
+        cols["ptot"] = _rating_column(allowed, req_power, stress.power, policy.power)
+
+        tj = cat.tj_max
+        if stress.power is not None:
+            ta = stress.ambient
+            tj_est = ta + stress.power * rth
+            limit = np.asarray(policy.tj_limit(tj), dtype=float)
+            status = np.full(n, UNDER, np.int8)
+            status[tj_est <= tj] = MARGINAL
+            status[tj_est <= limit] = OK
+            with np.errstate(invalid="ignore", divide="ignore"):
+                h = (tj - ta) / (tj_est - ta)
+                factor = np.clip((limit - ta) / (tj - ta), 1e-6, 1.0)
+                sub = headroom_score_stressed(h, factor)
+            unknown = np.isnan(tj) | np.isnan(tj_est)
+            status[unknown] = UNKNOWN
+            cols["tj_max"] = _Column(tj_est, tj, status,
+                                     np.where(unknown, SUB_UNKNOWN_RATING, sub), h, "stress")
+        elif req.tj_max is not None:
+            col = _rating_column(tj - 25.0, req.tj_max - 25.0, None, 1.0)
+            col.need, col.offered = req.tj_max, tj
+            cols["tj_max"] = col
+        else:
+            cols["tj_max"] = _Column(np.nan, tj, np.full(n, UNKNOWN, np.int8),
+                                     np.full(n, SUB_NO_NEED), None, "none")
+
+    if "ft" in names:
+        ft_need: float | None
+        if stress.freq is not None and req.hfe_min is not None:
+            ft_need, basis = req.hfe_min * stress.freq, "gain-bandwidth"
+        else:
+            ft_need, basis = req.ft, "original"
+        col = _rating_column(cat.ft, ft_need, None, 1.0)
+        if col.basis != "none":
+            col.basis = basis
+        cols["ft"] = col
+
+    if "hfe" in names:
+        cols["hfe"] = _hfe_column(cat, req)
+    if "package" in names:
+        cols["package"] = _fit_column(cat.package, _package_code(cat, req.package), 0.3)
+    if "pinout" in names:
+        cols["pinout"] = _fit_column(cat.pinout, _pinout_code(cat, req.pinout), 0.5)
+    if "material" in names:
+        mat_need = MATERIALS.index(req.material) if req.material in MATERIALS else -1
+        mat = cat.material
+        mcol = _fit_column(mat, mat_need, 0.4)
+        if mat_need in (0, 1):
+            # Germanium <-> silicon changes Vbe by about 0.4 V: the stage's bias must be
+            # re-checked.
+            mcol.sub = np.where(mat == 1 - mat_need, 0.2, mcol.sub)
+        cols["material"] = mcol
+    return cols, allowed, tj_est
+
+
+def _verdict_part(cols: Mapping[str, _Column], n: int) -> np.ndarray:
+    """Worst status of the given checks as a verdict code; an unknown primary rating against a
+    known need counts as marginal (the part cannot be confirmed)."""
+    verdict = np.zeros(n, np.int8)
+    for name, col in cols.items():
+        np.maximum(verdict, _VERDICT_OF[col.status], out=verdict)
+        if name in PRIMARY and col.basis != "none":
+            np.maximum(verdict, (col.status == UNKNOWN).view(np.int8), out=verdict)
+    return verdict
+
+
+def _extras(weights: Weights, stock: np.ndarray, hist: np.ndarray) -> np.ndarray:
+    """The stock and history part of the weighted sum (added after the checks, in this order)."""
+    w = weights.as_dict()
+    return w["stock"] * stock + w["history"] * hist
+
+
 def _evaluate(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress: Stress,
               policy: Policy, weights: Weights, stock_qty: np.ndarray | None,
               history_score: np.ndarray | None) -> _Evaluation:
-    """Every check and score over ``cat`` (whose rows are the global ``rows``)."""
+    """Every check and score over ``cat`` (whose rows are the global ``rows``).
+
+    The straightforward evaluation, row by row in array form; the rows returned are always
+    detailed from it, and :func:`_group_scores` must agree with it exactly (tested).
+    """
     n = rows.shape[0]
-    cols: dict[str, _Column] = {}
-    cols["vceo"] = _rating_column(cat.vceo, req.vceo, stress.vce_peak, policy.voltage)
-    # Vcb is Vce minus Vbe: the Vce peak bounds it, so it is the stress on Vcbo too.
-    cols["vcbo"] = _rating_column(cat.vcbo, req.vcbo, stress.vce_peak, policy.voltage)
-    cols["ic_max"] = _rating_column(cat.ic_max, req.ic_max, stress.ic_peak, policy.current)
-
-    # Power allowed at the ambient in this mounting: free-air ratings derate linearly, case
-    # ratings go through Rth j-c + c-s + s-a (thermal.py); the two groups are computed apart so
-    # the reference is a scalar, not a string array.
-    ptot = cat.ptot
-    tj_eff = cat.tj_effective
-    case = cat.case_rated
-    rth = np.asarray(thermal_path(ptot, tj_eff, "ambient", None), dtype=float)
-    allowed = np.asarray(derated_power(ptot, tj_eff, stress.ambient), dtype=float)
-    if case.any():
-        rc = np.asarray(thermal_path(ptot[case], tj_eff[case], "case", stress.heatsink,
-                                     DEFAULT_CASE_TO_SINK, cat.free_air[case]), dtype=float)
-        rth[case] = rc
-        allowed[case] = allowed_power(ptot[case], tj_eff[case], "case", stress.ambient, rc)
-    req_power, _ = _requirement_power(req, stress)
-    cols["ptot"] = _rating_column(allowed, req_power, stress.power, policy.power)
-
-    tj = cat.tj_max
-    tj_est: np.ndarray | None = None
-    if stress.power is not None:
-        ta = stress.ambient
-        tj_est = ta + stress.power * rth
-        limit = np.asarray(policy.tj_limit(tj), dtype=float)
-        status = np.full(n, UNDER, np.int8)
-        status[tj_est <= tj] = MARGINAL
-        status[tj_est <= limit] = OK
-        with np.errstate(invalid="ignore", divide="ignore"):
-            h = (tj - ta) / (tj_est - ta)
-            factor = np.clip((limit - ta) / (tj - ta), 1e-6, 1.0)
-            sub = headroom_score_stressed(h, factor)
-        unknown = np.isnan(tj) | np.isnan(tj_est)
-        status[unknown] = UNKNOWN
-        cols["tj_max"] = _Column(tj_est, tj, status, np.where(unknown, SUB_UNKNOWN_RATING, sub),
-                                 h, "stress")
-    elif req.tj_max is not None:
-        col = _rating_column(tj - 25.0, req.tj_max - 25.0, None, 1.0)
-        col.need, col.offered = req.tj_max, tj
-        cols["tj_max"] = col
-    else:
-        cols["tj_max"] = _Column(np.nan, tj, np.full(n, UNKNOWN, np.int8), np.full(n, SUB_NO_NEED),
-                                 None, "none")
-
-    ft_need: float | None
-    if stress.freq is not None and req.hfe_min is not None:
-        ft_need, basis = req.hfe_min * stress.freq, "gain-bandwidth"
-    else:
-        ft_need, basis = req.ft, "original"
-    col = _rating_column(cat.ft, ft_need, None, 1.0)
-    if col.basis != "none":
-        col.basis = basis
-    cols["ft"] = col
-
-    cols["hfe"] = _hfe_column(cat, rows, req)
-    cols["package"] = _fit_column(cat.package, _package_code(cat, req.package), 0.3)
-    cols["pinout"] = _fit_column(cat.pinout, _pinout_code(cat, req.pinout), 0.5)
-    mat_need = MATERIALS.index(req.material) if req.material in MATERIALS else -1
-    mat = cat.material
-    mcol = _fit_column(mat, mat_need, 0.4)
-    if mat_need in (0, 1):
-        # Germanium <-> silicon changes Vbe by about 0.4 V: the stage's bias must be re-checked.
-        mcol.sub = np.where(mat == 1 - mat_need, 0.2, mcol.sub)
-    cols["material"] = mcol
-
+    cols, allowed, tj_est = _columns(cat, req, stress, policy)
     stock = np.zeros(n) if stock_qty is None else (stock_qty[rows] > 0).astype(float)
     hist = np.full(n, 0.5) if history_score is None else history_score[rows]
 
@@ -704,18 +775,195 @@ def _evaluate(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress: S
     for name in PARAMETERS:
         if w[name]:
             total += w[name] * cols[name].sub
-    total += w["stock"] * stock + w["history"] * hist
+    total += _extras(weights, stock, hist)
     score = 100.0 * total / weights.total()
-
-    verdict = np.zeros(n, np.int8)
-    for name in PARAMETERS:
-        np.maximum(verdict, _VERDICT_OF[cols[name].status], out=verdict)
-    for name in PRIMARY:
-        col = cols[name]
-        if col.basis != "none":
-            np.maximum(verdict, (col.status == UNKNOWN).view(np.int8), out=verdict)
+    verdict = _verdict_part(cols, n)
+    assert allowed is not None
     return _Evaluation(rows, cols, stock_qty[rows] if stock_qty is not None else np.zeros(n, int),
                        hist, score, verdict, allowed, tj_est)
+
+
+# The large-group path. A group's rows repeat few distinct values per check (ratings are
+# rounded, outlines and lead orders few): 105,000 rows of the bench catalog hold about 2,100
+# distinct (Vceo, Vcbo, Ic max) triples and 3,000 thermal tuples. Each check is computed once
+# per distinct tuple and gathered to the rows by a code cached with the group, so a ranking
+# costs a handful of gathers over the group instead of a hundred array operations.
+_BLOCKS: tuple[tuple[tuple[str, ...], tuple[str, ...]], ...] = (
+    (("vceo", "vcbo", "ic_max"), ("vceo", "vcbo", "ic_max")),
+    (("ptot", "tj_max", "case_rated", "material", "package"), ("ptot", "tj_max")),
+    (("ft",), ("ft",)),
+    (("hfe_min", "hfe_max"), ("hfe",)),
+    (("package",), ("package",)),
+    (("pinout",), ("pinout",)),
+    (("material",), ("material",)),
+)
+"""(fields a block's checks read, the checks): the first block's checks lead PARAMETERS, so
+their partial sum is taken per distinct tuple in the same order as :func:`_evaluate`."""
+
+KERNEL_MIN_ROWS = 4096
+"""Groups smaller than this are evaluated directly (a distinct-value table would not pay)."""
+KERNEL_AFTER_USES = 1
+"""A group is evaluated directly this many times before its tables are built: building them
+costs several rankings' worth, and a one-off ranking (one CLI call) never reuses them."""
+
+
+@dataclass
+class _Block:
+    codes: np.ndarray
+    """Distinct-tuple index of every row of the group."""
+    table: CatalogColumns
+    """One row per distinct tuple (the block's fields are exact; other fields are any row's)."""
+
+
+def _factorize_fields(cat: CatalogColumns, fields_: Sequence[str]) -> _Block:
+    """Distinct tuples of ``fields_`` over the rows: a code per row and one row per tuple."""
+    joint: np.ndarray | None = None
+    for name in fields_:
+        values = np.asarray(getattr(cat, name))
+        if values.dtype.kind in "iub":
+            # Small codes (outline, lead order, material, case flag): offset, no sort needed.
+            inverse = values.astype(np.int64) - int(values.min(initial=0))
+            size = int(inverse.max(initial=0)) + 1
+        else:
+            # return_index makes numpy sort stably, which is the faster sort on these columns.
+            uniq, first, inverse = np.unique(values, return_index=True, return_inverse=True)
+            if len(fields_) == 1:
+                return _Block(inverse.astype(np.intp).reshape(-1), cat.take(first))
+            size = len(uniq)  # NaNs fold into one value
+        joint = inverse.astype(np.int64) if joint is None else joint * size + inverse
+    assert joint is not None
+    _, first, codes = np.unique(joint, return_index=True, return_inverse=True)
+    return _Block(codes.astype(np.intp).reshape(-1), cat.take(first))
+
+
+_VERDICT_JOINT_FROM = 2
+"""Blocks from this index on share one verdict code (their distinct combinations are few)."""
+
+
+@dataclass
+class _Joint:
+    codes: np.ndarray
+    """Combination index of every row of the group."""
+    parts: list[np.ndarray]
+    """Per combination, its code in each of the joined blocks."""
+
+
+def _group_blocks(cat: CatalogColumns) -> tuple[list[_Block], _Joint]:
+    hit = cat._memo.get("blocks")
+    if hit is None:
+        blocks = [_factorize_fields(cat, f) for f, _ in _BLOCKS]
+        joint = np.zeros(cat.size, dtype=np.int64)
+        for block in blocks[_VERDICT_JOINT_FROM:]:
+            joint = joint * block.table.size + block.codes
+        _, first, codes = np.unique(joint, return_index=True, return_inverse=True)
+        hit = (blocks, _Joint(codes.astype(np.intp).reshape(-1),
+                              [b.codes[first] for b in blocks[_VERDICT_JOINT_FROM:]]))
+        cat._memo["blocks"] = hit
+    return hit
+
+
+@dataclass
+class _Scores:
+    """Score and verdict of every row of a group, and how to detail some of them."""
+
+    score: np.ndarray
+    verdict: np.ndarray
+    detail: Callable[[np.ndarray], _Evaluation]
+    """The full evaluation of the given positions (equal to :func:`_evaluate` on them)."""
+
+
+_FAST = "clip"
+"""Gather mode: every code is in range by construction, and numpy's bounds-checking default
+("raise") makes each gather over the group about 1.6 times slower."""
+
+
+def _group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress: Stress,
+                  policy: Policy, weights: Weights, stock_qty: np.ndarray | None,
+                  history_score: np.ndarray | None) -> _Scores:
+    """Score and verdict of every row of ``cat``, equal bit for bit to :func:`_evaluate`'s.
+
+    The same check functions run on each block's distinct tuples; the weighted sum is then
+    gathered and added up in the order of PARAMETERS, exactly as :func:`_evaluate` adds it.
+    """
+    n = rows.shape[0]
+
+    def direct(top: np.ndarray) -> _Evaluation:
+        return _evaluate(cat.take(top), rows[top], req, stress, policy, weights, stock_qty,
+                         history_score)
+
+    uses = cat._memo.get("uses", 0)
+    if n < KERNEL_MIN_ROWS or ("blocks" not in cat._memo and uses < KERNEL_AFTER_USES):
+        cat._memo["uses"] = uses + 1
+        ev = _evaluate(cat, rows, req, stress, policy, weights, stock_qty, history_score)
+        return _Scores(ev.score, ev.verdict, direct)
+    w = weights.as_dict()
+    blocks, joint = _group_blocks(cat)
+    total = np.empty(n)
+    buffer = np.empty(n)
+    verdict = np.empty(n, np.int8)
+    vbuffer = np.empty(n, np.int8)
+    joint_v = np.zeros(len(joint.parts[0]), np.int8)
+    computed: list[tuple[_Block, dict[str, _Column], np.ndarray | None, np.ndarray | None]] = []
+    for b, ((_, names), block) in enumerate(zip(_BLOCKS, blocks, strict=True)):
+        cols, allowed, tj_est = _columns(block.table, req, stress, policy, names)
+        computed.append((block, cols, allowed, tj_est))
+        part_v = _verdict_part(cols, block.table.size)
+        if b >= _VERDICT_JOINT_FROM:
+            np.maximum(joint_v, part_v[joint.parts[b - _VERDICT_JOINT_FROM]], out=joint_v)
+        elif b == 0:
+            np.take(part_v, block.codes, out=verdict, mode=_FAST)
+        else:
+            np.take(part_v, block.codes, out=vbuffer, mode=_FAST)
+            np.maximum(verdict, vbuffer, out=verdict)
+        if b == 0:
+            # The leading checks: their running sum from zero, per distinct tuple.
+            lead = np.zeros(block.table.size)
+            for name in names:
+                if w[name]:
+                    lead += w[name] * cols[name].sub
+            np.take(lead, block.codes, out=total, mode=_FAST)
+            continue
+        for name in names:
+            if w[name]:
+                np.take(w[name] * cols[name].sub, block.codes, out=buffer, mode=_FAST)
+                total += buffer
+    np.take(joint_v, joint.codes, out=vbuffer, mode=_FAST)
+    np.maximum(verdict, vbuffer, out=verdict)
+    in_stock = np.zeros(n, bool) if stock_qty is None else stock_qty.take(rows, mode=_FAST) > 0
+    if history_score is None:
+        # stock is 0 or 1 and history 0.5 here: the two possible sums, taken as _extras does.
+        pair = _extras(weights, np.array([0.0, 1.0]), np.full(2, 0.5))
+        total += np.where(in_stock, pair[1], pair[0])
+    else:
+        total += _extras(weights, in_stock.astype(float), history_score.take(rows))
+    total *= 100.0
+    total /= weights.total()
+    score = total
+
+    def gathered(top: np.ndarray) -> _Evaluation:
+        # The rows returned, gathered from the distinct-tuple checks already computed.
+        cols: dict[str, _Column] = {}
+        allowed: np.ndarray | None = None
+        tj_est: np.ndarray | None = None
+        for block, bcols, b_allowed, b_tj in computed:
+            at = block.codes[top]
+            for name, col in bcols.items():
+                cols[name] = _Column(col.need[at] if isinstance(col.need, np.ndarray)
+                                     else col.need, col.offered[at], col.status[at],
+                                     col.sub[at], None if col.ratio is None else col.ratio[at],
+                                     col.basis)
+            if b_allowed is not None:
+                allowed = b_allowed[at]
+                tj_est = None if b_tj is None else b_tj[at]
+        assert allowed is not None
+        grows = rows[top]
+        k = grows.shape[0]
+        return _Evaluation(grows, cols, stock_qty[grows] if stock_qty is not None
+                           else np.zeros(k, int),
+                           np.full(k, 0.5) if history_score is None else history_score[grows],
+                           score[top], verdict[top], allowed, tj_est)
+
+    return _Scores(score, verdict, gathered)
 
 
 def _package_code(cat: CatalogColumns, package: str | None) -> int:
@@ -748,8 +996,8 @@ def _fit_column(codes: np.ndarray, need: int, other: float) -> _Column:
     return _Column(float(need), codes, status, sub, None, "original")
 
 
-def _hfe_column(cat: CatalogColumns, rows: np.ndarray, req: Requirement) -> _Column:
-    n = rows.shape[0]
+def _hfe_column(cat: CatalogColumns, req: Requirement) -> _Column:
+    n = cat.size
     lo, hi = cat.log_hfe
     if req.hfe_min is None:
         return _Column(np.nan, cat.hfe_min, np.full(n, UNKNOWN, np.int8),
@@ -880,12 +1128,17 @@ def history_scores(cat: CatalogColumns, history: Mapping[str, PastSwaps] | None
     return out
 
 
-def _top(score: np.ndarray, verdict: np.ndarray, key_rank: np.ndarray, limit: int,
-         exclude: int | None = None) -> np.ndarray:
+_KEY_SORT_MAX = 2048
+"""Pools up to this size are ordered by comparing their keys; larger ones use key_rank."""
+
+
+def _top(score: np.ndarray, verdict: np.ndarray, cat: CatalogColumns, limit: int,
+         exclude: int | None = None, keep: np.ndarray | None = None) -> np.ndarray:
     """Positions of the best ``limit`` rows: verdict class, then score, then normalised key.
 
-    ``exclude`` is a position left out (the original itself). Only the rows tied at the cut are
-    compared by key, so the tie-break costs nothing on a catalog of distinct scores.
+    ``exclude`` is a position left out (the original itself); ``keep``, when given, marks the
+    rows that may be returned. Only the rows tied at the cut are compared by key, so the
+    tie-break costs nothing on a catalog of distinct scores.
     """
     n = score.shape[0]
     if n == 0 or limit <= 0:
@@ -893,27 +1146,57 @@ def _top(score: np.ndarray, verdict: np.ndarray, key_rank: np.ndarray, limit: in
     comp = verdict * 1000.0 - score
     if exclude is not None:
         comp[exclude] = np.inf
-    if n > limit:
+    if keep is not None:
+        comp[~keep] = np.inf
+    pool: np.ndarray | None = None
+    if n > 64 * limit:
+        # A cut read off a strided sample: every row at or below it is in the pool, so when
+        # the pool holds at least ``limit`` rows the best ``limit`` (and every tie at the last
+        # one) are in it, whatever the sample; otherwise the full selection below decides.
+        step = max(1, n // 2048)
+        sample = comp[::step]
+        j = min(sample.shape[0] - 1, 4 * limit // step + 1)
+        cut = np.partition(sample, j)[j]
+        if np.isfinite(cut):
+            candidates = np.flatnonzero(comp <= cut)
+            if limit <= candidates.shape[0] <= 64 * limit:
+                pool = candidates
+    if pool is None and n > limit:
         part = np.argpartition(comp, limit - 1)[:limit]
         cut = comp[part].max()
         pool = np.flatnonzero(comp <= cut)  # every tie at the cut, so the tie-break is exact
-    else:
+    elif pool is None:
         pool = np.arange(n)
     pool = pool[np.isfinite(comp[pool])]
-    return pool[np.lexsort((key_rank[pool], comp[pool]))[:limit]]
+    if pool.shape[0] <= _KEY_SORT_MAX:
+        # Keys are unique and compare as key_rank orders them (code point order), so a small
+        # pool needs no rank of the whole group (an argsort of every key, read cold).
+        keys = cat.key[pool].tolist()
+        values = comp[pool].tolist()
+        order = sorted(range(pool.shape[0]), key=lambda j: (values[j], keys[j]))[:limit]
+        return pool[np.array(order, dtype=np.intp)]
+    return pool[np.lexsort((cat.key_rank[pool], comp[pool]))[:limit]]
 
 
 def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | None = None,
          policy: Policy | None = None, weights: Weights | None = None,
          stock_qty: np.ndarray | None = None, *, history: Mapping[str, PastSwaps] | None = None,
          locations: Mapping[str, Sequence[str]] | None = None, limit: int = 15,
-         in_stock_only: bool = False, show_rejected: bool = False) -> RankResult:
+         in_stock_only: bool = False, show_rejected: bool = False,
+         considered: int | None = None) -> RankResult:
     """Rank the catalog's rows as substitutes for ``requirement`` (data already loaded).
 
     ``stock_qty`` is aligned with the catalog rows; ``history`` maps a substitute's normalised
     key to what the swap log says about it for this original; ``locations`` maps keys to drawer
     paths (used only for the rows returned). With ``show_rejected`` the best ``limit`` rows of
     the wrong polarity or kind follow, with verdict ``incompatible`` and the reason.
+
+    ``catalog`` may hold only the requirement's polarity and kind (all a ranking without
+    ``show_rejected`` reads); ``considered`` is then the whole catalog's row count, reported
+    as :attr:`RankResult.considered` (default: ``catalog.size``).
+
+    Score and verdict of every compatible row come from :func:`_group_scores`; the rows
+    returned are detailed from the same checks (:meth:`_Scores.detail`).
     """
     from partsdb.derating import BUILTIN_POLICIES, DEFAULT_POLICY
 
@@ -927,29 +1210,34 @@ def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | Non
     original = catalog.index_of(requirement.designation)
     hist = history_scores(catalog, history)
     rows, view = catalog.group(requirement.polarity, requirement.kind)
+    keep: np.ndarray | None = None
     if in_stock_only:
-        keep = np.flatnonzero(stock_qty[rows] > 0) if stock_qty is not None else \
-            np.zeros(0, dtype=np.intp)
-        rows, view = rows[keep], view.take(keep)
+        # The group's cached tables stay in use: rows out of stock are masked, not dropped.
+        keep = stock_qty.take(rows) > 0 if stock_qty is not None else \
+            np.zeros(rows.shape[0], dtype=bool)
     # The original itself is left out of its own list (by position, without a gather).
     exclude: int | None = None
     if original is not None:
         at = int(np.searchsorted(rows, original))
         if at < rows.shape[0] and rows[at] == original:
             exclude = at
-    ev = _evaluate(view, rows, requirement, stress, policy, weights, stock_qty, hist)
-    top = _top(ev.score, ev.verdict, view.key_rank, limit, exclude)
-    candidates = [_details(catalog, ev, int(p), requirement, stress, policy, weights, history,
-                           locations, None) for p in top]
-    result = RankResult(requirement, stress, policy, weights, candidates, catalog.size,
-                        int(rows.shape[0]) - (exclude is not None))
+    scored = _group_scores(view, rows, requirement, stress, policy, weights, stock_qty, hist)
+    top = _top(scored.score, scored.verdict, view, limit, exclude, keep)
+    ev = scored.detail(top)
+    candidates = [_details(catalog, ev, p, requirement, stress, policy, weights, history,
+                           locations, None) for p in range(top.shape[0])]
+    compatible = int(rows.shape[0]) if keep is None else int(np.count_nonzero(keep))
+    if exclude is not None and (keep is None or keep[exclude]):
+        compatible -= 1
+    result = RankResult(requirement, stress, policy, weights, candidates,
+                        catalog.size if considered is None else considered, compatible)
     if show_rejected:
         rrows = catalog.rejected(requirement.polarity, requirement.kind)
         if in_stock_only:
             rrows = rrows[stock_qty[rrows] > 0] if stock_qty is not None else rrows[:0]
         rview = catalog.take(rrows)
         rev = _evaluate(rview, rrows, requirement, stress, policy, weights, stock_qty, hist)
-        rtop = _top(rev.score, np.zeros_like(rev.verdict), rview.key_rank, limit)
+        rtop = _top(rev.score, np.zeros_like(rev.verdict), rview, limit)
         for p in rtop:
             i = int(rrows[p])
             reasons = []
@@ -1137,6 +1425,10 @@ def _rating_note(name: str, col: _Column, need: float | None, offered: float | N
     return f"original's {LABEL[name]}"
 
 
+_TABLED_OUTLINES = frozenset(outline_key(k) for k in FREE_AIR_CASE_TO_AMBIENT)
+"""Outlines with a free-air case-to-ambient figure in partsdb.thermal (others are assumed)."""
+
+
 def _flags(flags: list[Flag], checks: list[Check], dev: dict[str, Any], req: Requirement,
            stress: Stress, ev: _Evaluation, p: int, cat: CatalogColumns, i: int) -> None:
     by = {c.parameter: c for c in checks}
@@ -1160,8 +1452,7 @@ def _flags(flags: list[Flag], checks: list[Check], dev: dict[str, Any], req: Req
                 if stress.heatsink is not None else
                 f"no heat sink: {float(cat.free_air[i]):g} K/W case-to-ambient in free air "
                 f"for {dev['package'] or 'an unknown outline'}"
-                + ("" if outline_key(dev["package"]) in {outline_key(k) for k in
-                                                         FREE_AIR_CASE_TO_AMBIENT} else " (assumed)"))
+                + ("" if outline_key(dev["package"]) in _TABLED_OUTLINES else " (assumed)"))
         flags.append(Flag("case-rating-converted",
                           f"Ptot {_fmt(dev['ptot'], 'W')} is a case rating; converted through the "
                           f"thermal chain ({sink}) to {_fmt(float(ev.allowed_power[p]), 'W')} "

@@ -1,14 +1,19 @@
 """Substitution glue: catalog columns from the database, requirement, stock, history, ranking.
 
-The candidate columns are read with one raw DBAPI query into numpy (never ORM objects) and kept
+The candidate columns are read with raw DBAPI queries into numpy (never ORM objects) and kept
 per database, keyed on (row count, newest ``updated_at``), so repeated rankings in one process
 reuse the arrays; any device added, edited, imported or removed changes the key.
+
+A ranking needs only the rows of the requirement's polarity and kind (the hard constraints), so
+:func:`rank_substitutes` reads and caches that group alone (:func:`load_group`: one query
+filtered in SQL, about half the rows); the whole catalog (:func:`load_catalog`) is read only
+for ``show_rejected``, which lists the other groups too.
 """
 
 from __future__ import annotations
 
 import threading
-from collections.abc import Mapping
+from collections.abc import Mapping, Sequence
 from itertools import chain
 from typing import Any
 
@@ -37,7 +42,8 @@ from partsdb.storage.database import Database
 from partsdb.storage.models import SwapRow
 
 _NUMBER_COLUMNS = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max", "ft")
-_CACHE: dict[str, tuple[tuple[Any, ...], CatalogColumns]] = {}
+_CACHE: dict[str, tuple[tuple[Any, ...], dict[str, CatalogColumns]]] = {}
+"""Per database: (catalog version, columns by part: "all" or "npn/bjt" and so on)."""
 _LOCK = threading.Lock()
 
 # Requirement fields a spec may give (the CLI options map onto these).
@@ -58,13 +64,19 @@ def _case(column: str, table: tuple[str, ...]) -> str:
 
 # The four choice columns travel packed in one integer (each code < 4): a quarter fewer Python
 # objects per row, which is what reading costs.
-_NUMBERS_SQL = (
+_NUMBER_SELECT = (
     "SELECT "
     f"{_case('polarity', POLARITIES)} + 4 * {_case('kind', KINDS)} "
     f"+ 16 * {_case('material', MATERIALS)} + 64 * (CASE WHEN ptot_ref = 'case' THEN 1 ELSE 0 END), "
-    + ", ".join(f"COALESCE({c}, {_MISSING})" for c in _NUMBER_COLUMNS)
-    + " FROM devices ORDER BY id")
+    + ", ".join(f"COALESCE({c}, {_MISSING})" for c in _NUMBER_COLUMNS))
+_NUMBERS_SQL = _NUMBER_SELECT + " FROM devices ORDER BY id"
 _TEXT_SQL = "SELECT designation, key, package, pinout FROM devices ORDER BY id"
+# One group. Outline and lead order travel as one cell (few distinct pairs, split once each):
+# what reading costs is Python objects per cell. The values are checked against POLARITIES and
+# KINDS and written in, so the text is the same for every driver's parameter style.
+_GROUP_SQL = (_NUMBER_SELECT + ", designation, key, COALESCE(package, '') || '|' || "
+              "COALESCE(pinout, '') FROM devices WHERE {pol} = '{polarity}' AND {kind} = "
+              "'{kind_value}' ORDER BY id")
 
 
 def catalog_version(session: Session) -> tuple[Any, ...]:
@@ -89,30 +101,77 @@ def read_catalog(session: Session) -> CatalogColumns:
         text_rows = cursor.fetchall()
     finally:
         cursor.close()
+    return _columns_from_rows(number_rows, text_rows, 0)
+
+
+def read_group(session: Session, polarity: str, kind: str) -> CatalogColumns:
+    """The devices of one polarity and kind as columns (one raw query, filtered in SQL)."""
+    if polarity not in POLARITIES or kind not in KINDS:
+        raise SpecError(f"group: {polarity!r}/{kind!r} is not valid; expected npn or pnp and "
+                        "bjt or darlington")
+    conn = session.connection()
+    # On SQLite a unary + keeps the planner off the (polarity, kind) index, whose row-by-row
+    # lookups cost more than scanning the table when the group is half of it.
+    plus = "+" if conn.dialect.name == "sqlite" else ""
+    sql = _GROUP_SQL.format(pol=f"{plus}polarity", polarity=polarity, kind=f"{plus}kind",
+                            kind_value=kind)
+    cursor = conn.connection.cursor()
+    try:
+        cursor.execute(sql)
+        rows = cursor.fetchall()
+    finally:
+        cursor.close()
+    width = 1 + len(_NUMBER_COLUMNS)
+    text: list[Any] = [[row[k] for row in rows] for k in range(width, width + 3)]
+    pairs = sorted(set(text[2]))
+    split = {pair: pair.rsplit("|", 1) for pair in pairs}  # a pinout holds no "|"
+    pair_code = {pair: i for i, pair in enumerate(pairs)}
+    per_row = np.fromiter(map(pair_code.__getitem__, text[2]), dtype=np.int32, count=len(rows))
+    packages, package_of_pair = _factorize([split[p][0] or None for p in pairs], outline_key)
+    pinouts, pinout_of_pair = _factorize([split[p][1] or None for p in pairs],
+                                         lambda p: p or None)
+    return _columns_from_rows(rows, rows, width, text[:2],
+                              (packages, np.array(package_of_pair, dtype=np.int32)[per_row]),
+                              (pinouts, np.array(pinout_of_pair, dtype=np.int16)[per_row]))
+
+
+def _columns_from_rows(number_rows: list[Any], text_rows: list[Any], text_at: int,
+                       names: list[Any] | None = None,
+                       package: tuple[list[str], np.ndarray] | None = None,
+                       pinout: tuple[list[str], np.ndarray] | None = None) -> CatalogColumns:
+    """Columns from the numeric rows (packed codes, then the numbers) and the text rows
+    (designation, key, package, pinout from position ``text_at``); both lists may be one.
+    ``names`` (designations, keys), ``package`` and ``pinout`` (names, codes) may be given
+    already split out."""
     n = len(number_rows)
     width = 1 + len(_NUMBER_COLUMNS)
-    numbers = np.fromiter(chain.from_iterable(number_rows), dtype=float,
-                          count=n * width).reshape(n, width).T.copy()
+    cells = chain.from_iterable(number_rows) if text_at == 0 else \
+        chain.from_iterable(r[:width] for r in number_rows)
+    numbers = np.fromiter(cells, dtype=float, count=n * width).reshape(n, width).T.copy()
     numbers[numbers == _MISSING] = np.nan
     packed = numbers[0].astype(np.int16)
     codes = [((packed >> shift) & 3).astype(np.int8) - 1 for shift in (0, 2, 4)]
-    if n == 0:
-        text: list[tuple[Any, ...]] = [(), (), (), ()]
-    else:
-        text = list(zip(*text_rows, strict=True))
-    packages, package_codes = _factorize(text[2], outline_key)
-    pinouts, pinout_codes = _factorize(text[3], lambda p: p or None)
+    text: list[Any] = names if names is not None else \
+        [[row[k] for row in text_rows] for k in range(text_at, text_at + 2)]
+    if package is None:
+        names_, per_row = _factorize([row[text_at + 2] for row in text_rows], outline_key)
+        package = (names_, np.array(per_row, dtype=np.int32))
+    if pinout is None:
+        names_, per_row = _factorize([row[text_at + 3] for row in text_rows],
+                                     lambda p: p or None)
+        pinout = (names_, np.array(per_row, dtype=np.int16))
+    packages, package_codes = package
+    pinouts, pinout_codes = pinout
     return CatalogColumns(
         designation=np.array(text[0], dtype=object), key=np.array(text[1], dtype=object),
         polarity=codes[0], kind=codes[1], material=codes[2],
         case_rated=((packed >> 6) & 1).astype(bool),
-        package=np.array(package_codes, dtype=np.int32),
-        pinout=np.array(pinout_codes, dtype=np.int16),
+        package=package_codes, pinout=pinout_codes,
         packages=tuple(packages), pinouts=tuple(pinouts),
         **{name: numbers[1 + j] for j, name in enumerate(_NUMBER_COLUMNS)})
 
 
-def _factorize(values: tuple[Any, ...], fold: Any) -> tuple[list[str], list[int]]:
+def _factorize(values: Sequence[Any], fold: Any) -> tuple[list[str], list[int]]:
     """(display names by code, code per row) grouping values by ``fold`` (-1 for none).
 
     Distinct values are few, so they are sorted first: codes and names do not depend on set
@@ -140,16 +199,40 @@ def _cache_key(session: Session) -> str:
 
 def load_catalog(session: Session) -> CatalogColumns:
     """The catalog columns, from the per-database cache when the devices have not changed."""
+    return _cached(session, "all", lambda: read_catalog(session))[0]
+
+
+def load_group(session: Session, polarity: str, kind: str) -> tuple[CatalogColumns, int]:
+    """(columns of one polarity and kind, rows in the whole catalog), cached like
+    :func:`load_catalog`; the whole catalog's cached columns serve when already loaded."""
     key = _cache_key(session)
     version = catalog_version(session)
     with _LOCK:
         hit = _CACHE.get(key)
-        if hit is not None and hit[0] == version:
-            return hit[1]
-    columns = read_catalog(session)
+        whole = hit[1].get("all") if hit is not None and hit[0] == version else None
+    if whole is not None:
+        return whole, int(version[0])
+    group = _cached(session, f"{polarity}/{kind}", lambda: read_group(session, polarity, kind),
+                    version)[0]
+    return group, int(version[0])
+
+
+def _cached(session: Session, part: str, read: Any, version: tuple[Any, ...] | None = None
+            ) -> tuple[CatalogColumns, tuple[Any, ...]]:
+    key = _cache_key(session)
+    version = version if version is not None else catalog_version(session)
     with _LOCK:
-        _CACHE[key] = (version, columns)
-    return columns
+        hit = _CACHE.get(key)
+        if hit is not None and hit[0] == version and part in hit[1]:
+            return hit[1][part], version
+    columns = read()
+    with _LOCK:
+        hit = _CACHE.get(key)
+        if hit is None or hit[0] != version:
+            hit = (version, {})
+            _CACHE[key] = hit
+        hit[1][part] = columns
+    return columns, version
 
 
 def clear_cache() -> None:
@@ -240,13 +323,17 @@ def rank_substitutes(target: Session | Database, designation: str | None = None,
     w = weights or load_weights()
     with _session_of(target) as session:
         requirement = build_requirement(session, designation, spec)
-        cat = load_catalog(session)
+        considered: int | None = None
+        if show_rejected:
+            cat = load_catalog(session)
+        else:
+            cat, considered = load_group(session, requirement.polarity, requirement.kind)
         qty, places = stock_columns(session, cat)
         history = swap_history(session, requirement.designation) if requirement.designation \
             else None
     return rank(cat, requirement, stress or Stress(), pol, w, qty, history=history,
                 locations=places, limit=limit, in_stock_only=in_stock_only,
-                show_rejected=show_rejected)
+                show_rejected=show_rejected, considered=considered)
 
 
 def worked_example(db: Database) -> str:

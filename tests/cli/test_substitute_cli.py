@@ -230,3 +230,28 @@ def test_demo_germanium_pnp(tmp_path: Path) -> None:
                            for c in silicon)
     stocked = [c for c in data["candidates"] if c["in_stock"] > 0]
     assert stocked and all(c["locations"] for c in stocked)
+
+
+def test_ranking_reads_only_the_compatible_group(db: Database) -> None:
+    # rank_substitutes reads the requirement's polarity and kind alone (filtered in SQL); the
+    # answer must equal a ranking over the whole catalog, and "considered" stays the whole count.
+    from partsdb.ranking import rank
+    from partsdb.services import substitution
+
+    for original, spec in (("QZ130", None), (None, {"polarity": "npn", "vceo": 50.0}),
+                           (None, {"polarity": "pnp", "kind": "darlington"})):
+        substitution.clear_cache()
+        fast = rank_substitutes(db, original, spec, Stress(vce_peak=25.0, power=0.2)).to_json()
+        with db.session() as session:
+            req = substitution.build_requirement(session, original, spec)
+            cat = substitution.load_catalog(session)
+            qty, places = substitution.stock_columns(session, cat)
+            history = substitution.swap_history(session, original) if original else None
+        whole = rank(cat, req, Stress(vce_peak=25.0, power=0.2), None, None, qty,
+                     history=history, locations=places).to_json()
+        assert fast == whole
+        assert fast["considered"] == len(PARTS)
+    # With the whole catalog cached, the group is served from it (no second read).
+    with db.session() as session:
+        group, considered = substitution.load_group(session, "pnp", "bjt")
+        assert group is substitution.load_catalog(session) and considered == len(PARTS)

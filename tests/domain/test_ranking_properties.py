@@ -7,6 +7,8 @@ promises: headroom never hurts, dominance, stock preference, zero weights.
 
 from __future__ import annotations
 
+import contextlib
+from collections.abc import Iterator
 from dataclasses import replace
 from typing import Any
 
@@ -14,12 +16,14 @@ import numpy as np
 from hypothesis import assume, given, settings
 from hypothesis import strategies as st
 
+import partsdb.ranking as ranking
 from partsdb.derating import BUILTIN_POLICIES, grade
 from partsdb.device import Device
 from partsdb.ranking import (
     STATUS_NAMES,
     VERDICTS,
     CatalogColumns,
+    PastSwaps,
     Requirement,
     Stress,
     Weights,
@@ -162,3 +166,177 @@ def test_zero_weight_removes_a_criterion(original: Device, cand: Device, other: 
     assert abs(found["QA1"].score - found["QA2"].score) < 1e-9
     assert found["QA1"].subscores == {**found["QA2"].subscores,
                                       criterion: found["QA1"].subscores[criterion]}
+
+
+# ------------------------------------------------------------ the fast path changes nothing
+#
+# rank() scores a large group from tables of its distinct values (partsdb.ranking
+# _group_scores) and orders it through a sampled cut; the checks below hold that path to the
+# straightforward one: ranking.assess on each device (one row at a time, sorted here in plain
+# Python) and ranking._evaluate over every row. The curve test uses numpy's np.interp as the
+# reference (a general-purpose library).
+
+FAST = 0  # every group takes the distinct-value path
+DIRECT = 10**9  # every group is evaluated row by row
+
+
+@contextlib.contextmanager
+def path(threshold: int) -> Iterator[None]:
+    """Force one scoring path (hypothesis cannot share pytest's monkeypatch across inputs)."""
+    saved = ranking.KERNEL_MIN_ROWS, ranking.KERNEL_AFTER_USES
+    ranking.KERNEL_MIN_ROWS, ranking.KERNEL_AFTER_USES = threshold, 0
+    try:
+        yield
+    finally:
+        ranking.KERNEL_MIN_ROWS, ranking.KERNEL_AFTER_USES = saved
+
+
+def synthetic_devices(n: int, seed: int) -> list[Device]:
+    """Invented devices drawn by the benchmark's generator (blank cells stay unknown)."""
+    from partsdb.services.synthetic import draw_catalog
+
+    cat = draw_catalog(n, seed)
+    names = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max", "ft")
+
+    def num(name: str, i: int) -> float | None:
+        v = float(cat.numbers[name][i])
+        return None if np.isnan(v) else v
+
+    out = []
+    for i in range(n):
+        values = {k: num(k, i) for k in names}
+        if values["hfe_min"] is None:
+            values["hfe_max"] = None
+        elif values["hfe_max"] is not None and values["hfe_max"] < values["hfe_min"]:
+            values["hfe_max"] = values["hfe_min"]
+        out.append(Device(designation=str(cat.designation[i]), kind=str(cat.text["kind"][i]),
+                          polarity=str(cat.polarity[i]), material=str(cat.text["material"][i]),
+                          ptot_ref=str(cat.text["ptot_ref"][i]) or None,
+                          package=str(cat.text["package"][i]) or None,
+                          pinout=str(cat.text["pinout"][i]) or None, **values))
+    return out
+
+
+SYNTHETIC = synthetic_devices(400, 20_240_611)
+SYNTHETIC_CAT = CatalogColumns.from_devices(SYNTHETIC)
+
+
+def straightforward(devs: list[Device], req: Requirement, stress: Stress, policy: Any,
+                    weights: Weights, limit: int) -> list[tuple[str, float, str]]:
+    """assess() each compatible device and sort: verdict class, score (higher first), key."""
+    rows = []
+    for d in devs:
+        if d.polarity != req.polarity or d.kind != req.kind or d.key == req.key:
+            continue
+        c = ranking.assess(d, req, stress, policy, weights)
+        rows.append((VERDICTS.index(c.verdict), -c.score, d.key, c))
+    rows.sort(key=lambda r: r[:3])
+    return [(r[3].designation, r[3].score, r[3].verdict) for r in rows[:limit]]
+
+
+@st.composite
+def requirements(draw: Any) -> Requirement:
+    if draw(st.booleans()):
+        return Requirement.from_device(draw(st.sampled_from(SYNTHETIC)))
+    vceo = draw(st.sampled_from([None, 20.0, 45.0, 60.0, 150.0]))
+    hfe = draw(st.sampled_from([None, (40.0, 120.0), (100.0, 300.0), (1000.0, None)]))
+    return Requirement(polarity=draw(st.sampled_from(["npn", "pnp"])),
+                       kind=draw(st.sampled_from(["bjt", "darlington"])),
+                       material=draw(st.sampled_from([None, "si", "ge"])), vceo=vceo,
+                       ic_max=draw(st.sampled_from([None, 0.1, 1.0, 5.0])),
+                       ptot=draw(st.sampled_from([None, 0.3, 1.0, 25.0])),
+                       ptot_ref=draw(st.sampled_from([None, "ambient", "case"])),
+                       tj_max=draw(st.sampled_from([None, 150.0])),
+                       hfe_min=hfe[0] if hfe else None, hfe_max=hfe[1] if hfe else None,
+                       ft=draw(st.sampled_from([None, 1e6, 100e6])),
+                       package=draw(st.sampled_from([None, "TO-92", "TO-126", "TO-220", "XQ-9"])),
+                       pinout=draw(st.sampled_from([None, "EBC", "ECB", "BCE"])))
+
+
+@settings(max_examples=60, deadline=None)
+@given(requirements(), stresses(), st.sampled_from(POLICIES), st.integers(1, 40))
+def test_fast_path_matches_assess_per_device(req: Requirement, stress: Stress, policy: Any,
+                                             limit: int) -> None:
+    weights = Weights()
+    with path(FAST):
+        result = rank(SYNTHETIC_CAT, req, stress, policy, weights, limit=limit)
+    got = [(c.designation, c.score, c.verdict) for c in result.candidates]
+    assert got == straightforward(SYNTHETIC, req, stress, policy, weights, limit)
+    assert len(got) == min(limit, result.compatible)
+
+
+@settings(max_examples=60, deadline=None)
+@given(requirements(), stresses(), st.sampled_from(POLICIES),
+       st.lists(st.floats(0.0, 30.0), min_size=12, max_size=12), st.booleans(), st.booleans())
+def test_fast_path_equals_the_direct_path(req: Requirement, stress: Stress, policy: Any,
+                                          w: list[float], in_stock: bool,
+                                          with_history: bool) -> None:
+    # Every returned field (checks, notes, flags, sub-scores), with stock, history and the
+    # in-stock filter, is the same whichever path scored the group.
+    assume(sum(w) > 0)
+    weights = Weights(*w)
+    rng = np.random.default_rng(len(SYNTHETIC) + int(sum(w)))
+    qty = np.where(rng.random(SYNTHETIC_CAT.size) < 0.3, rng.integers(1, 50, SYNTHETIC_CAT.size),
+                   0)
+    history = None
+    if with_history:
+        keys = SYNTHETIC_CAT.key[rng.choice(SYNTHETIC_CAT.size, 30, replace=False)]
+        history = {str(k): PastSwaps(int(rng.integers(0, 2)), int(rng.integers(0, 2)), ("J1",))
+                   for k in keys}
+    results = []
+    for threshold in (FAST, DIRECT):
+        with path(threshold):
+            results.append(rank(SYNTHETIC_CAT, req, stress, policy, weights, qty,
+                                history=history, limit=25, in_stock_only=in_stock).to_json())
+    assert results[0] == results[1]
+    assert results[0]["candidates"] or results[0]["compatible"] == 0
+
+
+@settings(max_examples=40, deadline=None)
+@given(requirements(), stresses(), st.sampled_from(POLICIES))
+def test_group_scores_equal_evaluate_on_every_row(req: Requirement, stress: Stress,
+                                                  policy: Any) -> None:
+    # Bit for bit, on every row of the group, not only the rows returned.
+    rows, view = SYNTHETIC_CAT.group(req.polarity, req.kind)
+    assume(rows.shape[0] > 0)
+    with path(FAST):
+        fast = ranking._group_scores(view, rows, req, stress, policy, Weights(), None, None)
+    ev = ranking._evaluate(view, rows, req, stress, policy, Weights(), None, None)
+    assert np.array_equal(fast.score, ev.score)
+    assert np.array_equal(fast.verdict, ev.verdict)
+    some = np.arange(0, rows.shape[0], 7)
+    detail, direct = fast.detail(some), ranking._evaluate(view.take(some), rows[some], req,
+                                                          stress, policy, Weights(), None, None)
+    for name in ranking.PARAMETERS:
+        a, b = detail.columns[name], direct.columns[name]
+        assert np.array_equal(a.status, b.status) and np.array_equal(a.sub, b.sub)
+        assert np.array_equal(np.asarray(a.offered, float), np.asarray(b.offered, float),
+                              equal_nan=True)
+
+
+def test_selection_with_ties_and_large_groups() -> None:
+    # The sampled cut must give what a full sort gives, ties at the cut broken by key, on a
+    # group large enough to take it (common practice: test the fast path against a sort).
+    rng = np.random.default_rng(3)
+    n = 20_000
+    devs = [Device(designation=f"QT{i:05d}", kind="bjt", polarity="npn", material="si",
+                   vceo=float(rng.choice([30.0, 45.0, 60.0])), ic_max=0.5, ptot=0.5,
+                   hfe_min=100.0) for i in rng.permutation(n)]
+    cat = CatalogColumns.from_devices(devs)
+    req = Requirement(polarity="npn", vceo=45.0, ic_max=0.5, hfe_min=100.0)
+    for limit in (1, 15, 100):
+        got = [c.designation for c in rank(cat, req, limit=limit).candidates]
+        # Every part at 60 V ties; the full order is by key among them.
+        best = sorted(d.designation for d in devs if d.vceo == 60.0)
+        assert got == best[:limit]
+
+
+@settings(max_examples=200)
+@given(st.lists(st.one_of(st.floats(-1.0, 10.0), st.just(float("nan"))), min_size=1,
+                max_size=50), st.floats(1.01, 20.0))
+def test_piecewise_curve_equals_numpy_interp(h: list[float], inv: float) -> None:
+    x = np.array([*h, 0.0, 1.0, inv, 2 * inv, np.nextafter(inv, 0), np.nextafter(1.0, 2)])
+    for xs, ys in (((0.0, 1.0, inv, 2 * inv), (0.0, 0.3, 0.7, 1.0)),
+                   ((0.0, 1.0, 2.0), (0.0, 0.3, 0.6))):
+        assert np.array_equal(ranking._piecewise(x, xs, ys), np.interp(x, xs, ys),
+                              equal_nan=True)
