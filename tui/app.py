@@ -7,6 +7,7 @@ pure domain modules; they never hold SQL, scoring or unit parsing of their own.
 
 from __future__ import annotations
 
+import threading
 from collections.abc import Iterable
 from typing import TYPE_CHECKING, Any, ClassVar
 
@@ -14,10 +15,11 @@ from rich.text import Text
 from textual import on
 from textual.app import App, ComposeResult, SystemCommand
 from textual.binding import Binding, BindingType
-from textual.screen import Screen
+from textual.screen import ModalScreen, Screen
 from textual.widgets import ContentSwitcher, Footer, Static
 
 from tui.bench import BenchView
+from tui.catalog_data import SharedIndex
 from tui.devices import DevicesView
 from tui.drawers import DrawersView
 from tui.help import HelpScreen
@@ -25,6 +27,9 @@ from tui.ledger import LedgerView
 from tui.substitute import SubstituteView
 
 if TYPE_CHECKING:
+    from collections.abc import Callable
+
+    from partsdb.search import SearchIndex
     from partsdb.storage.database import Database
 
 VIEWS: tuple[tuple[str, str, str], ...] = (
@@ -62,7 +67,11 @@ class PartsdbApp(App[None]):
         Binding("question_mark", "help", "Help", show=False),
         # The view keys are drawn by the ViewBar just above the footer (one line for all five
         # at 80 columns); the Textual footer below it lists the current view's actions.
-        *[Binding(key, f"show('{ident}')", label, show=False) for ident, key, label in VIEWS],
+        # Priority: the app switches the view the moment F2-F6 arrives. Without it the key
+        # first travels to the focused field and back, and a character typed right behind it
+        # (tmux delivers both in one read) went to the old view's field and was lost.
+        *[Binding(key, f"show('{ident}')", label, show=False, priority=True)
+          for ident, key, label in VIEWS],
         Binding("ctrl+q", "quit", "Quit", show=False),
     ]
 
@@ -72,6 +81,8 @@ class PartsdbApp(App[None]):
         self.start = start
         self.cursor_blink = cursor_blink
         self.current = start
+        self.catalog_index = SharedIndex(db)
+        """The fuzzy index over the catalog, shared by Devices and Substitute."""
 
     def compose(self) -> ComposeResult:
         with ContentSwitcher(initial=self.start, id="views"):
@@ -85,6 +96,45 @@ class PartsdbApp(App[None]):
 
     def on_mount(self) -> None:
         self.action_show(self.start)
+        # Heavy work only after the first screen is on the terminal (see _warm_up).
+        self.call_after_refresh(self._warm_up)
+
+    def _warm_up(self) -> None:
+        # One thread, in order of need: the search index (typing in Devices), then the imports
+        # of Bench and Substitute. Two threads at once fight the UI for the GIL.
+        if self.catalog_index.index is None and not self.catalog_index.building:
+            self.catalog_index.building = True
+            self.run_worker(self._index_then_imports, thread=True, group="index")
+
+    def _index_then_imports(self) -> None:
+        self.catalog_index.build()
+        _import_heavy_modules()
+
+    def build_index(self) -> None:
+        """Build the shared search index in a worker thread unless one is being built."""
+        if self.catalog_index.index is None and not self.catalog_index.building:
+            self.catalog_index.building = True  # before the thread starts: no second worker
+            self.run_worker(self.catalog_index.build, thread=True, group="index")
+
+    def catalog_changed(self) -> None:
+        """A device was added or edited: rebuild the search index."""
+        self.catalog_index.invalidate()
+        self.build_index()
+
+    def with_index(self, callback: Callable[[SearchIndex], None]) -> None:
+        """``callback(index)`` on the UI thread: now if the index is ready, else once built."""
+        if self.catalog_index.index is not None:
+            callback(self.catalog_index.index)
+            return
+
+        def deliver(index: SearchIndex) -> None:
+            if threading.get_ident() == self._thread_id:  # became ready just now, on this thread
+                callback(index)
+            else:
+                self.call_from_thread(callback, index)
+
+        self.catalog_index.when_ready(deliver)
+        self.build_index()
 
     def _database_label(self) -> str:
         try:
@@ -95,8 +145,16 @@ class PartsdbApp(App[None]):
     def view(self, ident: str) -> Any:
         return self.query_one(f"#{ident}")
 
+    def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
+        # A form holds typed input: finish or cancel it before switching views.
+        if action == "show" and isinstance(self.screen, ModalScreen):
+            return isinstance(self.screen, HelpScreen)
+        return True
+
     def action_show(self, ident: str) -> None:
         """Switch to a view, loading its data the first time it is shown."""
+        if isinstance(self.screen, HelpScreen):
+            self.screen.dismiss()
         self.current = ident
         self.query_one("#views", ContentSwitcher).current = ident
         self.query_one(ViewBar).show(ident, self._database_label())
@@ -106,8 +164,11 @@ class PartsdbApp(App[None]):
         focus = {"drawers": "#lots-table", "devices": "#dev-search", "substitute": "#sub-query",
                  "bench": "#bn-original", "ledger": "#lg-device"}.get(ident)
         targets = view.query(focus) if focus else None
+        # Focus now, not through focus() (which defers it to a later message): a key typed
+        # right after F3/F4 may already be queued behind this one, and must reach the new
+        # view's field, not the hidden field of the view just left.
         if targets:
-            targets.first().focus()
+            self.screen.set_focus(targets.first())
         else:
             self.screen.focus_next()
         self.refresh_bindings()
@@ -143,6 +204,17 @@ class PartsdbApp(App[None]):
     def _devices_action(self, action: str) -> None:
         self.action_show("devices")
         getattr(self.view("devices"), f"action_{action}")()
+
+
+def _import_heavy_modules() -> None:
+    """Import what the Bench and Substitute views need (scipy among it: about 1 s) in the
+    background, so their first use does not wait for it."""
+    import importlib
+    from contextlib import suppress
+
+    for name in ("partsdb.bias", "partsdb.services.substitution"):
+        with suppress(ImportError):  # the view reports a missing part itself when used
+            importlib.import_module(name)
 
 
 def build_app(db: Database, *, start: str = "drawers", cursor_blink: bool = True) -> PartsdbApp:

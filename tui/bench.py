@@ -39,6 +39,8 @@ FIELDS: tuple[tuple[str, str, str, str], ...] = (
     ("re", "Re", "Ω", "470"),
     ("ambient", "Ambient", "°C", "25"),
 )
+DEFAULT_NETWORK = "divider"
+"""The network the form starts with (one of partsdb.bias.NETWORKS)."""
 STATUS_STYLE = {"ok": "green", "marginal": "yellow", "over": "bold red", "unknown": "dim"}
 
 
@@ -51,15 +53,16 @@ class BenchView(Horizontal):
         super().__init__(**kwargs)
         self.db = db
         self.report: BiasReport | None = None
+        self._networks_loaded = False
 
     def compose(self) -> ComposeResult:
-        from partsdb.bias import NETWORKS
-
+        # Only the default network until the view is first shown: partsdb.bias imports scipy
+        # (about 0.7 s), which must not delay the app's first screen. load() adds the rest.
         with VerticalScroll(id="bench-form"):
             with Horizontal(classes="form-row"):
                 yield Label("Network", classes="form-label")
-                yield Select([(n, n) for n in NETWORKS], value="divider", allow_blank=False,
-                             id="bn-network", compact=True)
+                yield Select([(DEFAULT_NETWORK, DEFAULT_NETWORK)], value=DEFAULT_NETWORK,
+                             allow_blank=False, id="bn-network", compact=True)
             for ident, label, _unit, value in FIELDS:
                 with Horizontal(classes="form-row"):
                     yield Label(label, classes="form-label")
@@ -76,7 +79,17 @@ class BenchView(Horizontal):
             yield VcePlot(id="bench-plot")
 
     def load(self) -> None:
-        """Nothing to read until asked."""
+        """Offer every network the bias library solves (once); nothing else to read."""
+        if self._networks_loaded:
+            return
+        from partsdb.bias import NETWORKS
+
+        self._networks_loaded = True
+        select = self.query_one("#bn-network", Select)
+        chosen = select.value
+        select.set_options([(n, n) for n in NETWORKS])
+        if chosen in NETWORKS:
+            select.value = chosen
 
     def fill(self, original: str | None = None, substitute: str | None = None) -> None:
         """Put designations into the form (from the Substitute view)."""

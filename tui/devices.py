@@ -1,26 +1,32 @@
 """The Devices view: the catalog with search-as-you-type, filters and a detail panel.
 
 The list pages its rows from the database (``catalog.list_devices`` with limit/offset) through
-a :class:`~tui.table.VirtualTable`, so 200,000 devices open as fast as 200. The fuzzy search
-index is built once in a worker thread when the view first opens and rebuilt only after an add
-or edit; each keystroke asks the index, never the database scan.
+a :class:`~tui.table.VirtualTable`, so 200,000 devices open as fast as 200; each row's cells
+are formatted once and kept with their page. The fuzzy search index is the app's shared one
+(built in the background after the first screen, see :mod:`tui.catalog_data`); a key after a
+pause searches at once, keys in a fast burst wait until it pauses (SEARCH_DEBOUNCE), so a
+fast typist runs two searches, not one per key.
+The detail panel follows the cursor after it rests (DETAIL_DEBOUNCE), so holding Page Up does
+not re-lay out the panel on every step.
 """
 
 from __future__ import annotations
 
-from typing import TYPE_CHECKING, Any, ClassVar
+from time import monotonic
+from typing import TYPE_CHECKING, Any, ClassVar, cast
 
 from rich.console import Group
-from rich.table import Table
 from rich.text import Text
-from textual import on, work
+from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding, BindingType
 from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.message import Message
+from textual.timer import Timer
 from textual.widgets import Input, Select, Static
 
 from partsdb.device import FIELDS, Device
+from tui.catalog_data import fetch_devices
 from tui.inputs import TextField
 from tui.table import Cell, Column, VirtualTable
 
@@ -28,9 +34,14 @@ if TYPE_CHECKING:
     from partsdb.search import SearchIndex
     from partsdb.services.catalog import DeviceFilter
     from partsdb.storage.database import Database
+    from tui.app import PartsdbApp
 
 PAGE = 200
 SEARCH_LIMIT = 50
+SEARCH_DEBOUNCE = 0.09
+"""Seconds of no typing before the search runs (a key every 90 ms or faster is one burst)."""
+DETAIL_DEBOUNCE = 0.05
+"""Seconds the cursor rests before the detail panel is redrawn."""
 
 COLUMNS = [
     Column("Designation", 12), Column("Pol", 3), Column("Mat", 3), Column("Vceo", 6, True),
@@ -79,6 +90,7 @@ class CatalogRows:
         self.filters = filters
         self.stock = stock
         self._pages: dict[int, list[Device]] = {}
+        self._cells: dict[int, list[Cell]] = {}
         with db.session() as session:
             self._count = catalog.count_devices(session, filters)
 
@@ -100,27 +112,31 @@ class CatalogRows:
         return rows[offset] if offset < len(rows) else None
 
     def row(self, index: int) -> list[Cell]:
-        device = self.device(index)
-        if device is None:
-            return ["…"]
-        return device_cells(device, self.stock.get(device.key))
+        cells = self._cells.get(index)
+        if cells is None:
+            device = self.device(index)
+            if device is None:
+                return ["…"]
+            if len(self._cells) > 20 * PAGE:  # keep memory flat on long scrolls
+                self._cells.clear()
+            cells = self._cells[index] = device_cells(device, self.stock.get(device.key))
+        return cells
 
 
 class HitRows:
-    """Search hits, best first; each device is fetched when its row is first drawn.
-
-    With a filter set, every hit is fetched at once (at most SEARCH_LIMIT) to drop the misses.
-    """
+    """Search hits, best first, with their records (at most SEARCH_LIMIT, read in one query);
+    with a filter set, the hits whose record fails it are dropped."""
 
     def __init__(self, db: Database, hits: list[Any], filters: DeviceFilter | None,
                  stock: dict[str, int]) -> None:
         self.db = db
         self.stock = stock
-        self.hits = list(hits)
-        self._devices: dict[int, Device | None] = {}
+        found = fetch_devices(db, [hit.designation for hit in hits])
+        pairs = [(hit, found.get(hit.designation)) for hit in hits]
         if filters is not None:
-            kept = [h for i, h in enumerate(self.hits) if _passes(self.device(i), filters)]
-            self.hits, self._devices = kept, {}
+            pairs = [(hit, device) for hit, device in pairs if _passes(device, filters)]
+        self.hits = [hit for hit, _ in pairs]
+        self._devices = [device for _, device in pairs]
 
     def __len__(self) -> int:
         return len(self.hits)
@@ -128,11 +144,6 @@ class HitRows:
     def device(self, index: int) -> Device | None:
         if not 0 <= index < len(self.hits):
             return None
-        if index not in self._devices:
-            from partsdb.services import catalog
-
-            with self.db.session() as session:
-                self._devices[index] = catalog.get_device(session, self.hits[index].designation)
         return self._devices[index]
 
     def row(self, index: int) -> list[Cell]:
@@ -163,13 +174,15 @@ def detail_renderable(device: Device, stock_total: int, places: list[str]) -> Gr
     title.append(f"  {device.polarity.upper()} {device.material} {device.kind}", style="")
     if device.obsolete:
         title.append("  OBSOLETE", style="magenta")
-    grid = Table.grid(padding=(0, 1))
-    grid.add_column(style="dim", no_wrap=True)
-    grid.add_column()
-    for spec in FIELDS:
-        if spec.name in ("designation", "kind", "polarity", "material", "notes"):
-            continue
-        grid.add_row(spec.label, device.display(spec.name))
+    # Plain lines with padded labels: a Rich Table here was measured on every cursor move
+    # and cost more than the rest of the screen together.
+    shown = [spec for spec in FIELDS
+             if spec.name not in ("designation", "kind", "polarity", "material", "notes")]
+    width = max(len(spec.label) for spec in shown) + 1
+    grid = Text()
+    for n, spec in enumerate(shown):
+        grid.append(spec.label.ljust(width), style="dim")
+        grid.append(device.display(spec.name) + ("\n" if n < len(shown) - 1 else ""))
     parts: list[Any] = [title]
     stock_line = Text("Stock: ", style="dim")
     stock_line.append(f"{stock_total}" if stock_total else "none", style="green" if stock_total
@@ -261,11 +274,17 @@ class DevicesView(Vertical):
     def __init__(self, db: Database, **kwargs: Any) -> None:
         super().__init__(**kwargs)
         self.db = db
-        self.index: SearchIndex | None = None
         self.filters: DeviceFilter | None = None
         self.stock: dict[str, int] = {}
         self.places: dict[str, list[str]] = {}
+        self.searches_run = 0
+        """How many index searches ran (a burst of keys is one; tests read it)."""
         self._loaded = False
+        self._search_timer: Timer | None = None
+        self._detail_timer: Timer | None = None
+        self._detail_at = 0.0
+        self._typed_at = 0.0
+        self._waiting_for_index = False
 
     def compose(self) -> ComposeResult:
         with Horizontal(id="dev-top"):
@@ -282,15 +301,23 @@ class DevicesView(Vertical):
     def table(self) -> VirtualTable:
         return self.query_one("#dev-table", VirtualTable)
 
+    @property
+    def shell(self) -> PartsdbApp:
+        """The app, typed (it owns the shared search index)."""
+        return cast("PartsdbApp", self.app)
+
+    @property
+    def index(self) -> SearchIndex | None:
+        """The app's shared search index (None while it is being built)."""
+        return self.shell.catalog_index.index
+
     def load(self) -> None:
-        """Fill the list the first time the view is shown; build the search index meanwhile."""
+        """Fill the list the first time the view is shown (the index is built by the app)."""
         if self._loaded:
             return
         self._loaded = True
         self._load_stock()
         self._show_catalog()
-        # Build the index after the list is painted, so the catalog shows at once.
-        self.call_after_refresh(self.build_index)
 
     def _load_stock(self) -> None:
         from partsdb.services import stock
@@ -299,22 +326,6 @@ class DevicesView(Vertical):
             summary = stock.stock_summary(session)
         self.stock = {k: s.quantity for k, s in summary.items()}
         self.places = {k: s.locations for k, s in summary.items()}
-
-    @work(thread=True, exclusive=True, group="index")
-    def build_index(self) -> None:
-        from partsdb.search import SearchIndex
-        from partsdb.services import catalog
-
-        with self.db.session() as session:
-            designations, notes = catalog.designations_and_notes(session)
-        index = SearchIndex(designations, notes)
-        self.app.call_from_thread(self._index_ready, index)
-
-    def _index_ready(self, index: SearchIndex) -> None:
-        self.index = index
-        query = self.query_one("#dev-search", Input).value
-        if query.strip():
-            self._search(query)
 
     def _show_catalog(self) -> None:
         rows = CatalogRows(self.db, self.filters, self.stock)
@@ -326,35 +337,82 @@ class DevicesView(Vertical):
     def _count_text(self, text: str) -> None:
         self.query_one("#dev-count", Static).update(text)
 
+    def _query(self) -> str:
+        return self.query_one("#dev-search", Input).value
+
     def _search(self, query: str) -> None:
+        """Show the hits for ``query`` now (the whole catalog when it is blank)."""
+        self._cancel_search_timer()
         if not query.strip():
             self._show_catalog()
             return
-        if self.index is None:
+        index = self.index
+        if index is None:
             self._count_text("indexing…")
+            if not self._waiting_for_index:
+                self._waiting_for_index = True
+                self.shell.with_index(self._index_ready)
             return
-        hits = self.index.find(query, limit=SEARCH_LIMIT)
+        self.searches_run += 1
+        hits = index.find(query, limit=SEARCH_LIMIT)
         rows = HitRows(self.db, hits, self.filters, self.stock)
         self.table.set_source(rows)
         self._count_text(f"{len(rows)} match" + ("" if len(rows) == 1 else "es"))
         if not len(rows):
             self.query_one("#dev-detail", Static).update(f"Nothing like {query!r}.")
 
+    def _index_ready(self, _index: SearchIndex) -> None:
+        self._waiting_for_index = False
+        self._search(self._query())  # what is typed now, not what was typed when it started
+
+    def _cancel_search_timer(self) -> None:
+        if self._search_timer is not None:
+            self._search_timer.stop()
+            self._search_timer = None
+
+    def flush_search(self) -> None:
+        """Run the search waiting for the keys to pause, now (Enter does this)."""
+        if self._search_timer is not None:
+            self._search(self._query())
+
     @on(Input.Changed, "#dev-search")
     def _query_changed(self, event: Input.Changed) -> None:
-        self._search(event.value)
+        # The first key after a pause searches at once; keys coming faster than
+        # SEARCH_DEBOUNCE only restart the timer, so a burst of typing runs at most two
+        # searches (its first key, and once the keys stop) and ends on what was typed last.
+        self._cancel_search_timer()
+        if not event.value.strip() or monotonic() - self._typed_at >= SEARCH_DEBOUNCE:
+            self._typed_at = monotonic()
+            self._search(event.value)
+            return
+        self._typed_at = monotonic()
+        self._search_timer = self.set_timer(SEARCH_DEBOUNCE, lambda: self._search(self._query()))
 
     @on(Input.Submitted, "#dev-search")
     def _query_submitted(self) -> None:
+        self.flush_search()
         self.table.focus()
 
     @on(FilterBar.Changed)
     def _filters_changed(self, event: FilterBar.Changed) -> None:
         self.filters = event.filters
-        self._search(self.query_one("#dev-search", Input).value)
+        self._search(self._query())
 
     @on(VirtualTable.Highlighted, "#dev-table")
     def _highlighted(self, event: VirtualTable.Highlighted) -> None:
+        # A single move shows the detail at once; moves coming faster than DETAIL_DEBOUNCE
+        # (a held key) only restart the timer, and the panel follows when they stop.
+        if self._detail_timer is None and monotonic() - self._detail_at >= DETAIL_DEBOUNCE:
+            self.show_detail()
+            return
+        if self._detail_timer is not None:
+            self._detail_timer.stop()
+        self._detail_timer = self.set_timer(DETAIL_DEBOUNCE, self.show_detail)
+
+    def show_detail(self) -> None:
+        """Draw the selected device's detail (the cursor's resting place)."""
+        self._detail_timer = None
+        self._detail_at = monotonic()
         device = self.selected_device()
         if device is not None:
             self.query_one("#dev-detail", Static).update(detail_renderable(
@@ -401,9 +459,8 @@ class DevicesView(Vertical):
             return
         self.notify(f"Saved {device.designation}.")
         self._load_stock()
-        self.index = None
-        self.build_index()  # the only rebuild: the catalog changed
-        # Show the saved record: the search runs again once the new index is ready.
+        self.shell.catalog_changed()  # the only rebuild of the index
+        # Show the saved record: the search runs once the keys pause and the index is ready.
         self.query_one("#dev-search", Input).value = device.designation
 
 

@@ -157,9 +157,11 @@ class SubstituteView(Vertical):
             policies = list(BUILTIN_POLICIES)
             self.notify(str(err), severity="warning")
         with Horizontal(id="sub-top"):
-            yield TextField(placeholder="original: designation (fuzzy), then Enter", id="sub-query",
+            yield TextField(placeholder="original designation (fuzzy), Enter", id="sub-query",
                             compact=True)
-            yield TextField(placeholder="spec: vceo=60V ic_max=1A", id="sub-spec", compact=True)
+            # An example, not a value: "e.g." and italics say so (the field starts empty).
+            yield TextField(placeholder="optional spec, e.g. vceo=60V ic_max=1A", id="sub-spec",
+                            compact=True)
         with Horizontal(id="sub-stress"):
             for ident, label, _unit in STRESS_FIELDS:
                 yield TextField(placeholder=label, id=f"ss-{ident}", compact=True)
@@ -256,7 +258,6 @@ class SubstituteView(Vertical):
 
     def _resolve_original(self) -> tuple[str | None, str]:
         """The stored designation meant by the query (exact, else the best fuzzy hit)."""
-        from partsdb.search import SearchIndex
         from partsdb.services import catalog
 
         query = self.query_one("#sub-query", TextField).value.strip()
@@ -266,11 +267,20 @@ class SubstituteView(Vertical):
             device = catalog.get_device(session, query)
             if device is not None:
                 return device.designation, ""
-            designations, _notes = catalog.designations_and_notes(session)
-        hits = SearchIndex(designations).find(query, limit=1)
+        hits = self._index().find(query, limit=1)
         if not hits:
             raise LookupError(f"original: {query!r} is not in the catalog and nothing is close")
         return hits[0].designation, f"{query!r} read as {hits[0].designation} ({hits[0].reason})"
+
+    def _index(self) -> Any:
+        """The app's shared search index; built here (blocking) if it is not ready yet."""
+        shared = getattr(self.app, "catalog_index", None)
+        if shared is None:  # the view outside PartsdbApp
+            from partsdb.search import SearchIndex
+            from tui.catalog_data import read_search_corpus
+
+            return SearchIndex(*read_search_corpus(self.db))
+        return shared.index or shared.build()
 
     def _rank(self, service: Any) -> tuple[Any, str | None, str]:
         original, note = self._resolve_original()
@@ -349,9 +359,8 @@ class SubstituteView(Vertical):
         parts: list[Any] = [head, grid]
         for flag in c.flags:
             parts.append(Text("FLAG ", style="bold yellow") + Text(flag.message))
-        for check in c.checks:
-            if check.note and check.status != "ok":
-                parts.append(Text(f"· {check.parameter}: {check.note}", style="dim"))
+        for note in check_notes(c):
+            parts.append(Text("· " + note, style="dim"))
         sub_pin = (c.device or {}).get("pinout")
         if req.pinout and sub_pin and sub_pin != req.pinout:
             parts.append(lead_drawing(req.pinout, sub_pin, (req.designation or "original",
@@ -443,6 +452,21 @@ class SubstituteView(Vertical):
         app: Any = self.app
         app.action_show("bench")
         app.view("bench").fill(self.original, c.designation)
+
+
+def check_notes(candidate: Any) -> list[str]:
+    """``parameter: note`` for each check that is not ok, leaving out notes that only repeat a
+    flag shown above them (the ranking often gives the same words as flag and as note)."""
+    flags = [flag.message.strip().lower() for flag in candidate.flags]
+    notes = []
+    for check in candidate.checks:
+        note = (check.note or "").strip()
+        if not note or check.status == "ok":
+            continue
+        if any(note.lower() in flag for flag in flags):
+            continue
+        notes.append(f"{check.parameter}: {note}")
+    return notes
 
 
 def _short_caution() -> str:

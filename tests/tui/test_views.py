@@ -337,3 +337,141 @@ async def test_ledger_filters(shop_db: Any) -> None:
         view.query_one("#lg-device").value = "NOPE123"
         await pilot.pause()
         assert "not found" in static_text(view.query_one("#ledger-status", Static))
+
+
+async def _burst(app: Any, pilot: Any, keys: list[str]) -> None:
+    """Queue every key before the app handles the first: what tmux does when a person types
+    right after a view key (both arrive in one read)."""
+    from textual import events
+
+    for key in keys:
+        event = events.Key(key, key if len(key) == 1 else None)
+        event.set_sender(app)
+        app._driver.send_message(event)
+    await pilot.pause()
+
+
+async def test_typing_right_after_a_view_key_keeps_the_first_character(shop_db: Any) -> None:
+    """F3 or F4 followed at once by text: every character lands in the new view's field."""
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        for _ in range(2):  # the first time each view is shown, and again
+            await _burst(app, pilot, ["f3", "q", "x"])
+            assert app.query_one("#dev-search").value == "qx"
+            await _burst(app, pilot, ["f4", "q", "x"])
+            assert app.query_one("#sub-query").value == "qx"
+            await _burst(app, pilot, ["f2"])
+            # nothing typed went into the Devices field while Substitute was shown
+            assert app.query_one("#dev-search").value == "qx"
+
+
+async def test_view_keys_wait_while_a_form_is_open(shop_db: Any) -> None:
+    """F4 over the add-device form does not switch views under it (the input would be lost)."""
+    app = build_app(shop_db, start="devices", cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        app.view("devices").table.focus()
+        await pilot.press("a")
+        await pilot.pause()
+        assert isinstance(app.screen, DeviceForm)
+        await pilot.press("f4")
+        await pilot.pause()
+        assert isinstance(app.screen, DeviceForm)
+        assert app.query_one("#views", ContentSwitcher).current == "devices"
+
+
+async def test_fast_typing_runs_few_searches_and_ends_on_the_last_text(shop_db: Any) -> None:
+    """Keys faster than the debounce: at most two searches (first key, end of the burst), and
+    the list shows the hit for the whole text."""
+    from tui.devices import SEARCH_DEBOUNCE
+
+    app = build_app(shop_db, start="devices", cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        view = app.view("devices")
+        await app.workers.wait_for_complete()  # the shared index is built after the first paint
+        await pilot.pause()
+        assert view.index is not None
+        before = view.searches_run
+        await _burst(app, pilot, [*"qx3310"])
+        await pilot.pause(SEARCH_DEBOUNCE * 3)  # let the burst's trailing search run
+        await pilot.pause()
+        assert view.searches_run - before <= 2
+        assert view.table.source.device(0).designation == "QX3310"
+        assert "QX3310" in static_text(view.query_one("#dev-detail", Static))
+
+
+async def test_search_typed_before_the_index_is_ready_runs_when_it_is(shop_db: Any) -> None:
+    """While the index is building the count says so; the search then runs on what was typed."""
+    app = build_app(shop_db, start="devices", cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await app.workers.wait_for_complete()
+        view = app.view("devices")
+        app.catalog_index.invalidate()  # as after an edit,
+        app.catalog_index.building = True  # with the rebuild still running
+        await type_text(pilot, "qx5500")
+        await pilot.pause()
+        assert "indexing" in static_text(view.query_one("#dev-count", Static))
+        app.catalog_index.building = False
+        app.build_index()
+        await app.workers.wait_for_complete()
+        await pilot.pause()
+        assert view.table.source.device(0).designation == "QX5500"
+        assert "match" in static_text(view.query_one("#dev-count", Static))
+
+
+async def test_paging_keeps_cursor_and_detail_in_step(shop_db: Any) -> None:
+    """End, Page Up and Home move the cursor over the paged list; the detail follows the
+    cursor once it rests."""
+    from tui.devices import DETAIL_DEBOUNCE
+
+    app = build_app(shop_db, start="devices", cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        view = app.view("devices")
+        view.table.focus()
+        await pilot.press("end", "pageup", "end")
+        await pilot.pause(DETAIL_DEBOUNCE * 3)
+        await pilot.pause()
+        last = view.table.row_count - 1
+        assert view.table.cursor == last
+        shown = view.table.source.device(last).designation
+        assert view.selected_device().designation == shown
+        assert static_text(view.query_one("#dev-detail", Static)).startswith(shown)
+        await pilot.press("home")
+        await pilot.pause(DETAIL_DEBOUNCE * 3)
+        assert view.table.cursor == 0
+
+
+async def test_substitute_detail_does_not_repeat_flags_in_notes(shop_db: Any) -> None:
+    """A check note that only repeats a flag shown above it is left out of the detail."""
+    from tui.substitute import check_notes
+
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f4")
+        await type_text(pilot, "qx3301")
+        await pilot.press("enter")
+        await pilot.pause()
+        view = app.view("substitute")
+        for c in view.result.candidates:
+            flags = [f.message for f in c.flags]
+            for note in check_notes(c):
+                text = note.split(": ", 1)[1]
+                assert not any(text in flag for flag in flags)
+        row = [c.designation for c in view.result.candidates].index("QX3302")
+        view.query_one("#sub-table").move_cursor(row=row)
+        await pilot.pause()
+        detail = static_text(view.query_one("#sub-detail", Static))
+        for flag in view.result.candidates[row].flags:
+            # each flag's words appear once (as the FLAG line), not again as a check note
+            assert detail.replace("\n", " ").count(flag.message[:40]) <= 1
+
+
+async def test_spec_field_starts_empty_with_an_example_hint(shop_db: Any) -> None:
+    """The spec field holds no value until typed; its placeholder reads as an example."""
+    app = build_app(shop_db, start="substitute", cursor_blink=False)
+    async with app.run_test(size=SIZE):
+        spec = app.query_one("#sub-spec")
+        assert spec.value == ""
+        assert spec.placeholder.startswith("optional") and "e.g." in spec.placeholder
