@@ -66,14 +66,10 @@ def decode(designation: str, fmt: str) -> None:
 
 
 def _catalog(session: Session) -> tuple[list[str], list[str | None]]:
-    """Designations and notes, through the cheapest catalog service available."""
+    """Designations and notes (one bulk read through the catalog service)."""
     from partsdb.services import catalog
 
-    if hasattr(catalog, "designations_and_notes"):
-        designations, notes = catalog.designations_and_notes(session)
-        return list(designations), list(notes)
-    devices = catalog.list_devices(session)
-    return [d.designation for d in devices], [d.notes for d in devices]
+    return catalog.designations_and_notes(session)
 
 
 @click.command()

@@ -179,10 +179,32 @@ def _filtered(query: Any, f: DeviceFilter | None) -> Any:
 
 
 def designations_and_notes(session: Session) -> tuple[list[str], list[str | None]]:
-    """All designations and notes, in key order (for the search index)."""
-    rows = session.execute(
-        select(DeviceRow.designation, DeviceRow.notes).order_by(DeviceRow.key)).all()
-    return [r[0] for r in rows], [r[1] for r in rows]
+    """Every designation and its notes, in the same (table) order, for the search index.
+
+    A raw cursor and no ORDER BY: on 200,000 devices the ORM read in key order took about
+    1.0 s (SQLite walks the key index and fetches each row), the plain table scan about 0.2 s.
+    Search positions only have to match these lists, so their order does not matter.
+    """
+    cursor = session.connection().connection.cursor()
+    try:
+        cursor.execute("SELECT designation, notes FROM devices")
+        rows = cursor.fetchall()
+    finally:
+        cursor.close()
+    if not rows:
+        return [], []
+    designations, notes = zip(*rows, strict=True)
+    return list(designations), list(notes)
+
+
+def get_devices(session: Session, designations: Iterable[str]) -> dict[str, Device | None]:
+    """The stored records of a few designations (search hits) in one query; None if absent."""
+    wanted = {d: normalize(d) for d in designations}
+    if not wanted:
+        return {}
+    rows = session.scalars(select(DeviceRow).where(DeviceRow.key.in_(set(wanted.values()))))
+    by_key = {row.key: row_to_device(row) for row in rows}
+    return {d: by_key.get(key) for d, key in wanted.items()}
 
 
 def keys_in(session: Session, designations: Iterable[str]) -> dict[str, int]:
