@@ -38,9 +38,6 @@ import math
 from dataclasses import dataclass, field
 from typing import Any
 
-from scipy.constants import Boltzmann, elementary_charge, zero_Celsius
-from scipy.optimize import brentq
-
 from partsdb.device import Device
 from partsdb.eseries import nearest
 
@@ -92,6 +89,8 @@ def beta_from_alpha(alpha: float) -> float:
 
 def thermal_voltage(celsius: float) -> float:
     """Vt = kT/q at ``celsius`` (25.85 mV at 27 °C)."""
+    from scipy.constants import Boltzmann, elementary_charge, zero_Celsius
+
     return Boltzmann * (celsius + zero_Celsius) / elementary_charge
 
 
@@ -355,6 +354,8 @@ def solve_exponential(stage: Stage, beta: float, i_s: float, vt: float, vce_sat:
     (one root); the base-node equation is then monotonic in Vbe. Both are bracketed, so
     :func:`scipy.optimize.brentq` always converges.
     """
+    from scipy.optimize import brentq  # here, not at import: scipy costs ~0.7 s to load
+
     re, rc = stage.re or 0.0, stage.rc
     cfb = stage.network == "collector-feedback"
     vs, rs = (0.0, 0.0) if cfb else stage.base_source()
@@ -542,6 +543,8 @@ def solve_fix(stage: Stage, params: TransistorParams, target_ic: float, model: s
     """The value of R2 (divider) or Rb that gives ``target_ic`` with ``params``; None when
     no value within a factor of 1000 of the present one does (e.g. the target is beyond
     saturation)."""
+    from scipy.optimize import brentq
+
     name = stage.fix_resistor
     r0 = float(getattr(stage, name))
 
