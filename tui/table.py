@@ -43,6 +43,19 @@ class RowSource(Protocol):
     def row(self, index: int) -> list[Cell]: ...
 
 
+class _RowMessage(Message):
+    """A message about one row of a :class:`VirtualTable`."""
+
+    def __init__(self, table: VirtualTable, index: int) -> None:
+        super().__init__()
+        self.table = table
+        self.index = index
+
+    @property
+    def control(self) -> VirtualTable:
+        return self.table
+
+
 class VirtualTable(ScrollView, can_focus=True):
     """A scrolling table over a :class:`RowSource` with a fixed header and a row cursor."""
 
@@ -64,29 +77,11 @@ class VirtualTable(ScrollView, can_focus=True):
 
     cursor = reactive(0, always_update=True)
 
-    class Highlighted(Message):
+    class Highlighted(_RowMessage):
         """The cursor moved to ``index`` (posted after every move)."""
 
-        def __init__(self, table: VirtualTable, index: int) -> None:
-            super().__init__()
-            self.table = table
-            self.index = index
-
-        @property
-        def control(self) -> VirtualTable:
-            return self.table
-
-    class Selected(Message):
+    class Selected(_RowMessage):
         """Enter (or a click) on row ``index``."""
-
-        def __init__(self, table: VirtualTable, index: int) -> None:
-            super().__init__()
-            self.table = table
-            self.index = index
-
-        @property
-        def control(self) -> VirtualTable:
-            return self.table
 
     def __init__(self, columns: list[Column], source: RowSource, *, id: str | None = None,
                  classes: str | None = None) -> None:
