@@ -353,7 +353,7 @@ class CatalogColumns:
     pinouts: tuple[str, ...] = ()
     _groups: dict[tuple[int, int], tuple[np.ndarray, CatalogColumns]] = field(
         default_factory=dict, repr=False)
-    _memo: dict[str, Any] = field(default_factory=dict, repr=False)
+    _memo: dict[Any, Any] = field(default_factory=dict, repr=False)
     """Tables derived from these rows for the ranking (see :func:`_group_blocks`)."""
 
     @property
@@ -488,11 +488,40 @@ class CatalogColumns:
         return table[self.package]
 
     @cached_property
+    def case_free_air(self) -> np.ndarray:
+        """:attr:`free_air` where Ptot is a case rating, NaN elsewhere: all the thermal checks
+        read of the outline, so rows differing only in it share their distinct tuple."""
+        return np.where(self.case_rated, self.free_air, np.nan)
+
+    @cached_property
     def log_hfe(self) -> tuple[np.ndarray, np.ndarray]:
         lo = self.hfe_min
         hi = np.where(np.isnan(self.hfe_max), lo, self.hfe_max)
         with np.errstate(invalid="ignore", divide="ignore"):
             return np.log(lo), np.log(hi)
+
+    def devices_at(self, rows: np.ndarray) -> list[dict[str, Any]]:
+        """:meth:`device_at` of each of ``rows``, read column by column (the same values)."""
+        rows = np.asarray(rows, dtype=np.intp).reshape(-1)
+        numbers = {n: getattr(self, n)[rows].astype(float).tolist()
+                   for n in ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max", "ft")}
+        columns = zip(self.designation[rows].tolist(), self.key[rows].tolist(),
+                      self.polarity[rows].tolist(), self.kind[rows].tolist(),
+                      self.material[rows].tolist(), self.case_rated[rows].tolist(),
+                      self.package[rows].tolist(), self.pinout[rows].tolist(), strict=True)
+        out = []
+        for j, (designation, key, polarity, kind, material, case, package, pinout) in \
+                enumerate(columns):
+            out.append({
+                "designation": str(designation), "key": str(key),
+                "polarity": _name(POLARITIES, polarity), "kind": _name(KINDS, kind),
+                "material": _name(MATERIALS, material),
+                **{n: None if math.isnan(v[j]) else v[j] for n, v in numbers.items()},
+                "ptot_ref": "case" if case else "ambient",
+                "package": self.packages[package] if package >= 0 else None,
+                "pinout": self.pinouts[pinout] if pinout >= 0 else None,
+            })
+        return out
 
     def device_at(self, i: int) -> dict[str, Any]:
         """The row as plain values (for details and reports)."""
@@ -633,6 +662,10 @@ class _Evaluation:
     verdict: np.ndarray
     allowed_power: np.ndarray
     tj_estimate: np.ndarray | None
+    plain: dict[str, tuple[Any, ...]] | None = field(default=None, repr=False)
+    """Per check, its arrays as Python lists (see :func:`_plain_columns`)."""
+    devices: list[dict[str, Any]] | None = field(default=None, repr=False)
+    """The rows as :meth:`CatalogColumns.device_at` gives them (see :func:`_details`)."""
 
 
 def _requirement_power(req: Requirement, stress: Stress) -> tuple[float | None, float | None]:
@@ -785,12 +818,12 @@ def _evaluate(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress: S
 
 # The large-group path. A group's rows repeat few distinct values per check (ratings are
 # rounded, outlines and lead orders few): 105,000 rows of the bench catalog hold about 2,100
-# distinct (Vceo, Vcbo, Ic max) triples and 3,000 thermal tuples. Each check is computed once
+# distinct (Vceo, Vcbo, Ic max) triples and 1,700 thermal tuples. Each check is computed once
 # per distinct tuple and gathered to the rows by a code cached with the group, so a ranking
 # costs a handful of gathers over the group instead of a hundred array operations.
 _BLOCKS: tuple[tuple[tuple[str, ...], tuple[str, ...]], ...] = (
     (("vceo", "vcbo", "ic_max"), ("vceo", "vcbo", "ic_max")),
-    (("ptot", "tj_max", "case_rated", "material", "package"), ("ptot", "tj_max")),
+    (("ptot", "tj_max", "tj_effective", "case_rated", "case_free_air"), ("ptot", "tj_max")),
     (("ft",), ("ft",)),
     (("hfe_min", "hfe_max"), ("hfe",)),
     (("package",), ("package",)),
@@ -870,6 +903,9 @@ class _Scores:
     verdict: np.ndarray
     detail: Callable[[np.ndarray], _Evaluation]
     """The full evaluation of the given positions (equal to :func:`_evaluate` on them)."""
+    positions: np.ndarray | None = None
+    """The group positions that ``score`` and ``verdict`` cover, ascending (None: every row);
+    rows left out cannot be among the best ``limit`` (see :func:`_group_scores`)."""
 
 
 _FAST = "clip"
@@ -877,13 +913,40 @@ _FAST = "clip"
 ("raise") makes each gather over the group about 1.6 times slower."""
 
 
+def _split_columns(cat: CatalogColumns, b: int, block: _Block, req: Requirement,
+                   stress: Stress, policy: Policy, names: Sequence[str]) -> dict[str, _Column]:
+    """The single-field checks ``names`` over a block's table, each computed once per distinct
+    value of its own field and gathered to the table's tuples (the same values, element by
+    element): a triple table repeats each rating many times."""
+    splits = cat._memo.get(("splits", b))
+    if splits is None:
+        # Depends on the rows only, so it is kept with the group like the blocks.
+        splits = {name: _factorize_fields(block.table, (name,)) for name in names}
+        cat._memo[("splits", b)] = splits
+    cols: dict[str, _Column] = {}
+    for name in names:
+        part = splits[name]
+        col = _columns(part.table, req, stress, policy, (name,))[0][name]
+        at = part.codes
+        cols[name] = _Column(col.need[at] if isinstance(col.need, np.ndarray) else col.need,
+                             col.offered[at], col.status[at], col.sub[at],
+                             None if col.ratio is None else col.ratio[at], col.basis)
+    return cols
+
+
 def _group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress: Stress,
                   policy: Policy, weights: Weights, stock_qty: np.ndarray | None,
-                  history_score: np.ndarray | None) -> _Scores:
-    """Score and verdict of every row of ``cat``, equal bit for bit to :func:`_evaluate`'s.
+                  history_score: np.ndarray | None, limit: int | None = None,
+                  keep: np.ndarray | None = None, exclude: int | None = None) -> _Scores:
+    """Score and verdict of the rows of ``cat``, equal bit for bit to :func:`_evaluate`'s.
 
     The same check functions run on each block's distinct tuples; the weighted sum is then
     gathered and added up in the order of PARAMETERS, exactly as :func:`_evaluate` adds it.
+
+    With ``limit`` (and the rows that may be returned: ``keep``, not ``exclude``), only the rows
+    that can be among the best ``limit`` are scored: the verdict class orders first, so when
+    the better classes hold ``limit`` returnable rows or more, no row of a worse class can be
+    returned, and its score is not computed (:attr:`_Scores.positions`).
     """
     n = rows.shape[0]
 
@@ -898,44 +961,98 @@ def _group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stres
         return _Scores(ev.score, ev.verdict, direct)
     w = weights.as_dict()
     blocks, joint = _group_blocks(cat)
-    total = np.empty(n)
-    buffer = np.empty(n)
-    verdict = np.empty(n, np.int8)
-    vbuffer = np.empty(n, np.int8)
     joint_v = np.zeros(len(joint.parts[0]), np.int8)
     computed: list[tuple[_Block, dict[str, _Column], np.ndarray | None, np.ndarray | None]] = []
-    for b, ((_, names), block) in enumerate(zip(_BLOCKS, blocks, strict=True)):
-        cols, allowed, tj_est = _columns(block.table, req, stress, policy, names)
+    part_vs: list[np.ndarray] = []
+    for b, ((fields_, names), block) in enumerate(zip(_BLOCKS, blocks, strict=True)):
+        if len(names) > 1 and fields_ == names:
+            # Checks that each read only their own field (the rating triple).
+            cols, allowed, tj_est = _split_columns(cat, b, block, req, stress, policy, names), \
+                None, None
+        else:
+            cols, allowed, tj_est = _columns(block.table, req, stress, policy, names)
         computed.append((block, cols, allowed, tj_est))
         part_v = _verdict_part(cols, block.table.size)
         if b >= _VERDICT_JOINT_FROM:
             np.maximum(joint_v, part_v[joint.parts[b - _VERDICT_JOINT_FROM]], out=joint_v)
-        elif b == 0:
-            np.take(part_v, block.codes, out=verdict, mode=_FAST)
         else:
+            part_vs.append(part_v)
+
+    def verdict_at(at: np.ndarray) -> np.ndarray:
+        out = joint_v.take(joint.codes.take(at))
+        for block, part_v in zip(blocks, part_vs, strict=False):
+            np.maximum(out, part_v.take(block.codes.take(at)), out=out)
+        return out
+
+    def returnable(within: np.ndarray, worst: int, exclude_verdict: int) -> int:
+        count = within.shape[0] if keep is None else int(np.count_nonzero(keep[within]))
+        if exclude is not None and exclude_verdict <= worst and (keep is None or keep[exclude]):
+            count -= 1
+        return count
+
+    positions: np.ndarray | None = None
+    verdict: np.ndarray | None = None
+    scored_verdict: np.ndarray | None = None
+    if limit is not None:
+        # The best verdict classes holding ``limit`` returnable rows are all that can be
+        # returned (verdict codes are 0, 1, 2; a worse class sorts after every better row).
+        # The suitable rows first, found through the joint checks (few rows pass them all)
+        # before the ratings are read: the whole verdict is then seldom needed.
+        ex_v = -1 if exclude is None else int(verdict_at(np.array([exclude]))[0])
+        within = np.flatnonzero((joint_v == 0).take(joint.codes, mode=_FAST))
+        within = within[verdict_at(within) == 0]
+        if returnable(within, 0, ex_v) >= limit:
+            positions = within
+            scored_verdict = np.zeros(within.shape[0], np.int8)
+    if positions is None:
+        verdict = np.empty(n, np.int8)
+        vbuffer = np.empty(n, np.int8)
+        for block, part_v in zip(blocks, part_vs, strict=False):
             np.take(part_v, block.codes, out=vbuffer, mode=_FAST)
-            np.maximum(verdict, vbuffer, out=verdict)
+            if block is blocks[0]:
+                verdict[:] = vbuffer
+            else:
+                np.maximum(verdict, vbuffer, out=verdict)
+        np.take(joint_v, joint.codes, out=vbuffer, mode=_FAST)
+        np.maximum(verdict, vbuffer, out=verdict)
+        if limit is not None:
+            within = np.flatnonzero(verdict <= 1)
+            if returnable(within, 1, ex_v) >= limit:
+                positions = within
+        scored_verdict = verdict if positions is None else verdict.take(positions)
+    assert scored_verdict is not None
+    m = n if positions is None else positions.shape[0]
+
+    def codes_of(block: _Block) -> np.ndarray:
+        return block.codes if positions is None else block.codes.take(positions)
+
+    total = np.empty(m)
+    buffer = np.empty(m)
+    for b, ((_, names), (block, cols, _a, _t)) in enumerate(zip(_BLOCKS, computed, strict=True)):
         if b == 0:
             # The leading checks: their running sum from zero, per distinct tuple.
             lead = np.zeros(block.table.size)
             for name in names:
                 if w[name]:
                     lead += w[name] * cols[name].sub
-            np.take(lead, block.codes, out=total, mode=_FAST)
+            np.take(lead, codes_of(block), out=total, mode=_FAST)
             continue
+        if not any(w[name] for name in names):
+            continue
+        codes = codes_of(block)
         for name in names:
             if w[name]:
-                np.take(w[name] * cols[name].sub, block.codes, out=buffer, mode=_FAST)
+                np.take(w[name] * cols[name].sub, codes, out=buffer, mode=_FAST)
                 total += buffer
-    np.take(joint_v, joint.codes, out=vbuffer, mode=_FAST)
-    np.maximum(verdict, vbuffer, out=verdict)
-    in_stock = np.zeros(n, bool) if stock_qty is None else stock_qty.take(rows, mode=_FAST) > 0
+    scored_rows = rows if positions is None else rows.take(positions)
+    in_stock = np.zeros(m, bool) if stock_qty is None else \
+        stock_qty.take(scored_rows, mode=_FAST) > 0
     if history_score is None:
         # stock is 0 or 1 and history 0.5 here: the two possible sums, taken as _extras does.
         pair = _extras(weights, np.array([0.0, 1.0]), np.full(2, 0.5))
         total += np.where(in_stock, pair[1], pair[0])
     else:
-        total += _extras(weights, in_stock.astype(float), history_score.take(rows))
+        total += _extras(weights, in_stock.astype(float), history_score.take(scored_rows))
     total *= 100.0
     total /= weights.total()
     score = total
@@ -958,12 +1075,13 @@ def _group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stres
         assert allowed is not None
         grows = rows[top]
         k = grows.shape[0]
+        sub = top if positions is None else np.searchsorted(positions, top)
         return _Evaluation(grows, cols, stock_qty[grows] if stock_qty is not None
                            else np.zeros(k, int),
                            np.full(k, 0.5) if history_score is None else history_score[grows],
-                           score[top], verdict[top], allowed, tj_est)
+                           score[sub], scored_verdict[sub], allowed, tj_est)
 
-    return _Scores(score, verdict, gathered)
+    return _Scores(score, scored_verdict, gathered, positions)
 
 
 def _package_code(cat: CatalogColumns, package: str | None) -> int:
@@ -1133,11 +1251,13 @@ _KEY_SORT_MAX = 2048
 
 
 def _top(score: np.ndarray, verdict: np.ndarray, cat: CatalogColumns, limit: int,
-         exclude: int | None = None, keep: np.ndarray | None = None) -> np.ndarray:
+         exclude: int | None = None, keep: np.ndarray | None = None,
+         at: np.ndarray | None = None) -> np.ndarray:
     """Positions of the best ``limit`` rows: verdict class, then score, then normalised key.
 
     ``exclude`` is a position left out (the original itself); ``keep``, when given, marks the
-    rows that may be returned. Only the rows tied at the cut are compared by key, so the
+    rows that may be returned; ``at``, when given, is the row of ``cat`` at each position
+    (``score`` covering only those rows). Only the rows tied at the cut are compared by key, so the
     tie-break costs nothing on a catalog of distinct scores.
     """
     n = score.shape[0]
@@ -1171,11 +1291,12 @@ def _top(score: np.ndarray, verdict: np.ndarray, cat: CatalogColumns, limit: int
     if pool.shape[0] <= _KEY_SORT_MAX:
         # Keys are unique and compare as key_rank orders them (code point order), so a small
         # pool needs no rank of the whole group (an argsort of every key, read cold).
-        keys = cat.key[pool].tolist()
+        keys = cat.key[pool if at is None else at[pool]].tolist()
         values = comp[pool].tolist()
         order = sorted(range(pool.shape[0]), key=lambda j: (values[j], keys[j]))[:limit]
         return pool[np.array(order, dtype=np.intp)]
-    return pool[np.lexsort((cat.key_rank[pool], comp[pool]))[:limit]]
+    ranks = cat.key_rank[pool if at is None else at[pool]]
+    return pool[np.lexsort((ranks, comp[pool]))[:limit]]
 
 
 def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | None = None,
@@ -1221,8 +1342,21 @@ def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | Non
         at = int(np.searchsorted(rows, original))
         if at < rows.shape[0] and rows[at] == original:
             exclude = at
-    scored = _group_scores(view, rows, requirement, stress, policy, weights, stock_qty, hist)
-    top = _top(scored.score, scored.verdict, view, limit, exclude, keep)
+    scored = _group_scores(view, rows, requirement, stress, policy, weights, stock_qty, hist,
+                           limit, keep, exclude)
+    at = scored.positions
+    if at is None:
+        top = _top(scored.score, scored.verdict, view, limit, exclude, keep)
+    else:
+        # Only the rows that can be returned were scored: select among them, by their place in
+        # the group (keys, tie-break), then map back to group positions.
+        sub_exclude: int | None = None
+        if exclude is not None:
+            j = int(np.searchsorted(at, exclude))
+            if j < at.shape[0] and at[j] == exclude:
+                sub_exclude = j
+        top = at[_top(scored.score, scored.verdict, view, limit, sub_exclude,
+                      None if keep is None else keep[at], at)]
     ev = scored.detail(top)
     candidates = [_details(catalog, ev, p, requirement, stress, policy, weights, history,
                            locations, None) for p in range(top.shape[0])]
@@ -1258,6 +1392,11 @@ _SI_STEPS: tuple[tuple[float, str], ...] = (
     (1e-12, "p"))
 
 
+_SI_THRESHOLDS: tuple[tuple[float, str, float], ...] = tuple(
+    (scale, prefix, scale * 0.9995) for scale, prefix in _SI_STEPS[:-1])
+"""(scale, prefix, smallest magnitude shown with it): 999.5 rounds up to the next prefix."""
+
+
 def _fmt(value: float | None, unit: str) -> str:
     """Engineering notation with an SI prefix ("150 mW", "2 MHz"), 3 significant digits.
 
@@ -1269,10 +1408,10 @@ def _fmt(value: float | None, unit: str) -> str:
     if unit in ("", "°C", "K/W"):
         return f"{value:.3g} {unit}".strip()
     magnitude = abs(value)
-    for scale, prefix in _SI_STEPS:
-        if magnitude >= scale * 0.9995 or scale == 1e-12:
+    for scale, prefix, threshold in _SI_THRESHOLDS:
+        if magnitude >= threshold:
             return f"{value / scale:.3g} {prefix}{unit}"
-    return f"{value:.3g} {unit}"
+    return f"{value / 1e-12:.3g} p{unit}"  # the smallest step takes the rest (NaN is above)
 
 
 def _pct(x: float) -> str:
@@ -1297,20 +1436,26 @@ def _details(cat: CatalogColumns, ev: _Evaluation, p: int, req: Requirement, str
              policy: Policy, weights: Weights, history: Mapping[str, PastSwaps] | None,
              locations: Mapping[str, Sequence[str]] | None, rejected: str | None) -> Candidate:
     i = int(ev.rows[p])
-    dev = cat.device_at(i)
+    if ev.rows.shape[0] > _BATCH_ROWS:
+        dev = cat.device_at(i)  # one of many rows (the rejected ones): not read ahead
+    else:
+        if ev.devices is None:
+            ev.devices = cat.devices_at(ev.rows)
+        dev = ev.devices[p]
     key = dev["key"]
     checks: list[Check] = []
     flags: list[Flag] = []
     applicable = known = 0
+    plain = _plain_columns(ev)
     for name in PARAMETERS:
         col = ev.columns[name]
-        status = STATUS_NAMES[int(col.status[p])]
-        need_v = col.need[p] if isinstance(col.need, np.ndarray) else col.need
+        c_status, c_need, c_offered, c_ratio, _ = plain[name]
+        status = STATUS_NAMES[c_status[p]]
+        need_v = c_need[p] if isinstance(c_need, list | np.ndarray) else c_need
         need = _num(need_v) if need_v is not None else None
         offered: Any
         if name in ("package", "pinout", "material"):
-            need_text = {"package": req.package, "pinout": req.pinout,
-                         "material": req.material}[name]
+            need_text = getattr(req, name)
             off_text = dev[name]
             note = _fit_note(name, need_text, off_text, status)
             checks.append(Check(name, None, None, None, status, note))
@@ -1318,8 +1463,8 @@ def _details(cat: CatalogColumns, ev: _Evaluation, p: int, req: Requirement, str
                 applicable += 1
                 known += off_text is not None
             continue
-        offered = _num(col.offered[p])
-        ratio = _num(col.ratio[p]) if col.ratio is not None else None
+        offered = _num(c_offered[p])
+        ratio = _num(c_ratio[p]) if c_ratio is not None else None
         if ratio is not None and not math.isfinite(ratio):
             ratio = None
         if need is not None:
@@ -1349,13 +1494,37 @@ def _details(cat: CatalogColumns, ev: _Evaluation, p: int, req: Requirement, str
     if unknown:
         flags.append(Flag("unknown-data", "no value to compare for " + ", ".join(unknown)
                           + ": check the datasheet"))
-    subs = {name: float(ev.columns[name].sub[p]) for name in PARAMETERS}
+    subs = {name: float(plain[name][4][p]) for name in PARAMETERS}
     subs["stock"] = float(ev.stock[p] > 0)
     subs["history"] = float(ev.history[p])
     qty = int(ev.stock[p])
     return Candidate(dev["designation"], key, float(ev.score[p]), verdict, qty,
                      list((locations or {}).get(key, [])) if qty > 0 else [],
                      checks, flags, known / applicable if applicable else 1.0, subs, dev)
+
+
+_BATCH_ROWS = 256
+"""Evaluations of up to this many rows are read ahead as Python values for their details."""
+
+
+def _plain_columns(ev: _Evaluation) -> dict[str, tuple[Any, ...]]:
+    """(status, need, offered, ratio, sub) of every check as Python lists (need stays a scalar
+    when it is one), made once per evaluation: reading numpy scalars one at a time for each
+    returned row costs more than the rest of its details."""
+    if ev.plain is None and ev.rows.shape[0] > _BATCH_ROWS:
+        # Many rows, few detailed (the rejected ones): read them one at a time instead.
+        ev.plain = {name: (col.status, col.need, col.offered, col.ratio, col.sub)
+                    for name, col in ev.columns.items()}
+    if ev.plain is None:
+        ev.plain = {
+            name: (col.status.tolist(),
+                   col.need.astype(float).tolist() if isinstance(col.need, np.ndarray)
+                   else col.need,
+                   col.offered.astype(float).tolist(),
+                   None if col.ratio is None else col.ratio.astype(float).tolist(),
+                   col.sub.astype(float).tolist())
+            for name, col in ev.columns.items()}
+    return ev.plain
 
 
 def _need_known(name: str, req: Requirement, stress: Stress) -> bool:
@@ -1382,6 +1551,10 @@ def _fit_note(name: str, need: str | None, offered: str | None, status: str) -> 
                    "0.2-0.3 V instead of 0.6-0.7 V")
                 + "; re-check the bias (partsdb bias)")
     return f"material {need} -> {offered}: re-check the bias (partsdb bias)"
+
+
+_POLICY_FACTOR = {"vceo": "voltage", "vcbo": "voltage", "ic_max": "current", "ptot": "power"}
+_STRESS_NAME = {"vceo": "Vce peak", "vcbo": "Vce peak", "ic_max": "Ic peak", "ptot": "dissipation"}
 
 
 def _rating_note(name: str, col: _Column, need: float | None, offered: float | None,
@@ -1412,10 +1585,8 @@ def _rating_note(name: str, col: _Column, need: float | None, offered: float | N
         return "original's fT" + (" (no hFE min known, so --freq was not used)"
                                   if stress.freq is not None else "")
     if col.basis == "stress":
-        factor = {"vceo": policy.voltage, "vcbo": policy.voltage, "ic_max": policy.current,
-                  "ptot": policy.power}[name]
-        what = {"vceo": "Vce peak", "vcbo": "Vce peak", "ic_max": "Ic peak",
-                "ptot": "dissipation"}[name]
+        factor = getattr(policy, _POLICY_FACTOR[name])
+        what = _STRESS_NAME[name]
         rating = "allowed power" if name == "ptot" else LABEL[name]
         return (f"{what} {_fmt(need, unit)} is {_pct(need / offered)} of {rating} "
                 f"{_fmt(offered, unit)}; {policy.name} allows {_pct(factor)}")

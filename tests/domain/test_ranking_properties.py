@@ -314,6 +314,39 @@ def test_group_scores_equal_evaluate_on_every_row(req: Requirement, stress: Stre
                               equal_nan=True)
 
 
+@settings(max_examples=30, deadline=None)
+@given(st.sampled_from(SYNTHETIC), stresses(), st.sampled_from(POLICIES), st.integers(-2, 2),
+       st.booleans())
+def test_rows_left_unscored_cannot_be_returned(original: Device, stress: Stress, policy: Any,
+                                               offset: int, in_stock: bool) -> None:
+    # The fast path scores only the verdict classes that can fill the list; a limit at each
+    # class boundary (one less, equal, one more) must still give the plain sort of assess()
+    # on every device (the original excluded; common practice: test a pruned selection
+    # against the full sort).
+    req = Requirement.from_device(original)
+    rows, view = SYNTHETIC_CAT.group(req.polarity, req.kind)
+    ev = ranking._evaluate(view, rows, req, stress, policy, Weights(), None, None)
+    returnable = SYNTHETIC_CAT.key[rows] != req.key
+    qty = np.where(np.arange(SYNTHETIC_CAT.size) % 3 == 0, 5, 0)
+    if in_stock:
+        returnable &= qty[rows] > 0
+    for worst in (0, 1):
+        limit = int(np.count_nonzero(returnable & (ev.verdict <= worst))) + offset
+        assume(limit >= 1)
+        with path(FAST):
+            fast = rank(SYNTHETIC_CAT, req, stress, policy, limit=limit,
+                        stock_qty=qty if in_stock else None, in_stock_only=in_stock)
+        if in_stock:
+            with path(DIRECT):
+                direct = rank(SYNTHETIC_CAT, req, stress, policy, limit=limit, stock_qty=qty,
+                              in_stock_only=True)
+            assert fast.to_json() == direct.to_json()
+        else:
+            got = [(c.designation, c.score, c.verdict) for c in fast.candidates]
+            assert got == straightforward(SYNTHETIC, req, stress, policy, Weights(), limit)
+        assert len(fast.candidates) == min(limit, int(np.count_nonzero(returnable)))
+
+
 def test_selection_with_ties_and_large_groups() -> None:
     # The sampled cut must give what a full sort gives, ties at the cut broken by key, on a
     # group large enough to take it (common practice: test the fast path against a sort).
