@@ -68,31 +68,23 @@ def main(ctx: click.Context, db_url: str | None, read_only: bool, quiet: bool) -
 
 
 def _register() -> None:
-    from partsdb.cli import catalog_cmds, exchange_cmds, stock_cmds
+    from partsdb.cli import (
+        bench,
+        catalog_cmds,
+        circuit,
+        designations,
+        exchange_cmds,
+        shop,
+        stock_cmds,
+        substitute,
+        ui,
+    )
 
-    for command in (*catalog_cmds.COMMANDS, *exchange_cmds.COMMANDS, *stock_cmds.COMMANDS):
+    for command in (*catalog_cmds.COMMANDS, *exchange_cmds.COMMANDS, *stock_cmds.COMMANDS,
+                    designations.decode, designations.find, circuit.check, circuit.bias,
+                    circuit.spice, substitute.substitute, substitute.swaplog, substitute.policies,
+                    shop.copy, shop.backup, shop.restore, bench.bench, ui.tui):
         main.add_command(command)
-    # Modules that other areas contribute; each is optional until it lands.
-    import importlib
-
-    for module_name, names in (
-        ("partsdb.cli.designations", ("decode", "find")),
-        ("partsdb.cli.circuit", ("check", "bias", "spice")),
-        ("partsdb.cli.substitute", ("substitute", "swaplog", "policies")),
-        ("partsdb.cli.shop", ("copy", "backup", "restore")),
-        ("partsdb.cli.bench", ("bench",)),
-        ("partsdb.cli.ui", ("tui",)),
-    ):
-        try:
-            module = importlib.import_module(module_name)
-        except ModuleNotFoundError as err:
-            if err.name != module_name:
-                raise
-            continue
-        for name in names:
-            command = getattr(module, name, None)
-            if command is not None:
-                main.add_command(command)
 
 
 _register()

@@ -31,10 +31,8 @@ class NotFound(LookupError):
 
 def consistency_warnings(device: Device) -> list[str]:
     """What the designation implies that the record contradicts (empty when none)."""
-    try:
-        from partsdb.consistency import consistency_warnings as check
-    except ImportError:  # pragma: no cover - the checker ships with the package
-        return []
+    from partsdb.consistency import consistency_warnings as check
+
     return check(device)
 
 
