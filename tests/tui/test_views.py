@@ -69,6 +69,8 @@ async def test_palette_lists_main_actions(shop_db: Any) -> None:
 
 
 async def test_devices_search_as_you_type_and_select(shop_db: Any) -> None:
+    from tui.devices import SEARCH_DEBOUNCE
+
     app = build_app(shop_db, cursor_blink=False)
     async with app.run_test(size=SIZE) as pilot:
         await pilot.press("f3")
@@ -78,7 +80,7 @@ async def test_devices_search_as_you_type_and_select(shop_db: Any) -> None:
         assert view.table.row_count == 5  # the whole catalog, paged from the database
         index = view.index
         await type_text(pilot, "qx3302")
-        await pilot.pause()
+        await pilot.pause(SEARCH_DEBOUNCE * 3)  # fast typing: let the trailing search run
         assert view.index is index  # typing never rebuilds the index
         assert view.selected_device().designation == "QX3302"
         detail = static_text(view.query_one("#dev-detail", Static))
