@@ -66,6 +66,7 @@ raise the estimated Tj (a fact of the rating model, not a scoring choice).
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field, fields, replace
@@ -82,8 +83,11 @@ from partsdb.thermal import (
     DEFAULT_CASE_TO_SINK,
     FREE_AIR_CASE_TO_AMBIENT,
     allowed_power,
+    case_to_ambient,
+    chain_power,
     derated_power,
     free_air_case_to_ambient,
+    rth_from_rating,
     thermal_path,
 )
 
@@ -488,6 +492,17 @@ class CatalogColumns:
         return table[self.package]
 
     @cached_property
+    def rating_thermal(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray,
+                                      np.ndarray]:
+        """What the thermal checks read of the recorded ratings alone: Rth junction-to-reference
+        of every row (from its Ptot and effective Tj max), then the case-rated rows with their
+        Ptot, Tj max, that Rth and their outline's free-air case-to-ambient figure."""
+        rth = np.asarray(rth_from_rating(self.ptot, self.tj_effective), dtype=float)
+        case = np.flatnonzero(self.case_rated)
+        return (rth, case, self.ptot[case], self.tj_effective[case], rth[case],
+                self.free_air[case])
+
+    @cached_property
     def case_free_air(self) -> np.ndarray:
         """:attr:`free_air` where Ptot is a case rating, NaN elsewhere: all the thermal checks
         read of the outline, so rows differing only in it share their distinct tuple."""
@@ -565,20 +580,32 @@ def grade_codes(stress: Any, rating: Any, factor: Any) -> np.ndarray:
     return out
 
 
+@functools.lru_cache(maxsize=64)
+def _segments(xs: tuple[float, ...], ys: tuple[float, ...]
+              ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Break points, and per segment index (as ``searchsorted(xs, h, "right")`` numbers them)
+    its slope, start and start value; the last index is the flat part from the last point."""
+    xs_a = np.array(xs, dtype=float)
+    slope = [0.0] + [(ys[j + 1] - ys[j]) / (xs[j + 1] - xs[j]) for j in range(len(xs) - 1)]
+    return xs_a, np.array([*slope, 0.0]), np.array([xs[0], *xs]), np.array([ys[0], *ys])
+
+
 def _piecewise(h: np.ndarray, xs: Sequence[float], ys: Sequence[float]) -> np.ndarray:
     """The broken line through (xs, ys), flat outside, as closed-form array arithmetic.
 
     Bit for bit what ``np.interp(h, xs, ys)`` returns (numpy's own formula per segment:
     slope x (h - x_j) + y_j with slope = (y_j+1 - y_j) / (x_j+1 - x_j); y_j at a break point;
-    NaN stays NaN), without its binary search per element; a test checks both agree.
+    NaN stays NaN): h is clipped to the line's ends, each element's segment found by one
+    binary search over the break points, and the formula taken with that segment's values.
+    A test checks both agree.
     """
-    h = np.asarray(h, dtype=float)
-    out = np.full(h.shape, float(ys[-1]))
-    for j in range(len(xs) - 2, -1, -1):
-        slope = (ys[j + 1] - ys[j]) / (xs[j + 1] - xs[j])
-        out = np.where(h < xs[j + 1], slope * (h - xs[j]) + ys[j], out)
-    out = np.where(h < xs[0], float(ys[0]), out)
-    return np.where(np.isnan(h), np.nan, out)
+    xs_a, slope, x0, y0 = _segments(tuple(xs), tuple(ys))
+    h = np.clip(np.asarray(h, dtype=float), xs_a[0], xs_a[-1])  # NaN stays NaN
+    seg = np.searchsorted(xs_a, h, side="right")  # NaN sorts last: the flat end, then NaN
+    out = slope.take(seg)
+    out *= h - x0.take(seg)
+    out += y0.take(seg)
+    return out
 
 
 def headroom_score_stressed(h: np.ndarray, factor: Any) -> np.ndarray:
@@ -595,8 +622,10 @@ def headroom_score_stressed(h: np.ndarray, factor: Any) -> np.ndarray:
     inv = 1.0 / np.asarray(factor, dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):
         mid = 0.3 + 0.4 * np.where(inv > 1, (h - 1.0) / (inv - 1.0), 1.0)
-    top = 0.7 + 0.3 * np.clip(h / inv - 1.0, 0.0, 1.0)
-    return np.where(h < 1.0, 0.3 * np.clip(h, 0.0, 1.0), np.where(h < inv, mid, top))
+    # (clips as two ufuncs: the same values, NaN kept, cheaper per call than np.clip)
+    top = 0.7 + 0.3 * np.minimum(np.maximum(h / inv - 1.0, 0.0), 1.0)
+    return np.where(h < 1.0, 0.3 * np.minimum(np.maximum(h, 0.0), 1.0),
+                    np.where(h < inv, mid, top))
 
 
 def headroom_score_plain(h: np.ndarray) -> np.ndarray:
@@ -662,10 +691,6 @@ class _Evaluation:
     verdict: np.ndarray
     allowed_power: np.ndarray
     tj_estimate: np.ndarray | None
-    plain: dict[str, tuple[Any, ...]] | None = field(default=None, repr=False)
-    """Per check, its arrays as Python lists (see :func:`_plain_columns`)."""
-    devices: list[dict[str, Any]] | None = field(default=None, repr=False)
-    """The rows as :meth:`CatalogColumns.device_at` gives them (see :func:`_details`)."""
 
 
 def _requirement_power(req: Requirement, stress: Stress) -> tuple[float | None, float | None]:
@@ -707,16 +732,16 @@ def _columns(cat: CatalogColumns, req: Requirement, stress: Stress, policy: Poli
         # Power allowed at the ambient in this mounting: free-air ratings derate linearly, case
         # ratings go through Rth j-c + c-s + s-a (thermal.py); the two groups are computed apart
         # so the reference is a scalar, not a string array.
-        ptot = cat.ptot
-        tj_eff = cat.tj_effective
-        case = cat.case_rated
-        rth = np.asarray(thermal_path(ptot, tj_eff, "ambient", None), dtype=float)
-        allowed = np.asarray(derated_power(ptot, tj_eff, stress.ambient), dtype=float)
-        if case.any():
-            rc = np.asarray(thermal_path(ptot[case], tj_eff[case], "case", stress.heatsink,
-                                         DEFAULT_CASE_TO_SINK, cat.free_air[case]), dtype=float)
+        # (thermal_path and allowed_power, taken apart so the parts that read only the
+        # ratings are computed once per catalog: CatalogColumns.rating_thermal)
+        rth, case, ptot_c, tj_c, rth_c, free_air_c = cat.rating_thermal
+        allowed = np.asarray(derated_power(cat.ptot, cat.tj_effective, stress.ambient),
+                             dtype=float)
+        if case.shape[0]:
+            rc = rth_c + case_to_ambient(stress.heatsink, DEFAULT_CASE_TO_SINK, free_air_c)
+            rth = rth.copy()
             rth[case] = rc
-            allowed[case] = allowed_power(ptot[case], tj_eff[case], "case", stress.ambient, rc)
+            allowed[case] = chain_power(ptot_c, tj_c, stress.ambient, rc)
         req_power, _ = _requirement_power(req, stress)
         cols["ptot"] = _rating_column(allowed, req_power, stress.power, policy.power)
 
@@ -730,7 +755,7 @@ def _columns(cat: CatalogColumns, req: Requirement, stress: Stress, policy: Poli
             status[tj_est <= limit] = OK
             with np.errstate(invalid="ignore", divide="ignore"):
                 h = (tj - ta) / (tj_est - ta)
-                factor = np.clip((limit - ta) / (tj - ta), 1e-6, 1.0)
+                factor = np.minimum(np.maximum((limit - ta) / (tj - ta), 1e-6), 1.0)
                 sub = headroom_score_stressed(h, factor)
             unknown = np.isnan(tj) | np.isnan(tj_est)
             status[unknown] = UNKNOWN
@@ -1125,7 +1150,7 @@ def _hfe_column(cat: CatalogColumns, req: Requirement) -> _Column:
     gap = np.maximum(0.0, np.maximum(need_lo - hi, lo - need_hi))
     short = np.maximum(0.0, need_lo - lo)
     status = ((gap > 0) | (short > math.log(HFE_LOW_FACTOR))).view(np.int8).copy()
-    sub = np.clip(1.0 - (gap + short) / math.log(10.0), 0.0, 1.0)
+    sub = np.minimum(np.maximum(1.0 - (gap + short) / math.log(10.0), 0.0), 1.0)
     unknown = np.isnan(lo)
     status[unknown] = UNKNOWN
     sub = np.where(unknown, SUB_UNKNOWN_RATING, sub)
@@ -1136,27 +1161,78 @@ def _hfe_column(cat: CatalogColumns, req: Requirement) -> _Column:
 
 # ----------------------------------------------------------------------------- results
 
-@dataclass(frozen=True)
 class Check:
-    """One parameter of one candidate against the need."""
+    """One parameter of one candidate against the need.
 
-    parameter: str
-    need: float | None
-    offered: float | None
-    ratio: float | None
-    """offered / need: 1.0 just meets it (tj_max: temperature rise available / used)."""
-    status: str
-    note: str = ""
+    The note (a sentence for the technician) is written when it is first read: a ranking
+    returns the checks of every candidate, and most notes are never shown (the table shows
+    the problems of the first few; JSON and the job sheets read them all)."""
+
+    __slots__ = ("_note", "need", "offered", "parameter", "ratio", "status")
+
+    def __init__(self, parameter: str, need: float | None, offered: float | None,
+                 ratio: float | None, status: str,
+                 note: str | tuple[Callable[..., str], tuple[Any, ...]] = "") -> None:
+        self.parameter = parameter
+        self.need = need
+        self.offered = offered
+        self.ratio = ratio
+        """offered / need: 1.0 just meets it (tj_max: temperature rise available / used)."""
+        self.status = status
+        self._note = note
+
+    @property
+    def note(self) -> str:
+        note = self._note
+        if not isinstance(note, str):
+            write, args = note
+            note = self._note = write(*args)
+        return note
+
+    def _fields(self) -> tuple[Any, ...]:
+        return (self.parameter, self.need, self.offered, self.ratio, self.status, self.note)
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, Check) and self._fields() == other._fields()
+
+    __hash__ = None  # type: ignore[assignment]
+
+    def __repr__(self) -> str:
+        return ("Check(parameter={!r}, need={!r}, offered={!r}, ratio={!r}, status={!r}, "
+                "note={!r})".format(*self._fields()))
 
     def to_json(self) -> dict[str, Any]:
         return {"parameter": self.parameter, "need": self.need, "offered": self.offered,
                 "ratio": self.ratio, "status": self.status, "note": self.note}
 
 
-@dataclass(frozen=True)
 class Flag:
-    code: str
-    message: str
+    """Something the technician should know about a candidate (``code``) and what to do.
+
+    Like :attr:`Check.note`, the message may be written when first read."""
+
+    __slots__ = ("_message", "code")
+
+    def __init__(self, code: str,
+                 message: str | tuple[Callable[..., str], tuple[Any, ...]]) -> None:
+        self.code = code
+        self._message = message
+
+    @property
+    def message(self) -> str:
+        message = self._message
+        if not isinstance(message, str):
+            write, args = message
+            message = self._message = write(*args)
+        return message
+
+    def __eq__(self, other: object) -> bool:
+        return isinstance(other, Flag) and (self.code, self.message) == (other.code, other.message)
+
+    __hash__ = None  # type: ignore[assignment]
+
+    def __repr__(self) -> str:
+        return f"Flag(code={self.code!r}, message={self.message!r})"
 
     def to_json(self) -> dict[str, str]:
         return {"code": self.code, "message": self.message}
@@ -1358,8 +1434,8 @@ def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | Non
         top = at[_top(scored.score, scored.verdict, view, limit, sub_exclude,
                       None if keep is None else keep[at], at)]
     ev = scored.detail(top)
-    candidates = [_details(catalog, ev, p, requirement, stress, policy, weights, history,
-                           locations, None) for p in range(top.shape[0])]
+    candidates = _candidates(catalog, ev, np.arange(top.shape[0]), requirement, stress, policy,
+                             history, locations)
     compatible = int(rows.shape[0]) if keep is None else int(np.count_nonzero(keep))
     if exclude is not None and (keep is None or keep[exclude]):
         compatible -= 1
@@ -1372,16 +1448,17 @@ def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | Non
         rview = catalog.take(rrows)
         rev = _evaluate(rview, rrows, requirement, stress, policy, weights, stock_qty, hist)
         rtop = _top(rev.score, np.zeros_like(rev.verdict), rview, limit)
-        for p in rtop:
-            i = int(rrows[p])
-            reasons = []
+        reasons = []
+        for i in rrows.take(rtop).tolist():
+            why = []
             pol, kind = _name(POLARITIES, catalog.polarity[i]), _name(KINDS, catalog.kind[i])
             if pol != requirement.polarity:
-                reasons.append(f"polarity {pol or 'unknown'}, need {requirement.polarity}")
+                why.append(f"polarity {pol or 'unknown'}, need {requirement.polarity}")
             if kind != requirement.kind:
-                reasons.append(f"kind {kind or 'unknown'}, need {requirement.kind}")
-            result.candidates.append(_details(catalog, rev, int(p), requirement, stress, policy,
-                                              weights, history, locations, "; ".join(reasons)))
+                why.append(f"kind {kind or 'unknown'}, need {requirement.kind}")
+            reasons.append("; ".join(why))
+        result.candidates += _candidates(catalog, rev, rtop, requirement, stress, policy, history,
+                                         locations, reasons)
     return result
 
 
@@ -1432,105 +1509,110 @@ def lead_mapping(original: str, substitute: str) -> str:
             f"are {' '.join(substitute)}, so " + ", ".join(parts))
 
 
-def _details(cat: CatalogColumns, ev: _Evaluation, p: int, req: Requirement, stress: Stress,
-             policy: Policy, weights: Weights, history: Mapping[str, PastSwaps] | None,
-             locations: Mapping[str, Sequence[str]] | None, rejected: str | None) -> Candidate:
-    i = int(ev.rows[p])
-    if ev.rows.shape[0] > _BATCH_ROWS:
-        dev = cat.device_at(i)  # one of many rows (the rejected ones): not read ahead
-    else:
-        if ev.devices is None:
-            ev.devices = cat.devices_at(ev.rows)
-        dev = ev.devices[p]
-    key = dev["key"]
-    checks: list[Check] = []
-    flags: list[Flag] = []
-    applicable = known = 0
-    plain = _plain_columns(ev)
+_FITS: tuple[str, ...] = ("package", "pinout", "material")
+_AT: dict[str, int] = {name: j for j, name in enumerate(PARAMETERS)}
+
+
+def _floats_or_none(values: np.ndarray) -> list[float | None]:
+    return [None if v != v else v for v in values.astype(float).tolist()]  # NaN: None
+
+
+def _candidates(cat: CatalogColumns, ev: _Evaluation, at: np.ndarray, req: Requirement,
+                stress: Stress, policy: Policy, history: Mapping[str, PastSwaps] | None,
+                locations: Mapping[str, Sequence[str]] | None,
+                rejected: Sequence[str] | None = None) -> list[Candidate]:
+    """The rows at positions ``at`` of the evaluation, in that order, as readable candidates.
+
+    Read column by column (one gather per check for all the rows, then plain Python values);
+    ``rejected`` gives, per row, why it is not a substitute (verdict ``incompatible``).
+    """
+    at = np.asarray(at, dtype=np.intp).reshape(-1)
+    k = at.shape[0]
+    if k == 0:
+        return []
+    grows = ev.rows.take(at)
+    devs = cat.devices_at(grows)
+    checks: list[list[Check]] = [[] for _ in range(k)]
+    applicable, known = [0] * k, [0] * k
+    unknown: list[list[str]] = [[] for _ in range(k)]
+    needs: dict[str, list[float | None]] = {}
     for name in PARAMETERS:
         col = ev.columns[name]
-        c_status, c_need, c_offered, c_ratio, _ = plain[name]
-        status = STATUS_NAMES[c_status[p]]
-        need_v = c_need[p] if isinstance(c_need, list | np.ndarray) else c_need
-        need = _num(need_v) if need_v is not None else None
-        offered: Any
-        if name in ("package", "pinout", "material"):
+        status = [STATUS_NAMES[c] for c in col.status.take(at).tolist()]
+        if name in _FITS:
             need_text = getattr(req, name)
-            off_text = dev[name]
-            note = _fit_note(name, need_text, off_text, status)
-            checks.append(Check(name, None, None, None, status, note))
-            if need_text is not None:
-                applicable += 1
-                known += off_text is not None
+            for j in range(k):
+                off_text = devs[j][name]
+                checks[j].append(Check(name, None, None, None, status[j],
+                                       (_fit_note, (name, need_text, off_text, status[j]))))
+                if need_text is not None:
+                    applicable[j] += 1
+                    known[j] += off_text is not None
+                    if status[j] == "unknown":
+                        unknown[j].append(name)
             continue
-        offered = _num(c_offered[p])
-        ratio = _num(c_ratio[p]) if c_ratio is not None else None
-        if ratio is not None and not math.isfinite(ratio):
-            ratio = None
-        if need is not None:
-            applicable += 1
-            known += offered is not None
-        note = _rating_note(name, col, need, offered, status, req, stress, policy, dev)
-        checks.append(Check(name, need, offered, ratio, status, note))
+        if isinstance(col.need, np.ndarray):
+            need_at = _floats_or_none(col.need.take(at))
+        else:
+            need_at = [None if col.need is None else _num(col.need)] * k
+        needs[name] = need_at
+        offered = _floats_or_none(col.offered.take(at))
+        ratios: list[float | None] = [None] * k if col.ratio is None else [
+            v if math.isfinite(v) else None for v in col.ratio.take(at).astype(float).tolist()]
+        basis = col.basis
+        for j in range(k):
+            need, off = need_at[j], offered[j]
+            if need is not None:
+                applicable[j] += 1
+                known[j] += off is not None
+                if status[j] == "unknown":
+                    unknown[j].append(name)
+            checks[j].append(Check(name, need, off, ratios[j], status[j],
+                                   (_rating_note, (name, basis, need, off, req, stress, policy,
+                                                   devs[j]))))
 
-    verdict = VERDICTS[3] if rejected is not None else VERDICTS[int(ev.verdict[p])]
-    if rejected is not None:
-        flags.append(Flag("incompatible", f"not a substitute: {rejected}"))
-    _flags(flags, checks, dev, req, stress, ev, p, cat, i)
-    past = (history or {}).get(key)
-    if past is not None and (past.worked or past.failed):
-        jobs = f" (jobs {', '.join(past.jobs)})" if past.jobs else ""
-        if past.worked:
-            flags.append(Flag("worked-before",
-                              f"used for {req.designation} before and worked {past.worked} time(s)"
-                              f"{jobs}: score bonus"))
-        if past.failed:
-            flags.append(Flag("failed-before",
-                              f"used for {req.designation} before and failed {past.failed} time(s)"
-                              f"{jobs}: score penalty; read the swap log notes"))
-    unknown = [c.parameter for c in checks if c.status == "unknown"
-               and (c.need is not None or c.parameter in ("package", "pinout", "material"))
-               and _need_known(c.parameter, req, stress)]
-    if unknown:
-        flags.append(Flag("unknown-data", "no value to compare for " + ", ".join(unknown)
-                          + ": check the datasheet"))
-    subs = {name: float(plain[name][4][p]) for name in PARAMETERS}
-    subs["stock"] = float(ev.stock[p] > 0)
-    subs["history"] = float(ev.history[p])
-    qty = int(ev.stock[p])
-    return Candidate(dev["designation"], key, float(ev.score[p]), verdict, qty,
-                     list((locations or {}).get(key, [])) if qty > 0 else [],
-                     checks, flags, known / applicable if applicable else 1.0, subs, dev)
-
-
-_BATCH_ROWS = 256
-"""Evaluations of up to this many rows are read ahead as Python values for their details."""
-
-
-def _plain_columns(ev: _Evaluation) -> dict[str, tuple[Any, ...]]:
-    """(status, need, offered, ratio, sub) of every check as Python lists (need stays a scalar
-    when it is one), made once per evaluation: reading numpy scalars one at a time for each
-    returned row costs more than the rest of its details."""
-    if ev.plain is None and ev.rows.shape[0] > _BATCH_ROWS:
-        # Many rows, few detailed (the rejected ones): read them one at a time instead.
-        ev.plain = {name: (col.status, col.need, col.offered, col.ratio, col.sub)
-                    for name, col in ev.columns.items()}
-    if ev.plain is None:
-        ev.plain = {
-            name: (col.status.tolist(),
-                   col.need.astype(float).tolist() if isinstance(col.need, np.ndarray)
-                   else col.need,
-                   col.offered.astype(float).tolist(),
-                   None if col.ratio is None else col.ratio.astype(float).tolist(),
-                   col.sub.astype(float).tolist())
-            for name, col in ev.columns.items()}
-    return ev.plain
-
-
-def _need_known(name: str, req: Requirement, stress: Stress) -> bool:
-    if name in ("package", "pinout", "material"):
-        return getattr(req, name) is not None
-    return True
+    subs = {name: ev.columns[name].sub.take(at).astype(float).tolist() for name in PARAMETERS}
+    stock = ev.stock.take(at).tolist()
+    hist = ev.history.take(at).astype(float).tolist()
+    score = ev.score.take(at).astype(float).tolist()
+    verdict = ev.verdict.take(at).tolist()
+    case_rated = cat.case_rated.take(grows).tolist()
+    free_air = cat.free_air.take(grows).astype(float).tolist()
+    tj_eff = cat.tj_effective.take(grows).astype(float).tolist()
+    allowed = ev.allowed_power.take(at).astype(float).tolist()
+    out = []
+    for j in range(k):
+        dev = devs[j]
+        key = dev["key"]
+        flags: list[Flag] = []
+        if rejected is not None:
+            flags.append(Flag("incompatible", f"not a substitute: {rejected[j]}"))
+        _flags(flags, checks[j], dev, req, stress, needs["ft"][j], case_rated[j], free_air[j],
+               allowed[j], tj_eff[j])
+        past = (history or {}).get(key)
+        if past is not None and (past.worked or past.failed):
+            jobs = f" (jobs {', '.join(past.jobs)})" if past.jobs else ""
+            if past.worked:
+                flags.append(Flag("worked-before",
+                                  f"used for {req.designation} before and worked {past.worked} "
+                                  f"time(s){jobs}: score bonus"))
+            if past.failed:
+                flags.append(Flag("failed-before",
+                                  f"used for {req.designation} before and failed {past.failed} "
+                                  f"time(s){jobs}: score penalty; read the swap log notes"))
+        if unknown[j]:
+            flags.append(Flag("unknown-data", "no value to compare for " + ", ".join(unknown[j])
+                              + ": check the datasheet"))
+        row_subs = {name: subs[name][j] for name in PARAMETERS}
+        row_subs["stock"] = float(stock[j] > 0)
+        row_subs["history"] = hist[j]
+        qty = int(stock[j])
+        out.append(Candidate(
+            dev["designation"], key, score[j],
+            VERDICTS[3] if rejected is not None else VERDICTS[verdict[j]], qty,
+            list((locations or {}).get(key, [])) if qty > 0 else [], checks[j], flags,
+            known[j] / applicable[j] if applicable[j] else 1.0, row_subs, dev))
+    return out
 
 
 def _fit_note(name: str, need: str | None, offered: str | None, status: str) -> str:
@@ -1557,15 +1639,14 @@ _POLICY_FACTOR = {"vceo": "voltage", "vcbo": "voltage", "ic_max": "current", "pt
 _STRESS_NAME = {"vceo": "Vce peak", "vcbo": "Vce peak", "ic_max": "Ic peak", "ptot": "dissipation"}
 
 
-def _rating_note(name: str, col: _Column, need: float | None, offered: float | None,
-                 status: str, req: Requirement, stress: Stress, policy: Policy,
-                 dev: dict[str, Any]) -> str:
+def _rating_note(name: str, basis: str, need: float | None, offered: float | None,
+                 req: Requirement, stress: Stress, policy: Policy, dev: dict[str, Any]) -> str:
     unit = UNIT[name]
     if need is None:
         return "no requirement (the original's value is unknown and no stress given)"
     if offered is None:
         return f"not in the record (need {_fmt(need, unit)})"
-    if name == "tj_max" and col.basis == "stress":
+    if name == "tj_max" and basis == "stress":
         limit = float(policy.tj_limit(offered))
         return (f"Tj estimated {need:.0f} °C at {_fmt(stress.power, 'W')} and "
                 f"{stress.ambient:g} °C ambient; {policy.name} allows {limit:.0f} °C, "
@@ -1579,12 +1660,12 @@ def _rating_note(name: str, col: _Column, need: float | None, offered: float | N
                 else f"{dev['hfe_min']:g}")
         return f"window {cand} against {win} (log scale)"
     if name == "ft":
-        if col.basis == "gain-bandwidth":
+        if basis == "gain-bandwidth":
             return (f"gain-bandwidth: fT >= hFE min x f = {req.hfe_min:g} x "
                     f"{_fmt(stress.freq, 'Hz')} (textbook: gain falls as fT/f above f_beta)")
         return "original's fT" + (" (no hFE min known, so --freq was not used)"
                                   if stress.freq is not None else "")
-    if col.basis == "stress":
+    if basis == "stress":
         factor = getattr(policy, _POLICY_FACTOR[name])
         what = _STRESS_NAME[name]
         rating = "allowed power" if name == "ptot" else LABEL[name]
@@ -1600,36 +1681,49 @@ _TABLED_OUTLINES = frozenset(outline_key(k) for k in FREE_AIR_CASE_TO_AMBIENT)
 """Outlines with a free-air case-to-ambient figure in partsdb.thermal (others are assumed)."""
 
 
+def _below_original(name: str, offered: float, original: float) -> str:
+    return (f"{LABEL[name]} {_fmt(offered, UNIT[name])} is below the original's "
+            f"{_fmt(original, UNIT[name])} (fine for the stated stress only)")
+
+
+def _case_rating_message(dev: dict[str, Any], stress: Stress, free_air: float,
+                         allowed: float) -> str:
+    sink = (f"heat sink {stress.heatsink:g} K/W + {DEFAULT_CASE_TO_SINK:g} K/W case-to-sink"
+            if stress.heatsink is not None else
+            f"no heat sink: {free_air:g} K/W case-to-ambient in free air "
+            f"for {dev['package'] or 'an unknown outline'}"
+            + ("" if outline_key(dev["package"]) in _TABLED_OUTLINES else " (assumed)"))
+    return (f"Ptot {_fmt(dev['ptot'], 'W')} is a case rating; converted through the "
+            f"thermal chain ({sink}) to {_fmt(allowed, 'W')} at {stress.ambient:g} °C")
+
+
+def _much_faster(ft: float) -> str:
+    return (f"fT {_fmt(ft, 'Hz')} is over {FT_FAST_FACTOR:g}x the need: it may oscillate; keep "
+            "leads short, add a base stopper if needed (common practice)")
+
+
 def _flags(flags: list[Flag], checks: list[Check], dev: dict[str, Any], req: Requirement,
-           stress: Stress, ev: _Evaluation, p: int, cat: CatalogColumns, i: int) -> None:
-    by = {c.parameter: c for c in checks}
+           stress: Stress, ft_need: float | None, case_rated: bool, free_air: float,
+           allowed: float, tj_effective: float) -> None:
+    """The flags of one candidate, after its checks (in PARAMETERS order); messages that need
+    number formatting are written when read."""
     for name, stressed in (("vceo", stress.vce_peak), ("vcbo", stress.vce_peak),
                            ("ic_max", stress.ic_peak)):
         original = getattr(req, name)
         offered = dev[name]
         if stressed is not None and original is not None and offered is not None \
                 and offered < original:
-            flags.append(Flag("below-original",
-                              f"{LABEL[name]} {_fmt(offered, UNIT[name])} is below the original's "
-                              f"{_fmt(original, UNIT[name])} (fine for the stated stress only)"))
-    if by["material"].status == "marginal":
-        flags.append(Flag("material-change", by["material"].note))
-    if by["package"].status == "marginal":
-        flags.append(Flag("other-outline", by["package"].note))
-    if by["pinout"].status == "marginal":
-        flags.append(Flag("re-form-leads", by["pinout"].note))
-    if cat.case_rated[i] and dev["ptot"] is not None:
-        sink = (f"heat sink {stress.heatsink:g} K/W + {DEFAULT_CASE_TO_SINK:g} K/W case-to-sink"
-                if stress.heatsink is not None else
-                f"no heat sink: {float(cat.free_air[i]):g} K/W case-to-ambient in free air "
-                f"for {dev['package'] or 'an unknown outline'}"
-                + ("" if outline_key(dev["package"]) in _TABLED_OUTLINES else " (assumed)"))
+            flags.append(Flag("below-original", (_below_original, (name, offered, original))))
+    for name, code in (("material", "material-change"), ("package", "other-outline"),
+                       ("pinout", "re-form-leads")):
+        check = checks[_AT[name]]
+        if check.status == "marginal":
+            flags.append(Flag(code, (getattr, (check, "note"))))
+    if case_rated and dev["ptot"] is not None:
         flags.append(Flag("case-rating-converted",
-                          f"Ptot {_fmt(dev['ptot'], 'W')} is a case rating; converted through the "
-                          f"thermal chain ({sink}) to {_fmt(float(ev.allowed_power[p]), 'W')} "
-                          f"at {stress.ambient:g} °C"))
+                          (_case_rating_message, (dev, stress, free_air, allowed))))
     if dev["tj_max"] is None and dev["ptot"] is not None:
-        flags.append(Flag("tj-assumed", f"Tj max not in the record: {float(cat.tj_effective[i]):g} °C "
+        flags.append(Flag("tj-assumed", f"Tj max not in the record: {tj_effective:g} °C "
                                         f"assumed for {dev['material']} to derate Ptot"))
     if req.hfe_min is not None and dev["hfe_min"] is not None:
         need_hi = req.hfe_max if req.hfe_max is not None else req.hfe_min
@@ -1640,11 +1734,8 @@ def _flags(flags: list[Flag], checks: list[Check], dev: dict[str, Any], req: Req
         elif dev["hfe_min"] * HFE_LOW_FACTOR < req.hfe_min:
             flags.append(Flag("low-gain", f"hFE min {dev['hfe_min']:g} is well below the needed "
                                           f"{req.hfe_min:g}"))
-    ft_need = by["ft"].need
     if dev["ft"] is not None and ft_need is not None and dev["ft"] > FT_FAST_FACTOR * ft_need:
-        flags.append(Flag("much-faster", f"fT {_fmt(dev['ft'], 'Hz')} is over {FT_FAST_FACTOR:g}x "
-                                         "the need: it may oscillate; keep leads short, add a "
-                                         "base stopper if needed (common practice)"))
+        flags.append(Flag("much-faster", (_much_faster, (dev["ft"],))))
 
 
 def verdict_counts(result: RankResult) -> dict[str, int]:
@@ -1674,5 +1765,5 @@ def assess(device: Device, requirement: Requirement, stress: Stress | None = Non
         reasons.append(f"polarity {device.polarity}, need {requirement.polarity}")
     if device.kind != requirement.kind:
         reasons.append(f"kind {device.kind}, need {requirement.kind}")
-    return _details(cat, ev, 0, requirement, stress, policy, weights, None, None,
-                    "; ".join(reasons) if reasons else None)
+    return _candidates(cat, ev, np.zeros(1, np.intp), requirement, stress, policy, None, None,
+                       ["; ".join(reasons)] if reasons else None)[0]

@@ -368,7 +368,8 @@ def test_selection_with_ties_and_large_groups() -> None:
 @given(st.lists(st.one_of(st.floats(-1.0, 10.0), st.just(float("nan"))), min_size=1,
                 max_size=50), st.floats(1.01, 20.0))
 def test_piecewise_curve_equals_numpy_interp(h: list[float], inv: float) -> None:
-    x = np.array([*h, 0.0, 1.0, inv, 2 * inv, np.nextafter(inv, 0), np.nextafter(1.0, 2)])
+    x = np.array([*h, 0.0, 1.0, inv, 2 * inv, np.nextafter(inv, 0), np.nextafter(1.0, 2),
+                  np.inf, -np.inf])
     for xs, ys in (((0.0, 1.0, inv, 2 * inv), (0.0, 0.3, 0.7, 1.0)),
                    ((0.0, 1.0, 2.0), (0.0, 0.3, 0.6))):
         assert np.array_equal(ranking._piecewise(x, xs, ys), np.interp(x, xs, ys),
