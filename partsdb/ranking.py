@@ -286,10 +286,18 @@ class Weights:
             raise SpecError("weights: every weight is 0; expected at least one above 0")
 
     def total(self) -> float:
-        return float(sum(getattr(self, f.name) for f in fields(self)))
+        return self._total
 
     def as_dict(self) -> dict[str, float]:
+        return dict(self._by_name)
+
+    @cached_property
+    def _by_name(self) -> dict[str, float]:
         return {f.name: float(getattr(self, f.name)) for f in fields(self)}
+
+    @cached_property
+    def _total(self) -> float:
+        return float(sum(getattr(self, f.name) for f in fields(self)))
 
     @classmethod
     def from_mapping(cls, data: Mapping[str, Any], where: str = "weights") -> Weights:
@@ -571,8 +579,15 @@ def grade_codes(stress: Any, rating: Any, factor: Any) -> np.ndarray:
     over otherwise, unknown on NaN) without building string arrays, which cost about 10 ms per
     100,000 rows; a test checks both agree element by element.
     """
-    s = np.asarray(stress, dtype=float)
     r = np.asarray(rating, dtype=float)
+    if isinstance(stress, float) and not math.isnan(stress):
+        # One stress for every row (a ranking): the same comparisons, fewer array calls.
+        out = np.full(r.shape, UNDER, dtype=np.int8)
+        out[stress <= r] = MARGINAL
+        out[stress <= factor * r] = OK
+        out[np.isnan(r)] = UNKNOWN
+        return out
+    s = np.asarray(stress, dtype=float)
     out = np.full(np.broadcast(s, r).shape, UNDER, dtype=np.int8)
     out[s <= r] = MARGINAL
     out[s <= factor * r] = OK
@@ -894,8 +909,9 @@ def _factorize_fields(cat: CatalogColumns, fields_: Sequence[str]) -> _Block:
     return _Block(codes.astype(np.intp).reshape(-1), cat.take(first))
 
 
-_VERDICT_JOINT_FROM = 2
-"""Blocks from this index on share one verdict code (their distinct combinations are few)."""
+_VERDICT_JOINT_FROM = 3
+"""Blocks from this index on (the gain window and the three fits) share one verdict code:
+their distinct combinations are few (hundreds in a group of 100,000 rows)."""
 
 
 @dataclass
@@ -904,6 +920,10 @@ class _Joint:
     """Combination index of every row of the group."""
     parts: list[np.ndarray]
     """Per combination, its code in each of the joined blocks."""
+    order: np.ndarray
+    """The group's positions by combination (ascending within each): the rows of
+    combination c are ``order[start[c]:start[c + 1]]``."""
+    start: np.ndarray
 
 
 def _group_blocks(cat: CatalogColumns) -> tuple[list[_Block], _Joint]:
@@ -914,8 +934,11 @@ def _group_blocks(cat: CatalogColumns) -> tuple[list[_Block], _Joint]:
         for block in blocks[_VERDICT_JOINT_FROM:]:
             joint = joint * block.table.size + block.codes
         _, first, codes = np.unique(joint, return_index=True, return_inverse=True)
-        hit = (blocks, _Joint(codes.astype(np.intp).reshape(-1),
-                              [b.codes[first] for b in blocks[_VERDICT_JOINT_FROM:]]))
+        codes = codes.astype(np.intp).reshape(-1)
+        start = np.zeros(first.shape[0] + 1, np.intp)
+        np.cumsum(np.bincount(codes, minlength=first.shape[0]), out=start[1:])
+        hit = (blocks, _Joint(codes, [b.codes[first] for b in blocks[_VERDICT_JOINT_FROM:]],
+                              np.argsort(codes, kind="stable"), start))
         cat._memo["blocks"] = hit
     return hit
 
@@ -1024,8 +1047,16 @@ def _group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stres
         # The suitable rows first, found through the joint checks (few rows pass them all)
         # before the ratings are read: the whole verdict is then seldom needed.
         ex_v = -1 if exclude is None else int(verdict_at(np.array([exclude]))[0])
-        within = np.flatnonzero((joint_v == 0).take(joint.codes, mode=_FAST))
-        within = within[verdict_at(within) == 0]
+        # The rows of the combinations that pass, read off the group's rows by combination
+        # (no pass over the whole group), then the other blocks on those rows only.
+        ok = np.flatnonzero(joint_v == 0)
+        lo, count = joint.start[ok], joint.start[ok + 1] - joint.start[ok]
+        total = int(count.sum())
+        ends = np.cumsum(count)
+        within = joint.order.take(np.repeat(lo - (ends - count), count) + np.arange(total))
+        for block, part_v in zip(blocks, part_vs, strict=False):
+            within = within[part_v.take(block.codes.take(within)) == 0]
+        within.sort(kind="stable")  # ascending runs, one per combination: merged, not sorted
         if returnable(within, 0, ex_v) >= limit:
             positions = within
             scored_verdict = np.zeros(within.shape[0], np.int8)

@@ -87,6 +87,10 @@ def test_grade_codes_match_derating_grade(stress: list[float | None],
     names = {"ok": "ok", "marginal": "marginal", "over": "under-rated", "unknown": "unknown"}
     expected = [names[g] for g in grade(s, r, factor)]
     assert [STATUS_NAMES[c] for c in grade_codes(s, r, factor)] == expected
+    # One stress for every rating (how a ranking calls it) takes a shorter path: same rule.
+    if stress[0] is not None:
+        one = [names[g] for g in grade(np.full(n, stress[0]), r, factor)]
+        assert [STATUS_NAMES[c] for c in grade_codes(float(stress[0]), r, factor)] == one
 
 
 @settings(max_examples=150, deadline=None)
