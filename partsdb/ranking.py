@@ -526,25 +526,19 @@ class CatalogColumns:
     def devices_at(self, rows: np.ndarray) -> list[dict[str, Any]]:
         """:meth:`device_at` of each of ``rows``, read column by column (the same values)."""
         rows = np.asarray(rows, dtype=np.intp).reshape(-1)
-        numbers = {n: getattr(self, n)[rows].astype(float).tolist()
-                   for n in ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max", "ft")}
-        columns = zip(self.designation[rows].tolist(), self.key[rows].tolist(),
-                      self.polarity[rows].tolist(), self.kind[rows].tolist(),
-                      self.material[rows].tolist(), self.case_rated[rows].tolist(),
-                      self.package[rows].tolist(), self.pinout[rows].tolist(), strict=True)
-        out = []
-        for j, (designation, key, polarity, kind, material, case, package, pinout) in \
-                enumerate(columns):
-            out.append({
-                "designation": str(designation), "key": str(key),
-                "polarity": _name(POLARITIES, polarity), "kind": _name(KINDS, kind),
-                "material": _name(MATERIALS, material),
-                **{n: None if math.isnan(v[j]) else v[j] for n, v in numbers.items()},
-                "ptot_ref": "case" if case else "ambient",
-                "package": self.packages[package] if package >= 0 else None,
-                "pinout": self.pinouts[pinout] if pinout >= 0 else None,
-            })
-        return out
+
+        def names(codes: np.ndarray, table: Sequence[str]) -> list[str | None]:
+            n = len(table)
+            return [table[c] if 0 <= c < n else None for c in codes[rows].tolist()]
+
+        columns = [self.designation[rows].tolist(), self.key[rows].tolist(),
+                   names(self.polarity, POLARITIES), names(self.kind, KINDS),
+                   names(self.material, MATERIALS),
+                   *([None if v != v else v for v in getattr(self, n)[rows].astype(float).tolist()]
+                     for n in _DEVICE_NUMBERS),
+                   ["case" if c else "ambient" for c in self.case_rated[rows].tolist()],
+                   names(self.package, self.packages), names(self.pinout, self.pinouts)]
+        return [dict(zip(_DEVICE_KEYS, values, strict=True)) for values in zip(*columns, strict=True)]
 
     def device_at(self, i: int) -> dict[str, Any]:
         """The row as plain values (for details and reports)."""
@@ -552,12 +546,17 @@ class CatalogColumns:
             "designation": str(self.designation[i]), "key": str(self.key[i]),
             "polarity": _name(POLARITIES, self.polarity[i]), "kind": _name(KINDS, self.kind[i]),
             "material": _name(MATERIALS, self.material[i]),
-            **{n: _num(getattr(self, n)[i]) for n in ("vceo", "vcbo", "ic_max", "ptot", "tj_max",
-                                                      "hfe_min", "hfe_max", "ft")},
+            **{n: _num(getattr(self, n)[i]) for n in _DEVICE_NUMBERS},
             "ptot_ref": "case" if self.case_rated[i] else "ambient",
             "package": self.packages[self.package[i]] if self.package[i] >= 0 else None,
             "pinout": self.pinouts[self.pinout[i]] if self.pinout[i] >= 0 else None,
         }
+
+
+_DEVICE_NUMBERS = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max", "ft")
+_DEVICE_KEYS = ("designation", "key", "polarity", "kind", "material", *_DEVICE_NUMBERS,
+                "ptot_ref", "package", "pinout")
+"""The keys of :meth:`CatalogColumns.device_at`, in its order."""
 
 
 def _name(table: Sequence[str], code: Any) -> str | None:
@@ -1465,8 +1464,7 @@ def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | Non
         top = at[_top(scored.score, scored.verdict, view, limit, sub_exclude,
                       None if keep is None else keep[at], at)]
     ev = scored.detail(top)
-    candidates = _candidates(catalog, ev, np.arange(top.shape[0]), requirement, stress, policy,
-                             history, locations)
+    candidates = _candidates(catalog, ev, None, requirement, stress, policy, history, locations)
     compatible = int(rows.shape[0]) if keep is None else int(np.count_nonzero(keep))
     if exclude is not None and (keep is None or keep[exclude]):
         compatible -= 1
@@ -1548,20 +1546,28 @@ def _floats_or_none(values: np.ndarray) -> list[float | None]:
     return [None if v != v else v for v in values.astype(float).tolist()]  # NaN: None
 
 
-def _candidates(cat: CatalogColumns, ev: _Evaluation, at: np.ndarray, req: Requirement,
+def _candidates(cat: CatalogColumns, ev: _Evaluation, at: np.ndarray | None, req: Requirement,
                 stress: Stress, policy: Policy, history: Mapping[str, PastSwaps] | None,
                 locations: Mapping[str, Sequence[str]] | None,
                 rejected: Sequence[str] | None = None) -> list[Candidate]:
-    """The rows at positions ``at`` of the evaluation, in that order, as readable candidates.
+    """The rows at positions ``at`` of the evaluation (None: all, in order), in that order, as
+    readable candidates.
 
     Read column by column (one gather per check for all the rows, then plain Python values);
     ``rejected`` gives, per row, why it is not a substitute (verdict ``incompatible``).
     """
-    at = np.asarray(at, dtype=np.intp).reshape(-1)
-    k = at.shape[0]
+    if at is None:
+        def pick(values: np.ndarray) -> np.ndarray:
+            return values
+    else:
+        at = np.asarray(at, dtype=np.intp).reshape(-1)
+
+        def pick(values: np.ndarray) -> np.ndarray:
+            return values.take(at)
+    grows = pick(ev.rows)
+    k = grows.shape[0]
     if k == 0:
         return []
-    grows = ev.rows.take(at)
     devs = cat.devices_at(grows)
     checks: list[list[Check]] = [[] for _ in range(k)]
     applicable, known = [0] * k, [0] * k
@@ -1569,7 +1575,7 @@ def _candidates(cat: CatalogColumns, ev: _Evaluation, at: np.ndarray, req: Requi
     needs: dict[str, list[float | None]] = {}
     for name in PARAMETERS:
         col = ev.columns[name]
-        status = [STATUS_NAMES[c] for c in col.status.take(at).tolist()]
+        status = [STATUS_NAMES[c] for c in pick(col.status).tolist()]
         if name in _FITS:
             need_text = getattr(req, name)
             for j in range(k):
@@ -1583,13 +1589,13 @@ def _candidates(cat: CatalogColumns, ev: _Evaluation, at: np.ndarray, req: Requi
                         unknown[j].append(name)
             continue
         if isinstance(col.need, np.ndarray):
-            need_at = _floats_or_none(col.need.take(at))
+            need_at = _floats_or_none(pick(col.need))
         else:
             need_at = [None if col.need is None else _num(col.need)] * k
         needs[name] = need_at
-        offered = _floats_or_none(col.offered.take(at))
+        offered = _floats_or_none(pick(col.offered))
         ratios: list[float | None] = [None] * k if col.ratio is None else [
-            v if math.isfinite(v) else None for v in col.ratio.take(at).astype(float).tolist()]
+            v if math.isfinite(v) else None for v in pick(col.ratio).astype(float).tolist()]
         basis = col.basis
         for j in range(k):
             need, off = need_at[j], offered[j]
@@ -1602,15 +1608,15 @@ def _candidates(cat: CatalogColumns, ev: _Evaluation, at: np.ndarray, req: Requi
                                    (_rating_note, (name, basis, need, off, req, stress, policy,
                                                    devs[j]))))
 
-    subs = {name: ev.columns[name].sub.take(at).astype(float).tolist() for name in PARAMETERS}
-    stock = ev.stock.take(at).tolist()
-    hist = ev.history.take(at).astype(float).tolist()
-    score = ev.score.take(at).astype(float).tolist()
-    verdict = ev.verdict.take(at).tolist()
+    subs = {name: pick(ev.columns[name].sub).astype(float).tolist() for name in PARAMETERS}
+    stock = pick(ev.stock).tolist()
+    hist = pick(ev.history).astype(float).tolist()
+    score = pick(ev.score).astype(float).tolist()
+    verdict = pick(ev.verdict).tolist()
     case_rated = cat.case_rated.take(grows).tolist()
     free_air = cat.free_air.take(grows).astype(float).tolist()
     tj_eff = cat.tj_effective.take(grows).astype(float).tolist()
-    allowed = ev.allowed_power.take(at).astype(float).tolist()
+    allowed = pick(ev.allowed_power).astype(float).tolist()
     out = []
     for j in range(k):
         dev = devs[j]
@@ -1796,5 +1802,5 @@ def assess(device: Device, requirement: Requirement, stress: Stress | None = Non
         reasons.append(f"polarity {device.polarity}, need {requirement.polarity}")
     if device.kind != requirement.kind:
         reasons.append(f"kind {device.kind}, need {requirement.kind}")
-    return _candidates(cat, ev, np.zeros(1, np.intp), requirement, stress, policy, None, None,
+    return _candidates(cat, ev, None, requirement, stress, policy, None, None,
                        ["; ".join(reasons)] if reasons else None)[0]
