@@ -274,3 +274,19 @@ def test_keys_are_the_normalised_designations_in_input_order() -> None:
     assert [h.position for h in idx.find("BC547B", limit=5)][:2] == [0, 4]
     assert SearchIndex([]).keys == []
     assert SearchIndex([]).find("BC547") == []
+
+
+def test_keys_made_again_for_the_layout_keep_content_and_order() -> None:
+    # The index re-makes its keys to get them into consecutive memory (a speed measure, see
+    # search._consecutive); whatever the heap looks like, the keys must be the same strings in
+    # the same order, and the finds the same.
+    from partsdb import search
+
+    keys = [f"2N{i:05d}" for i in range(5000)]
+    scattered = [k + "" for k in reversed(keys)]  # churn the allocator a little first
+    del scattered
+    assert search._consecutive(keys) == keys
+    assert search._consecutive([]) == []
+    big = SearchIndex([f"BC{i:06d}" for i in range(3000)])
+    assert big.keys == [normalize(f"BC{i:06d}") for i in range(3000)]
+    assert big.find("bc000124")[0].designation == "BC000124"
