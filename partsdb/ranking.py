@@ -3,7 +3,8 @@
 Pure domain (numpy only). The catalog is held column-wise (:class:`CatalogColumns`); the hard
 constraints (polarity, kind) are boolean masks, every check and score is an array operation over
 the compatible rows, and the readable details (:class:`Check`, :class:`Flag`) are built only for
-the rows returned. :func:`rank` is the entry point; it takes data already loaded.
+the rows returned, their sentences written when first read. :func:`rank` is the entry point; it
+takes data already loaded.
 
 Speed on large catalogs: a group's rows repeat few distinct values per check, so after its
 first ranking each group keeps a table of its distinct value tuples per check and a code per
@@ -1394,15 +1395,19 @@ def _top(score: np.ndarray, verdict: np.ndarray, cat: CatalogColumns, limit: int
     elif pool is None:
         pool = np.arange(n)
     pool = pool[np.isfinite(comp[pool])]
+    # The pool holds every row that can be among the best (rounding in ``comp`` is monotone);
+    # within it the order is exact: verdict, then score, then key. (``comp`` alone would merge
+    # scores a few units in the last place apart: 2000 - 39.5 == 2000 - 39.50000000000001.)
+    verdicts, scores = verdict[pool], score[pool]
     if pool.shape[0] <= _KEY_SORT_MAX:
         # Keys are unique and compare as key_rank orders them (code point order), so a small
         # pool needs no rank of the whole group (an argsort of every key, read cold).
         keys = cat.key[pool if at is None else at[pool]].tolist()
-        values = comp[pool].tolist()
-        order = sorted(range(pool.shape[0]), key=lambda j: (values[j], keys[j]))[:limit]
+        vs, ss = verdicts.tolist(), scores.tolist()
+        order = sorted(range(pool.shape[0]), key=lambda j: (vs[j], -ss[j], keys[j]))[:limit]
         return pool[np.array(order, dtype=np.intp)]
     ranks = cat.key_rank[pool if at is None else at[pool]]
-    return pool[np.lexsort((ranks, comp[pool]))[:limit]]
+    return pool[np.lexsort((ranks, -scores, verdicts))[:limit]]
 
 
 def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | None = None,
