@@ -206,9 +206,10 @@ class SearchIndex:
             return []
         sims = process.cdist([q], self._keys, scorer=OSA.normalized_similarity,
                              dtype=np.float32)[0]
-        k = min(n, max(4 * limit, 40))
-        pick = np.argpartition(-sims, k - 1)[:k] if k < n else np.arange(n)
-        pick = pick[sims[pick] >= FUZZY_CUTOFF]
+        k = max(4 * limit, 40)
+        pick = np.flatnonzero(sims >= FUZZY_CUTOFF)  # usually few: no selection over every key
+        if pick.shape[0] > k:
+            pick = pick[np.argpartition(-sims[pick], k - 1)[:k]]
         return [(int(p), float(sims[p])) for p in pick]
 
     def _in_notes(self, query: str, limit: int) -> list[tuple[int, float]]:
