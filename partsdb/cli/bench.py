@@ -72,7 +72,7 @@ def _print_table(result: Any) -> None:
     from rich.console import Console
     from rich.table import Table
 
-    from partsdb.bench import METRICS, TARGETS, meets_target
+    from partsdb.bench import DEFAULT_DEVICES, METRICS, TARGETS, meets_target
 
     machine = result.machine
     table = Table(title=f"partsdb bench: {result.devices:,} devices, {machine['cores']} cores, "
@@ -82,11 +82,15 @@ def _print_table(result: Any) -> None:
     for name in METRICS:
         value = result.metrics.get(name)
         target = TARGETS.get(name)
-        met = meets_target(name, value)
+        # The targets are set for the default catalog size; other sizes are shown, not judged.
+        met = meets_target(name, value) if result.devices == DEFAULT_DEVICES else None
         table.add_row(name, _number(value), _UNITS[name],
                       f"{target[0]} {target[1]:,g}" if target else "",
                       "—" if met is None else ("[green]yes[/]" if met else "[red]no[/]"))
     console = Console()
     console.print(table)
+    if result.devices != DEFAULT_DEVICES:
+        console.print(f"note: the targets are set for {DEFAULT_DEVICES:,} devices; at "
+                      f"{result.devices:,} the figures are shown, not judged", highlight=False)
     for note in result.notes:
         console.print(f"note: {note}", markup=False, highlight=False)

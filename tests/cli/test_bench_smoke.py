@@ -43,6 +43,9 @@ def test_bench_table_shows_targets() -> None:
     for name in METRICS:
         assert name in result.stdout
     assert ">= 20,000" in result.stdout and "<= 400" in result.stdout
+    # The targets are for 200,000 devices: a small run shows them but judges nothing.
+    assert "yes" not in result.stdout and " no " not in result.stdout
+    assert "not judged" in " ".join(result.stdout.split())  # however the console wraps it
 
 
 def test_bench_refuses_a_tiny_catalog() -> None:
