@@ -7,7 +7,7 @@ import pytest
 from partsdb.derating import BUILTIN_POLICIES
 from partsdb.device import Device
 from partsdb.operating import check_operating_point, grade_tj, hyperbola, thermal_estimate
-from partsdb.thermal import derated_power
+from partsdb.thermal import case_to_ambient, chain_power, derated_power, junction_temperature
 
 WORKSHOP = BUILTIN_POLICIES["workshop"]
 MIL = BUILTIN_POLICIES["mil-std-975m"]
@@ -40,6 +40,19 @@ def test_thermal_chain_worked_check() -> None:
     assert r.tc_estimate == pytest.approx(70.0)
     tj = next(lim for lim in r.limits if lim.parameter == "tj")
     assert tj.status == "ok" and tj.allowed == pytest.approx(155.0)  # workshop: 20 K margin
+
+
+def test_chain_power_is_the_worked_chain_solved_for_power() -> None:
+    # The same arithmetic read the other way (same source): with 3 + 1 + 8 K/W and Tj max
+    # 175 C at 25 C ambient the junction reaches its maximum at (175 - 25) / 12 = 12.5 W; the
+    # part's own Ptot still caps it, and an ambient above Tj max allows nothing.
+    assert case_to_ambient(8.0, 1.0) == pytest.approx(9.0)
+    assert case_to_ambient(None, 1.0, 60.0) == pytest.approx(60.0)  # no sink: free air
+    assert chain_power(50.0, 175.0, 25.0, 3.0 + case_to_ambient(8.0, 1.0)) == pytest.approx(12.5)
+    assert chain_power(10.0, 175.0, 25.0, 12.0) == pytest.approx(10.0)
+    assert chain_power(50.0, 175.0, 200.0, 12.0) == 0.0
+    # The 5 W of the worked check stays inside that limit and gives its 85 C.
+    assert junction_temperature(25.0, 5.0, 12.0) == pytest.approx(85.0)
 
 
 @pytest.mark.parametrize(("ambient", "expected"), [
