@@ -10,8 +10,8 @@ from pathlib import Path
 
 from partsdb.storage.database import Database, open_database
 
-SEED_DIR = Path(__file__).resolve().parents[2] / "seed_data"
-"""The seed files, beside the package in a source checkout (or $PARTSDB_SEED)."""
+SEED_PACKAGE = "partsdb_seed"
+"""``seed_data/`` as installed (pyproject maps the folder to this data-only package)."""
 
 
 class DemoError(RuntimeError):
@@ -19,10 +19,21 @@ class DemoError(RuntimeError):
 
 
 def seed_dir() -> Path:
-    path = Path(os.environ.get("PARTSDB_SEED", SEED_DIR))
+    """The folder of the demo's seed files: $PARTSDB_SEED, else the installed seed package."""
+    given = os.environ.get("PARTSDB_SEED")
+    if given is not None:
+        path = Path(given)
+    else:
+        from importlib.util import find_spec
+
+        # A folder of data files only: a namespace package, located without importing it.
+        spec = find_spec(SEED_PACKAGE)
+        places = [Path(p) for p in (spec.submodule_search_locations or [])] if spec else []
+        places.append(Path(__file__).resolve().parents[2] / "seed_data")  # a bare source tree
+        path = next((p for p in places if (p / "devices.csv").is_file()), places[0])
     if not (path / "devices.csv").is_file():
-        raise DemoError(f"demo seed files not found in {path}; run partsdb from a source "
-                        "checkout (pip install -e .) or set PARTSDB_SEED to the seed_data folder")
+        raise DemoError(f"demo seed files not found in {path}; reinstall partsdb (they come "
+                        "with it) or set PARTSDB_SEED to a folder holding devices.csv")
     return path
 
 
