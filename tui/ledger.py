@@ -1,7 +1,9 @@
 """The Ledger view: stock movements, newest first, filtered by device, place, job and date.
 
 Filters are applied by ``stock.ledger`` in the database; a bad filter (unknown device, a date
-that is not YYYY-MM-DD, a malformed place) is reported beside the filters, never raised.
+that is not YYYY-MM-DD, a malformed place) is reported beside the filters, never raised. The
+highlighted movement is spelled out under the table, note and all (a narrow terminal cuts the
+table's last columns).
 """
 
 from __future__ import annotations
@@ -45,6 +47,7 @@ class LedgerView(Vertical):
         super().__init__(**kwargs)
         self.db = db
         self._loaded = False
+        self._entries: list[Any] = []
 
     def compose(self) -> ComposeResult:
         with Horizontal(id="ledger-filters"):
@@ -56,6 +59,7 @@ class LedgerView(Vertical):
         yield Static("", id="ledger-status")
         table: DataTable[Any] = DataTable(id="ledger-table", cursor_type="row", zebra_stripes=True)
         yield table
+        yield Static("", id="ledger-detail")
 
     def on_mount(self) -> None:
         table = self.query_one("#ledger-table", DataTable)
@@ -94,6 +98,8 @@ class LedgerView(Vertical):
             return
         table = self.query_one("#ledger-table", DataTable)
         table.clear()
+        self._entries = entries
+        self._show_detail(0)
         for e in entries:
             change = Text(f"{e.change:+d}", style="green" if e.change > 0 else "red",
                           justify="right")
@@ -102,3 +108,20 @@ class LedgerView(Vertical):
                           e.job or "", e.note or "")
         more = " (newest shown; narrow the filters)" if len(entries) == LIMIT else ""
         status.update(f"{len(entries)} movement" + ("" if len(entries) == 1 else "s") + more)
+
+    @on(DataTable.RowHighlighted, "#ledger-table")
+    def _row_highlighted(self, event: DataTable.RowHighlighted) -> None:
+        self._show_detail(event.cursor_row)
+
+    def _show_detail(self, row: int) -> None:
+        detail = self.query_one("#ledger-detail", Static)
+        if not 0 <= row < len(self._entries):
+            detail.update("")
+            return
+        e = self._entries[row]
+        line = Text.assemble(
+            (e.at.strftime("%Y-%m-%d %H:%M UTC"), "bold"), "  ", (e.designation, "bold"),
+            f" {e.change:+d} ", (e.reason, REASON_STYLE.get(e.reason, "")),
+            f" at {e.location} ({e.condition})", f", job {e.job}" if e.job else "",
+            ": " + e.note if e.note else "")
+        detail.update(line)

@@ -42,6 +42,9 @@ STOCK: tuple[tuple[str, int, str], ...] = (
     ("QX5500", 5, "C2/D1"),
 )
 
+NOTES = {"QX5500": "pulled from the power supply board of a customer's bench amplifier, tested"}
+"""A note longer than the ledger table shows at 80 columns."""
+
 
 def build_small_shop(path: Path) -> Database:
     from partsdb.services import catalog, stock
@@ -52,7 +55,7 @@ def build_small_shop(path: Path) -> Database:
         for raw in DEVICES:
             catalog.add_device(session, raw)
         for designation, qty, place in STOCK:
-            stock.receive(session, designation, qty, place)
+            stock.receive(session, designation, qty, place, note=NOTES.get(designation))
         catalog.edit_device(session, "QX3302", {"low_stock": "5"})
     return db
 

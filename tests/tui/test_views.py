@@ -332,6 +332,13 @@ async def test_ledger_filters(shop_db: Any) -> None:
         await type_text(pilot, "QX5500")
         await pilot.pause()
         assert table.row_count == 1
+        # The highlighted movement is spelled out in full under the table (a narrow terminal
+        # cuts the table's note column).
+        with shop_db.session() as session:
+            (entry,) = stock.ledger(session, "QX5500")
+        detail = static_text(view.query_one("#ledger-detail", Static))
+        assert "QX5500" in detail and entry.reason in detail and entry.location in detail
+        assert entry.note and entry.note in " ".join(detail.split())
         view.query_one("#lg-since").value = "31/12/2024"
         await pilot.pause()
         assert "FILTER" in static_text(view.query_one("#ledger-status", Static))
