@@ -1192,6 +1192,28 @@ def _hfe_column(cat: CatalogColumns, req: Requirement) -> _Column:
 
 # ----------------------------------------------------------------------------- results
 
+Sentence = str | tuple[Callable[..., str], tuple[Any, ...]]
+"""A sentence, or how to write it: (function, arguments), called when the sentence is read."""
+
+
+class _WrittenWhenRead:
+    """A text attribute given as a :data:`Sentence`: written on first read, then kept (in the
+    slot named like the attribute with a leading underscore)."""
+
+    def __set_name__(self, owner: type, name: str) -> None:
+        self.slot = "_" + name
+
+    def __get__(self, obj: Any, objtype: type | None = None) -> str:
+        if obj is None:
+            return self  # type: ignore[return-value]
+        text = getattr(obj, self.slot)
+        if not isinstance(text, str):
+            write, args = text
+            text = write(*args)
+            setattr(obj, self.slot, text)
+        return text
+
+
 class Check:
     """One parameter of one candidate against the need.
 
@@ -1202,8 +1224,7 @@ class Check:
     __slots__ = ("_note", "need", "offered", "parameter", "ratio", "status")
 
     def __init__(self, parameter: str, need: float | None, offered: float | None,
-                 ratio: float | None, status: str,
-                 note: str | tuple[Callable[..., str], tuple[Any, ...]] = "") -> None:
+                 ratio: float | None, status: str, note: Sentence = "") -> None:
         self.parameter = parameter
         self.need = need
         self.offered = offered
@@ -1212,13 +1233,7 @@ class Check:
         self.status = status
         self._note = note
 
-    @property
-    def note(self) -> str:
-        note = self._note
-        if not isinstance(note, str):
-            write, args = note
-            note = self._note = write(*args)
-        return note
+    note = _WrittenWhenRead()
 
     def _fields(self) -> tuple[Any, ...]:
         return (self.parameter, self.need, self.offered, self.ratio, self.status, self.note)
@@ -1244,18 +1259,11 @@ class Flag:
 
     __slots__ = ("_message", "code")
 
-    def __init__(self, code: str,
-                 message: str | tuple[Callable[..., str], tuple[Any, ...]]) -> None:
+    def __init__(self, code: str, message: Sentence) -> None:
         self.code = code
         self._message = message
 
-    @property
-    def message(self) -> str:
-        message = self._message
-        if not isinstance(message, str):
-            write, args = message
-            message = self._message = write(*args)
-        return message
+    message = _WrittenWhenRead()
 
     def __eq__(self, other: object) -> bool:
         return isinstance(other, Flag) and (self.code, self.message) == (other.code, other.message)
