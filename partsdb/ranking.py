@@ -1702,7 +1702,7 @@ def _rating_note(name: str, basis: str, need: float | None, offered: float | Non
                 f"{stress.ambient:g} °C ambient; {policy.name} allows {limit:.0f} °C, "
                 f"Tj max {offered:.0f} °C")
     if name == "tj_max":
-        return f"original's Tj max {need:.0f} °C"
+        return f"Tj max {offered:.0f} °C against the original's {need:.0f} °C"
     if name == "hfe":
         win = (f"{req.hfe_min:g}..{req.hfe_max:g}" if req.hfe_max is not None
                else f"{req.hfe_min:g}")
@@ -1711,10 +1711,12 @@ def _rating_note(name: str, basis: str, need: float | None, offered: float | Non
         return f"window {cand} against {win} (log scale)"
     if name == "ft":
         if basis == "gain-bandwidth":
-            return (f"gain-bandwidth: fT >= hFE min x f = {req.hfe_min:g} x "
-                    f"{_fmt(stress.freq, 'Hz')} (textbook: gain falls as fT/f above f_beta)")
-        return "original's fT" + (" (no hFE min known, so --freq was not used)"
-                                  if stress.freq is not None else "")
+            return (f"fT {_fmt(offered, 'Hz')} against hFE min x f = {req.hfe_min:g} x "
+                    f"{_fmt(stress.freq, 'Hz')} = {_fmt(need, 'Hz')} (gain-bandwidth, "
+                    "textbook: gain falls as fT/f above f_beta)")
+        return (f"fT {_fmt(offered, 'Hz')} against the original's {_fmt(need, 'Hz')}"
+                + (" (no hFE min known, so --freq was not used)"
+                   if stress.freq is not None else ""))
     if basis == "stress":
         factor = getattr(policy, _POLICY_FACTOR[name])
         what = _STRESS_NAME[name]
@@ -1722,9 +1724,9 @@ def _rating_note(name: str, basis: str, need: float | None, offered: float | Non
         return (f"{what} {_fmt(need, unit)} is {_pct(need / offered)} of {rating} "
                 f"{_fmt(offered, unit)}; {policy.name} allows {_pct(factor)}")
     if name == "ptot":
-        return (f"allowed power at {stress.ambient:g} °C vs the original's "
-                f"{_fmt(need, 'W')} in the same mounting")
-    return f"original's {LABEL[name]}"
+        return (f"allowed power at {stress.ambient:g} °C {_fmt(offered, 'W')} against the "
+                f"original's {_fmt(need, 'W')} in the same mounting")
+    return f"{LABEL[name]} {_fmt(offered, unit)} against the original's {_fmt(need, unit)}"
 
 
 _TABLED_OUTLINES = frozenset(outline_key(k) for k in FREE_AIR_CASE_TO_AMBIENT)

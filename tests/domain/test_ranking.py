@@ -64,6 +64,8 @@ def test_lower_vceo_is_under_rated_without_stress() -> None:
     check = c.check("vceo")
     assert (check.need, check.offered, check.status) == (40.0, 30.0, "under-rated")
     assert c.verdict == "under-rated"
+    # The note, read on its own (the CLI lists it for the problems), says both numbers.
+    assert "30 V" in check.note and "40 V" in check.note
 
 
 @pytest.mark.parametrize(("policy", "vce_peak", "status"), [
