@@ -39,6 +39,7 @@ from dataclasses import dataclass, field
 from typing import Any
 
 from partsdb.device import Device
+from partsdb.errors import InvalidInput
 from partsdb.eseries import nearest
 
 NETWORKS: tuple[str, ...] = ("divider", "collector-feedback", "fixed")
@@ -66,7 +67,7 @@ STIFF_FACTOR = 0.01
 T_REFERENCE = 25.0
 
 
-class BiasError(ValueError):
+class BiasError(InvalidInput):
     """A stage or device input that makes no sense; names the field, value and expectation."""
 
     def __init__(self, field: str, value: object, expected: str) -> None:

@@ -14,6 +14,8 @@ from typing import Any
 
 import numpy as np
 
+from partsdb.errors import InvalidInput
+
 OK, MARGINAL, OVER, UNKNOWN = "ok", "marginal", "over", "unknown"
 
 
@@ -78,8 +80,8 @@ BUILTIN_POLICIES: dict[str, Policy] = {
 DEFAULT_POLICY = "workshop"
 
 
-class PolicyError(ValueError):
-    pass
+class PolicyError(InvalidInput):
+    """A derating policy that cannot be used; the message names the key and value."""
 
 
 def policy_from_mapping(name: str, data: Mapping[str, Any]) -> Policy:

@@ -15,6 +15,7 @@ from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, Literal
 
 from partsdb.designations import normalize
+from partsdb.errors import InvalidInput
 from partsdb.units import UnitError, format_quantity, parse_quantity
 
 if TYPE_CHECKING:
@@ -91,7 +92,7 @@ TRUE_WORDS = frozenset({"yes", "y", "true", "t", "1"})
 FALSE_WORDS = frozenset({"no", "n", "false", "f", "0", ""})
 
 
-class InvalidRecord(ValueError):
+class InvalidRecord(InvalidInput):
     """One or more fields of a record are invalid; ``problems`` lists (field, message)."""
 
     def __init__(self, problems: list[tuple[str, str]]) -> None:

@@ -80,6 +80,7 @@ from partsdb.cautions import SAFETY_CAUTIONS
 from partsdb.derating import Policy
 from partsdb.designations import normalize
 from partsdb.device import DEFAULT_TJ_MAX, Device
+from partsdb.errors import InvalidInput
 from partsdb.thermal import (
     DEFAULT_CASE_TO_SINK,
     FREE_AIR_CASE_TO_AMBIENT,
@@ -124,7 +125,7 @@ SUB_UNKNOWN_FIT = 0.4
 SUB_NO_NEED = 0.5
 
 
-class SpecError(ValueError):
+class SpecError(InvalidInput):
     """A requirement, stress or weight that cannot be used; the message names field and value."""
 
 

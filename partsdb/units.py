@@ -22,6 +22,8 @@ from dataclasses import dataclass
 
 from quantiphy import Quantity
 
+from partsdb.errors import InvalidInput
+
 # SI prefixes (BIPM SI Brochure, 9th ed., table 7), plus "K" for kilo and "u" for micro,
 # which are how workshops write them (common practice).
 PREFIXES: dict[str, float] = {
@@ -53,7 +55,7 @@ UNIT_SPELLINGS: dict[str, tuple[str, ...]] = {
 }
 
 
-class UnitError(ValueError):
+class UnitError(InvalidInput):
     """A text that is not a valid quantity for its field; the message names field, value, unit."""
 
     def __init__(self, field: str, value: object, expected: str) -> None:

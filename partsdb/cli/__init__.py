@@ -12,21 +12,8 @@ from typing import Any
 import click
 
 from partsdb import __version__
-from partsdb.cli.common import EXIT_INVALID, EXIT_NOT_FOUND, CliState
-
-
-def _exit_code_for(err: BaseException) -> int | None:
-    """Exit code for a known service error (None: not ours, let it propagate)."""
-    names = {cls.__name__ for cls in type(err).__mro__}
-    if names & {"NotFound"}:
-        return EXIT_NOT_FOUND
-    if names & {"InvalidRecord", "ImportRejected", "CatalogError", "StockError", "UnitError",
-                "PolicyError", "ReadOnlyError", "ConfigError", "SpecError", "BiasError",
-                "SwapError", "BackupError"}:
-        return EXIT_INVALID
-    if names & {"DatabaseError"}:
-        return 3
-    return None
+from partsdb.cli.common import CliState
+from partsdb.errors import PartsdbError
 
 
 class PartsdbGroup(click.Group):
@@ -37,14 +24,11 @@ class PartsdbGroup(click.Group):
             return super().invoke(ctx)
         except (click.exceptions.Exit, click.ClickException, click.Abort):
             raise
-        except Exception as err:
-            code = _exit_code_for(err)
-            if code is None:
-                raise
+        except PartsdbError as err:
             from partsdb.storage.database import mask_url
 
             click.echo(f"error: {mask_url(str(err))}", err=True)
-            sys.exit(code)
+            sys.exit(err.exit_code)
 
 
 @click.group(cls=PartsdbGroup, context_settings={"help_option_names": ["-h", "--help"]})

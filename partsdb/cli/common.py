@@ -4,7 +4,8 @@ Commands are thin: parse options (units through :class:`QuantityParam`), make on
 domain call, format the result. Heavy modules (numpy, pandas, sqlalchemy, scipy) are imported
 inside command bodies so that ``partsdb --help`` stays fast.
 
-Exit codes: 0 success, 1 not found, 2 bad usage or invalid input (message on stderr).
+Exit codes (``partsdb.errors``): 0 success, 1 not found, 2 bad usage or invalid input,
+3 database or environment trouble (message on stderr).
 """
 
 from __future__ import annotations
@@ -18,12 +19,12 @@ from typing import TYPE_CHECKING, Any, NoReturn
 
 import click
 
+from partsdb.errors import EXIT_INVALID, EXIT_NOT_FOUND
+
 if TYPE_CHECKING:
     from partsdb.device import Device
     from partsdb.storage.database import Database
 
-EXIT_NOT_FOUND = 1
-EXIT_INVALID = 2
 
 
 @dataclass

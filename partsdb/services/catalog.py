@@ -16,17 +16,18 @@ from sqlalchemy.orm import Session
 
 from partsdb.designations import normalize
 from partsdb.device import FIELD_NAMES, Device, parse_device
+from partsdb.errors import InvalidInput, NotFoundError
 from partsdb.storage.models import DeviceRow, LotRow, MovementRow
 
 STORED_FIELDS: tuple[str, ...] = FIELD_NAMES
 
 
-class CatalogError(ValueError):
+class CatalogError(InvalidInput):
     """A catalog operation refused; the message says why and what to do."""
 
 
-class NotFound(LookupError):
-    pass
+class NotFound(NotFoundError):
+    """A device or place that is not stored."""
 
 
 def consistency_warnings(device: Device) -> list[str]:

@@ -26,12 +26,13 @@ from pathlib import Path
 from typing import Any
 
 from partsdb.derating import BUILTIN_POLICIES, DEFAULT_POLICY, Policy, PolicyError, policy_from_mapping
+from partsdb.errors import InvalidInput
 from partsdb.ranking import DEFAULT_WEIGHTS, SpecError, Weights
 
 ENV_VAR = "PARTSDB_CONFIG"
 
 
-class ConfigError(ValueError):
+class ConfigError(InvalidInput):
     """The config file cannot be used; the message names the file, key and value."""
 
 

@@ -8,14 +8,15 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
+from partsdb.errors import EnvironmentProblem
 from partsdb.storage.database import Database, open_database
 
 SEED_PACKAGE = "partsdb_seed"
 """``seed_data/`` as installed (pyproject maps the folder to this data-only package)."""
 
 
-class DemoError(RuntimeError):
-    pass
+class DemoError(EnvironmentProblem):
+    """The demo cannot be built (seed files missing or unreadable); nothing was written."""
 
 
 def seed_dir() -> Path:

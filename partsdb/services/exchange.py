@@ -39,6 +39,7 @@ from partsdb.device import (
     normalize_pinout,
     parse_field,
 )
+from partsdb.errors import InvalidInput
 from partsdb.services import catalog
 from partsdb.storage.models import DeviceRow
 from partsdb.units import UnitError
@@ -52,7 +53,7 @@ REQUIRED_DEVICE_COLUMNS = ("designation", "kind", "polarity", "material")
 _INJECTION_START = ("=", "+", "-", "@", "\t", "\r", "\n")
 
 
-class ImportRejected(ValueError):
+class ImportRejected(InvalidInput):
     """The file was refused; ``problems`` lists (line, message); nothing was written."""
 
     def __init__(self, problems: list[tuple[int, str]], what: str = "rows") -> None:

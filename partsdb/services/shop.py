@@ -40,6 +40,7 @@ from sqlalchemy import Boolean, DateTime, Float, Integer, Table, bindparam, func
 from sqlalchemy.engine import URL, Connection
 from sqlalchemy.exc import IntegrityError, OperationalError
 
+from partsdb.errors import InvalidInput
 from partsdb.storage.database import (
     Database,
     DatabaseError,
@@ -61,7 +62,7 @@ BATCH = 5000
 SQLITE_MAGIC = b"SQLite format 3\x00"
 
 
-class BackupError(RuntimeError):
+class BackupError(InvalidInput):
     """A copy, backup or restore refused or failed; nothing was changed. The message says why."""
 
 

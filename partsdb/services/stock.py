@@ -18,6 +18,7 @@ from sqlalchemy import func, select, update
 from sqlalchemy.exc import IntegrityError
 from sqlalchemy.orm import Session
 
+from partsdb.errors import InvalidInput
 from partsdb.services.catalog import NotFound, require_row
 from partsdb.storage.models import DeviceRow, LocationRow, LotRow, MovementRow
 
@@ -26,7 +27,7 @@ REASONS = ("receive", "take", "return", "move", "count")
 _SEGMENT = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 ._#+-]{0,63}$")
 
 
-class StockError(ValueError):
+class StockError(InvalidInput):
     """A stock operation refused; nothing was changed. The message says why."""
 
 

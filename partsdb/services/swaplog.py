@@ -17,6 +17,7 @@ from sqlalchemy.orm import Session
 
 from partsdb.derating import Policy
 from partsdb.designations import normalize
+from partsdb.errors import InvalidInput
 from partsdb.ranking import Candidate, Requirement, SpecError, Stress, assess
 from partsdb.services import catalog
 from partsdb.storage.models import SwapRow
@@ -24,7 +25,7 @@ from partsdb.storage.models import SwapRow
 OUTCOMES = ("worked", "failed")
 
 
-class SwapError(ValueError):
+class SwapError(InvalidInput):
     """A swap-log entry refused; the message names the field and value."""
 
 

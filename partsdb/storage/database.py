@@ -21,18 +21,22 @@ from sqlalchemy.engine import URL, Engine, make_url
 from sqlalchemy.exc import OperationalError
 from sqlalchemy.orm import Session, sessionmaker
 
+from partsdb.errors import EXIT_INVALID, EnvironmentProblem
+
 T = TypeVar("T")
 ENV_VAR = "PARTSDB_DB"
 SQLITE_BUSY_TIMEOUT_MS = 15_000
 MIGRATIONS = Path(__file__).with_name("migrations")
 
 
-class DatabaseError(RuntimeError):
+class DatabaseError(EnvironmentProblem):
     """A database problem worth a clear one-line message (never a traceback)."""
 
 
 class ReadOnlyError(DatabaseError):
-    pass
+    """A change refused because the database was opened read-only (a refused request: exit 2)."""
+
+    exit_code = EXIT_INVALID
 
 
 def default_path() -> Path:

@@ -1,0 +1,46 @@
+"""Every deliberate error carries its documented exit code, and the CLI ends on one line."""
+
+from __future__ import annotations
+
+import pytest
+from click.testing import CliRunner
+
+from partsdb import errors
+from partsdb.bias import BiasError
+from partsdb.cli import main
+from partsdb.derating import PolicyError
+from partsdb.device import InvalidRecord
+from partsdb.ranking import SpecError
+from partsdb.services.catalog import CatalogError, NotFound
+from partsdb.services.config import ConfigError
+from partsdb.services.demo import DemoError
+from partsdb.services.exchange import ImportRejected
+from partsdb.services.shop import BackupError
+from partsdb.services.stock import StockError
+from partsdb.services.swaplog import SwapError
+from partsdb.storage.database import DatabaseError, ReadOnlyError
+from partsdb.units import UnitError
+
+
+@pytest.mark.parametrize(("cls", "code"), [
+    (NotFound, 1),
+    (InvalidRecord, 2), (ImportRejected, 2), (CatalogError, 2), (StockError, 2), (UnitError, 2),
+    (PolicyError, 2), (ConfigError, 2), (SpecError, 2), (BiasError, 2), (SwapError, 2),
+    (BackupError, 2), (ReadOnlyError, 2),
+    (DatabaseError, 3), (DemoError, 3),
+])
+def test_each_error_carries_its_exit_code(cls: type, code: int) -> None:
+    assert issubclass(cls, errors.PartsdbError)
+    assert cls.exit_code == code
+
+
+def test_missing_seed_folder_is_one_line_and_exit_3(tmp_path, monkeypatch) -> None:  # type: ignore[no-untyped-def]
+    monkeypatch.setenv("PARTSDB_SEED", str(tmp_path / "nowhere"))
+    target = tmp_path / "demo.sqlite"
+    result = CliRunner().invoke(main, ["demo", "--no-ui", "--path", str(target)])
+    assert result.exit_code == 3, result.output
+    assert result.exception is None or isinstance(result.exception, SystemExit)
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith("error: demo seed files not found")
+    assert not target.exists()
+
