@@ -1,13 +1,16 @@
-"""Derating policies: how far below its ratings a part should run, and the grading rule.
+"""Derating policies: how far below its ratings a part should run, the grading rule and its words.
 
-A policy multiplies each rating by a factor to get the largest stress it allows; a stress above
-that but within the rating is *marginal*, above the rating it is *over*. The substitution
-engine and the operating check both grade through :func:`grade`, so a number means the same
-everywhere. Works on plain floats and on numpy arrays alike.
+A policy multiplies each rating by a factor to get the largest stress it allows; a stress within
+that is ``ok``, above it but within the rating ``marginal``, above the rating ``under-rated``,
+and a missing value ``unknown`` (:data:`STATUSES`). :func:`grade` is the one grading function:
+``partsdb check`` (:mod:`partsdb.operating`), the substitution ranking
+(:mod:`partsdb.ranking.checks`) and the job sheets all grade through it, on plain floats and on
+numpy arrays alike. A candidate's verdict is its worst check in :data:`VERDICTS` words.
 """
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -16,7 +19,12 @@ import numpy as np
 
 from partsdb.errors import InvalidInput
 
-OK, MARGINAL, OVER, UNKNOWN = "ok", "marginal", "over", "unknown"
+STATUSES: tuple[str, ...] = ("ok", "marginal", "under-rated", "unknown")
+"""The status of one check, by code: :func:`grade` returns the index into this tuple."""
+OK, MARGINAL, UNDER, UNKNOWN = 0, 1, 2, 3
+VERDICTS: tuple[str, ...] = ("suitable", "marginal", "under-rated", "incompatible")
+"""A candidate's verdict: its worst check (ok and unknown: suitable), or incompatible when the
+polarity or kind is wrong."""
 
 
 @dataclass(frozen=True)
@@ -108,13 +116,27 @@ def policy_from_mapping(name: str, data: Mapping[str, Any]) -> Policy:
                   description=str(data.get("description", "")), **values)
 
 
-def grade(stress: Any, rating: Any, factor: float) -> Any:
-    """Status of a stress against a rating: ok (<= factor x rating), marginal (<= rating), over.
+def grade(stress: Any, rating: Any, factor: Any = 1.0, *, limit: Any = None) -> Any:
+    """Status code of a stress against a rating (an index into :data:`STATUSES`).
 
-    Missing values (None / NaN) grade ``unknown``. Scalars give a str, arrays an array of str.
+    ``OK`` when stress <= ``limit`` (default: factor x rating), ``MARGINAL`` when stress <=
+    rating, ``UNDER`` (under-rated) above the rating, ``UNKNOWN`` when a value is missing (None
+    or NaN). Scalars give an int, arrays an int8 array of the broadcast shape; ``STATUSES[code]``
+    is the word.
     """
-    s = np.asarray(stress, dtype=float)
     r = np.asarray(rating, dtype=float)
-    out = np.where(np.isnan(s) | np.isnan(r), UNKNOWN,
-                   np.where(s <= factor * r, OK, np.where(s <= r, MARGINAL, OVER)))
-    return str(out) if out.ndim == 0 else out
+    if limit is None and isinstance(stress, float) and not math.isnan(stress) and r.ndim:
+        # One stress for every row (a ranking): the same comparisons, fewer array calls.
+        out = np.full(r.shape, UNDER, dtype=np.int8)
+        out[stress <= r] = MARGINAL
+        out[stress <= factor * r] = OK
+        out[np.isnan(r)] = UNKNOWN
+        return out
+    s = np.asarray(np.nan if stress is None else stress, dtype=float)
+    r = np.asarray(np.nan if rating is None else rating, dtype=float)
+    top = factor * r if limit is None else np.asarray(limit, dtype=float)
+    out = np.full(np.broadcast(s, r, top).shape, UNDER, dtype=np.int8)
+    out[s <= r] = MARGINAL
+    out[s <= top] = OK
+    out[np.isnan(s) | np.isnan(r)] = UNKNOWN
+    return int(out) if out.ndim == 0 else out

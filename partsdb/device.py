@@ -88,6 +88,11 @@ QUANTITY_FIELDS: tuple[str, ...] = tuple(f.name for f in FIELDS if f.kind == "qu
 # rated 75-90 °C, silicon 150 °C or more). Reported as assumed wherever it is used.
 DEFAULT_TJ_MAX: dict[str, float] = {"ge": 85.0, "si": 150.0, "other": 150.0}
 
+
+def default_tj_max(material: str | None) -> float:
+    """Tj max assumed for a part of this material with none recorded (unknown: silicon's)."""
+    return DEFAULT_TJ_MAX.get(material or "si", DEFAULT_TJ_MAX["si"])
+
 TRUE_WORDS = frozenset({"yes", "y", "true", "t", "1"})
 FALSE_WORDS = frozenset({"no", "n", "false", "f", "0", ""})
 
@@ -141,7 +146,7 @@ class Device:
         """Tj max and whether it was assumed from the material (True when assumed)."""
         if self.tj_max is not None:
             return self.tj_max, False
-        return DEFAULT_TJ_MAX.get(self.material, 150.0), True
+        return default_tj_max(self.material), True
 
     def to_dict(self) -> dict[str, Any]:
         """Plain values keyed by the CSV column names (SI base units)."""

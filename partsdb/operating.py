@@ -1,10 +1,12 @@
 """Operating-point check: is a transistor safe at a given Vce, Ic and dissipation?
 
-Grades each stress against its rating through :func:`partsdb.derating.grade` (one grading rule
-for the whole project) and estimates the junction temperature through the thermal chain of
-:mod:`partsdb.thermal`. The small functions here (:func:`thermal_estimate`, :func:`grade_tj`,
-:func:`tj_ratio`, :func:`hyperbola`) work on floats and numpy arrays alike, so the substitution
-engine applies exactly the same formulas to whole catalogs.
+The engine behind ``partsdb check``. Grades each stress against its rating through
+:func:`partsdb.derating.grade` (the grading rule and words the substitution ranking uses too:
+ok / marginal / under-rated / unknown) and estimates the junction temperature through the
+thermal chain of :mod:`partsdb.thermal`, the same chain the ranking's power check reads. The
+small functions here (:func:`thermal_estimate`, :func:`grade_tj`, :func:`tj_ratio`,
+:func:`hyperbola`) take floats or numpy arrays; the ranking does not call them (it evaluates
+its own columns in :mod:`partsdb.ranking.checks`).
 
 Formulas:
 
@@ -25,7 +27,7 @@ from typing import Any
 
 import numpy as np
 
-from partsdb.derating import BUILTIN_POLICIES, MARGINAL, OK, OVER, UNKNOWN, Policy, grade
+from partsdb.derating import BUILTIN_POLICIES, STATUSES, UNDER, UNKNOWN, Policy, grade
 from partsdb.device import Device
 from partsdb.thermal import (
     DEFAULT_CASE_TO_SINK,
@@ -63,13 +65,10 @@ def thermal_estimate(ptot: Any, tj_max: Any, ptot_ref: Any, ambient: Any, power:
 
 
 def grade_tj(tj: Any, tj_max: Any, policy: Policy) -> Any:
-    """ok at or below the policy's Tj limit, marginal up to Tj max, over beyond; NaN unknown."""
-    t = np.asarray(tj, dtype=float)
-    rating = np.asarray(tj_max, dtype=float)
-    limit = np.asarray(policy.tj_limit(rating), dtype=float)
-    out = np.where(np.isnan(t) | np.isnan(rating), UNKNOWN,
-                   np.where(t <= limit, OK, np.where(t <= rating, MARGINAL, OVER)))
-    return str(out) if out.ndim == 0 else out
+    """Status word of a junction temperature: ok at or below the policy's Tj limit, marginal up
+    to Tj max, under-rated beyond; NaN unknown (:func:`partsdb.derating.grade`)."""
+    code = grade(tj, tj_max, limit=policy.tj_limit(np.asarray(tj_max, dtype=float)))
+    return STATUSES[code] if np.ndim(code) == 0 else np.asarray(STATUSES)[code]
 
 
 def tj_ratio(tj: Any, tj_max: Any, ambient: Any) -> Any:
@@ -147,9 +146,10 @@ class OperatingCheck:
 
     @property
     def worst(self) -> str:
-        """The worst status over all limits (over > marginal > unknown > ok)."""
-        order = {OVER: 3, MARGINAL: 2, UNKNOWN: 1, OK: 0}
-        return max((lim.status for lim in self.limits), key=order.__getitem__, default=UNKNOWN)
+        """The worst status over all limits (under-rated > marginal > unknown > ok)."""
+        order = {STATUSES[UNDER]: 3, "marginal": 2, STATUSES[UNKNOWN]: 1, "ok": 0}
+        return max((lim.status for lim in self.limits), key=order.__getitem__,
+                   default=STATUSES[UNKNOWN])
 
     def to_json(self) -> dict[str, Any]:
         return {
@@ -179,12 +179,12 @@ def _finite(x: float) -> float | None:
 def _limit(parameter: str, actual: float, rating: float | None, factor: float,
            unit: str, note: str = "") -> Limit:
     if rating is None or not math.isfinite(rating):
-        return Limit(parameter, None, None, actual, None, UNKNOWN, None, unit,
+        return Limit(parameter, None, None, actual, None, STATUSES[UNKNOWN], None, unit,
                      note or "no rating in the record")
     allowed = factor * rating
     ratio = actual / rating if rating > 0 else math.inf
     return Limit(parameter, rating, allowed, actual, _finite(ratio),
-                 grade(actual, rating, factor), allowed - actual, unit, note)
+                 STATUSES[grade(actual, rating, factor)], allowed - actual, unit, note)
 
 
 def _check_number(name: str, value: float | None, allow_zero: bool = True,
@@ -230,7 +230,7 @@ def check_operating_point(device: Device, vce: float, ic: float, power: float | 
     tj = tc = rth = p_allowed = ic_allowed = fraction = None
     if device.ptot is None:
         limits.append(_limit("power", p, None, policy.power, "W"))
-        limits.append(Limit("tj", None, None, math.nan, None, UNKNOWN, None, "°C",
+        limits.append(Limit("tj", None, None, math.nan, None, STATUSES[UNKNOWN], None, "°C",
                             "no Ptot in the record, so no thermal resistance to estimate Tj"))
     else:
         ref = device.ptot_ref

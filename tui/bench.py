@@ -41,7 +41,7 @@ FIELDS: tuple[tuple[str, str, str, str], ...] = (
 )
 DEFAULT_NETWORK = "divider"
 """The network the form starts with (one of partsdb.bias.NETWORKS)."""
-STATUS_STYLE = {"ok": "green", "marginal": "yellow", "over": "bold red", "unknown": "dim"}
+STATUS_STYLE = {"ok": "green", "marginal": "yellow", "under-rated": "bold red", "unknown": "dim"}
 
 
 class BenchView(Horizontal):

@@ -78,9 +78,9 @@ def test_free_air_tj_uses_rth_ja_from_the_rating() -> None:
 
 
 @pytest.mark.parametrize(("vce", "status"), [(30.0, "ok"), (32.0, "ok"), (36.0, "marginal"),
-                                             (40.0, "marginal"), (45.0, "over")])
+                                             (40.0, "marginal"), (45.0, "under-rated")])
 def test_voltage_grading_against_policy(vce: float, status: str) -> None:
-    # Workshop policy: 80 % of Vceo is ok, up to the rating marginal, beyond over.
+    # Workshop policy: 80 % of Vceo is ok, up to the rating marginal, beyond under-rated.
     r = check_operating_point(small_signal(), vce=vce, ic=1e-3)
     lim = r.limits[0]
     assert lim.parameter == "vce" and lim.status == status
@@ -101,7 +101,7 @@ def test_current_and_power_grading_mil_policy() -> None:
 def test_tj_grading_uses_policy_limit() -> None:
     assert grade_tj(100.0, 150.0, MIL) == "ok"          # cap 125 C
     assert grade_tj(130.0, 150.0, MIL) == "marginal"
-    assert grade_tj(151.0, 150.0, MIL) == "over"
+    assert grade_tj(151.0, 150.0, MIL) == "under-rated"
     assert grade_tj(135.0, 150.0, WORKSHOP) == "marginal"  # 150 - 20 = 130
 
 

@@ -1,8 +1,9 @@
-"""Properties of the ranking, proved over generated parts (hypothesis).
+"""Properties of the public ranking engine (rank, assess), proved over generated parts.
 
-The grading rule is MIL-STD-975M / policy style (ok <= factor x rating < marginal <= rating <
-under-rated), checked against partsdb.derating.grade itself; the others are the ranking's own
-promises: headroom never hurts, dominance, stock preference, zero weights.
+The ranking's own promises: headroom never hurts, dominance, stock preference, zero weights,
+rank() agreeing with assess() on every device; plus the one equality test between the
+reference path (partsdb.ranking.checks.evaluate) and the grouped fast path
+(partsdb.ranking.fastpath.group_scores). The grading rule itself is tested in test_derating.py.
 """
 
 from __future__ import annotations
@@ -16,20 +17,21 @@ import numpy as np
 from hypothesis import assume, example, given, settings
 from hypothesis import strategies as st
 
-import partsdb.ranking as ranking
-from partsdb.derating import BUILTIN_POLICIES, grade
+import partsdb.ranking.fastpath as fastpath
+from partsdb.derating import BUILTIN_POLICIES
 from partsdb.device import Device
 from partsdb.ranking import (
-    STATUS_NAMES,
+    PARAMETERS,
     VERDICTS,
     CatalogColumns,
     PastSwaps,
     Requirement,
     Stress,
     Weights,
-    grade_codes,
+    assess,
     rank,
 )
+from partsdb.ranking.checks import _piecewise, evaluate
 
 POLICIES = list(BUILTIN_POLICIES.values())
 RATINGS = ("vceo", "vcbo", "ic_max", "ptot", "ft")
@@ -73,24 +75,6 @@ def scores(devs: list[Device], req: Requirement, stress: Stress, policy: Any,
     result = rank(cat, req, stress, policy, weights, qty, limit=len(devs))
     return {c.designation: c for c in result.candidates}, [c.designation for c in
                                                          result.candidates]
-
-
-@given(st.lists(st.one_of(st.none(), positive), min_size=1, max_size=30),
-       st.lists(st.one_of(st.none(), positive), min_size=1, max_size=30),
-       st.floats(0.05, 1.0))
-def test_grade_codes_match_derating_grade(stress: list[float | None],
-                                          rating: list[float | None], factor: float) -> None:
-    # The vectorised grading must equal the shared rule in partsdb.derating.grade exactly.
-    n = min(len(stress), len(rating))
-    s = np.array([np.nan if v is None else v for v in stress[:n]])
-    r = np.array([np.nan if v is None else v for v in rating[:n]])
-    names = {"ok": "ok", "marginal": "marginal", "over": "under-rated", "unknown": "unknown"}
-    expected = [names[g] for g in grade(s, r, factor)]
-    assert [STATUS_NAMES[c] for c in grade_codes(s, r, factor)] == expected
-    # One stress for every rating (how a ranking calls it) takes a shorter path: same rule.
-    if stress[0] is not None:
-        one = [names[g] for g in grade(np.full(n, stress[0]), r, factor)]
-        assert [STATUS_NAMES[c] for c in grade_codes(float(stress[0]), r, factor)] == one
 
 
 @settings(max_examples=150, deadline=None)
@@ -172,12 +156,12 @@ def test_zero_weight_removes_a_criterion(original: Device, cand: Device, other: 
                                       criterion: found["QA1"].subscores[criterion]}
 
 
-# ------------------------------------------------------------ the fast path changes nothing
+# ------------------------------------------------------------ rank() against assess()
 #
-# rank() scores a large group from tables of its distinct values (partsdb.ranking
-# _group_scores) and orders it through a sampled cut; the checks below hold that path to the
-# straightforward one: ranking.assess on each device (one row at a time, sorted here in plain
-# Python) and ranking._evaluate over every row. The curve test uses numpy's np.interp as the
+# rank() scores a large group from tables of its distinct values (partsdb.ranking.fastpath)
+# and orders it through a sampled cut; it must give what assess() on each device (one row at
+# a time, sorted here in plain Python) gives. One test holds the fast path to the reference
+# path (checks.evaluate) over every row. The curve test uses numpy's np.interp as the
 # reference (a general-purpose library).
 
 FAST = 0  # every group takes the distinct-value path
@@ -187,12 +171,12 @@ DIRECT = 10**9  # every group is evaluated row by row
 @contextlib.contextmanager
 def path(threshold: int) -> Iterator[None]:
     """Force one scoring path (hypothesis cannot share pytest's monkeypatch across inputs)."""
-    saved = ranking.KERNEL_MIN_ROWS, ranking.KERNEL_AFTER_USES
-    ranking.KERNEL_MIN_ROWS, ranking.KERNEL_AFTER_USES = threshold, 0
+    saved = fastpath.KERNEL_MIN_ROWS, fastpath.KERNEL_AFTER_USES
+    fastpath.KERNEL_MIN_ROWS, fastpath.KERNEL_AFTER_USES = threshold, 0
     try:
         yield
     finally:
-        ranking.KERNEL_MIN_ROWS, ranking.KERNEL_AFTER_USES = saved
+        fastpath.KERNEL_MIN_ROWS, fastpath.KERNEL_AFTER_USES = saved
 
 
 def synthetic_devices(n: int, seed: int) -> list[Device]:
@@ -232,7 +216,7 @@ def straightforward(devs: list[Device], req: Requirement, stress: Stress, policy
     for d in devs:
         if d.polarity != req.polarity or d.kind != req.kind or d.key == req.key:
             continue
-        c = ranking.assess(d, req, stress, policy, weights)
+        c = assess(d, req, stress, policy, weights)
         rows.append((VERDICTS.index(c.verdict), -c.score, d.key, c))
     rows.sort(key=lambda r: r[:3])
     return [(r[3].designation, r[3].score, r[3].verdict) for r in rows[:limit]]
@@ -263,11 +247,10 @@ def requirements(draw: Any) -> Requirement:
 # were once merged by the selection's combined key and broken by designation.
 @example(Requirement(polarity="pnp", kind="darlington", vceo=150.0, package="TO-126"),
          Stress(ambient=25.0), BUILTIN_POLICIES["workshop"], 3)
-def test_fast_path_matches_assess_per_device(req: Requirement, stress: Stress, policy: Any,
-                                             limit: int) -> None:
+def test_rank_matches_assess_per_device(req: Requirement, stress: Stress, policy: Any,
+                                       limit: int) -> None:
     weights = Weights()
-    with path(FAST):
-        result = rank(SYNTHETIC_CAT, req, stress, policy, weights, limit=limit)
+    result = rank(SYNTHETIC_CAT, req, stress, policy, weights, limit=limit)
     got = [(c.designation, c.score, c.verdict) for c in result.candidates]
     assert got == straightforward(SYNTHETIC, req, stress, policy, weights, limit)
     assert len(got) == min(limit, result.compatible)
@@ -275,12 +258,16 @@ def test_fast_path_matches_assess_per_device(req: Requirement, stress: Stress, p
 
 @settings(max_examples=60, deadline=None)
 @given(requirements(), stresses(), st.sampled_from(POLICIES),
-       st.lists(st.floats(0.0, 30.0), min_size=12, max_size=12), st.booleans(), st.booleans())
-def test_fast_path_equals_the_direct_path(req: Requirement, stress: Stress, policy: Any,
-                                          w: list[float], in_stock: bool,
-                                          with_history: bool) -> None:
-    # Every returned field (checks, notes, flags, sub-scores), with stock, history and the
-    # in-stock filter, is the same whichever path scored the group.
+       st.lists(st.floats(0.0, 30.0), min_size=12, max_size=12), st.booleans(), st.booleans(),
+       st.integers(-2, 2))
+def test_fast_path_equals_the_reference_path(req: Requirement, stress: Stress, policy: Any,
+                                             w: list[float], in_stock: bool,
+                                             with_history: bool, offset: int) -> None:
+    # The one equality test of the two paths. Bit for bit on every row of the group (score,
+    # verdict, and every check of the rows detailed); then rank() whole, with stock, history,
+    # the in-stock filter and a limit at each verdict-class boundary (one less, equal, one
+    # more: the fast path leaves rows of worse classes unscored), gives the same JSON whichever
+    # path scored the group (common practice: test a pruned selection against the full sort).
     assume(sum(w) > 0)
     weights = Weights(*w)
     rng = np.random.default_rng(len(SYNTHETIC) + int(sum(w)))
@@ -291,68 +278,35 @@ def test_fast_path_equals_the_direct_path(req: Requirement, stress: Stress, poli
         keys = SYNTHETIC_CAT.key[rng.choice(SYNTHETIC_CAT.size, 30, replace=False)]
         history = {str(k): PastSwaps(int(rng.integers(0, 2)), int(rng.integers(0, 2)), ("J1",))
                    for k in keys}
-    results = []
-    for threshold in (FAST, DIRECT):
-        with path(threshold):
-            results.append(rank(SYNTHETIC_CAT, req, stress, policy, weights, qty,
-                                history=history, limit=25, in_stock_only=in_stock).to_json())
-    assert results[0] == results[1]
-    assert results[0]["candidates"] or results[0]["compatible"] == 0
-
-
-@settings(max_examples=40, deadline=None)
-@given(requirements(), stresses(), st.sampled_from(POLICIES))
-def test_group_scores_equal_evaluate_on_every_row(req: Requirement, stress: Stress,
-                                                  policy: Any) -> None:
-    # Bit for bit, on every row of the group, not only the rows returned.
     rows, view = SYNTHETIC_CAT.group(req.polarity, req.kind)
     assume(rows.shape[0] > 0)
     with path(FAST):
-        fast = ranking._group_scores(view, rows, req, stress, policy, Weights(), None, None)
-    ev = ranking._evaluate(view, rows, req, stress, policy, Weights(), None, None)
+        fast = fastpath.group_scores(view, rows, req, stress, policy, weights, qty, None)
+    ev = evaluate(view, rows, req, stress, policy, weights, qty, None)
     assert np.array_equal(fast.score, ev.score)
     assert np.array_equal(fast.verdict, ev.verdict)
     some = np.arange(0, rows.shape[0], 7)
-    detail, direct = fast.detail(some), ranking._evaluate(view.take(some), rows[some], req,
-                                                          stress, policy, Weights(), None, None)
-    for name in ranking.PARAMETERS:
+    detail = fast.detail(some)
+    direct = evaluate(view.take(some), rows[some], req, stress, policy, weights, qty, None)
+    for name in PARAMETERS:
         a, b = detail.columns[name], direct.columns[name]
         assert np.array_equal(a.status, b.status) and np.array_equal(a.sub, b.sub)
         assert np.array_equal(np.asarray(a.offered, float), np.asarray(b.offered, float),
                               equal_nan=True)
 
-
-@settings(max_examples=30, deadline=None)
-@given(st.sampled_from(SYNTHETIC), stresses(), st.sampled_from(POLICIES), st.integers(-2, 2),
-       st.booleans())
-def test_rows_left_unscored_cannot_be_returned(original: Device, stress: Stress, policy: Any,
-                                               offset: int, in_stock: bool) -> None:
-    # The fast path scores only the verdict classes that can fill the list; a limit at each
-    # class boundary (one less, equal, one more) must still give the plain sort of assess()
-    # on every device (the original excluded; common practice: test a pruned selection
-    # against the full sort).
-    req = Requirement.from_device(original)
-    rows, view = SYNTHETIC_CAT.group(req.polarity, req.kind)
-    ev = ranking._evaluate(view, rows, req, stress, policy, Weights(), None, None)
     returnable = SYNTHETIC_CAT.key[rows] != req.key
-    qty = np.where(np.arange(SYNTHETIC_CAT.size) % 3 == 0, 5, 0)
     if in_stock:
         returnable &= qty[rows] > 0
     for worst in (0, 1):
-        limit = int(np.count_nonzero(returnable & (ev.verdict <= worst))) + offset
-        assume(limit >= 1)
-        with path(FAST):
-            fast = rank(SYNTHETIC_CAT, req, stress, policy, limit=limit,
-                        stock_qty=qty if in_stock else None, in_stock_only=in_stock)
-        if in_stock:
-            with path(DIRECT):
-                direct = rank(SYNTHETIC_CAT, req, stress, policy, limit=limit, stock_qty=qty,
-                              in_stock_only=True)
-            assert fast.to_json() == direct.to_json()
-        else:
-            got = [(c.designation, c.score, c.verdict) for c in fast.candidates]
-            assert got == straightforward(SYNTHETIC, req, stress, policy, Weights(), limit)
-        assert len(fast.candidates) == min(limit, int(np.count_nonzero(returnable)))
+        limit = max(1, int(np.count_nonzero(returnable & (ev.verdict <= worst))) + offset)
+        results = []
+        for threshold in (FAST, DIRECT):
+            with path(threshold):
+                results.append(rank(SYNTHETIC_CAT, req, stress, policy, weights, qty,
+                                    history=history, limit=limit,
+                                    in_stock_only=in_stock).to_json())
+        assert results[0] == results[1]
+        assert len(results[0]["candidates"]) == min(limit, int(np.count_nonzero(returnable)))
 
 
 def test_selection_with_ties_and_large_groups() -> None:
@@ -372,6 +326,34 @@ def test_selection_with_ties_and_large_groups() -> None:
         assert got == best[:limit]
 
 
+def test_large_pool_of_ties_ranks_the_better_parts_first() -> None:
+    # A few thousand parts tie; four offer more Vceo headroom over the original's 45 V and
+    # must lead, best first, then the tied ones by designation. Headroom h = offered / need
+    # scores 0.7 + 0.3 min(1, h - 1) (the ranking's documented sub-score, checks module), so
+    # 80 V > 70 V > 60 V > 55 V > 50 V. The pool is large enough for the grouped fast path
+    # (more than fastpath.KERNEL_MIN_ROWS rows), which a second ranking of the same catalog
+    # takes; both must give this order (a sort by score the wrong way round puts the four
+    # last, or among the ties).
+    rng = np.random.default_rng(12)
+    tied = [f"QP{i:05d}" for i in range(6000)]
+    better = {"QZ1": 55.0, "QZ2": 80.0, "QZ3": 60.0, "QZ4": 70.0}
+    devs = [Device(designation=name, kind="bjt", polarity="npn", material="si", vceo=50.0,
+                   ic_max=0.5, ptot=0.5, hfe_min=100.0) for name in tied]
+    devs += [Device(designation=name, kind="bjt", polarity="npn", material="si", vceo=v,
+                    ic_max=0.5, ptot=0.5, hfe_min=100.0) for name, v in better.items()]
+    devs = [devs[i] for i in rng.permutation(len(devs))]
+    cat = CatalogColumns.from_devices(devs)
+    assert cat.size > fastpath.KERNEL_MIN_ROWS
+    req = Requirement(polarity="npn", vceo=45.0, ic_max=0.5, hfe_min=100.0)
+    expected = ["QZ2", "QZ4", "QZ3", "QZ1", *tied[:11]]
+    for _ in range(2):  # cold (direct), then warm (the grouped tables)
+        result = rank(cat, req, limit=15)
+        assert [c.designation for c in result.candidates] == expected
+        scores = [c.score for c in result.candidates]
+        assert scores[:5] == sorted(scores[:5], reverse=True) and len(set(scores[:5])) == 5
+    assert "blocks" in cat.group("npn", "bjt")[1]._memo  # the second ranking took the fast path
+
+
 @settings(max_examples=200)
 @given(st.lists(st.one_of(st.floats(-1.0, 10.0), st.just(float("nan"))), min_size=1,
                 max_size=50), st.floats(1.01, 20.0))
@@ -380,5 +362,5 @@ def test_piecewise_curve_equals_numpy_interp(h: list[float], inv: float) -> None
                   np.inf, -np.inf])
     for xs, ys in (((0.0, 1.0, inv, 2 * inv), (0.0, 0.3, 0.7, 1.0)),
                    ((0.0, 1.0, 2.0), (0.0, 0.3, 0.6))):
-        assert np.array_equal(ranking._piecewise(x, xs, ys), np.interp(x, xs, ys),
+        assert np.array_equal(_piecewise(x, xs, ys), np.interp(x, xs, ys),
                               equal_nan=True)

@@ -132,7 +132,7 @@ def test_service_ranking_with_stock_and_stress(shop: Any) -> None:
     # workshop: 0.80 x 30 V = 24 V < 24.5 V <= 30 V -> marginal (common practice factors).
     assert by["QW2"].check("vceo").status == "marginal"
     assert by["QW3"].check("vceo").status == "ok"
-    assert (by["QW3"].in_stock, by["QW3"].locations) == (5, ["C1/D1"])
+    assert (by["QW3"].in_stock, by["QW3"].locations) == (5, ("C1/D1",))
     assert result.candidates[0].designation == "QW3"
 
 

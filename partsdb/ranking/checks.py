@@ -1,0 +1,393 @@
+"""The checks and scores of a ranking, row by row in array form: the reference path.
+
+:func:`evaluate` computes every check of every row of a catalog; :mod:`partsdb.ranking.fastpath`
+computes the same per distinct value tuple and must agree with it bit for bit (tested).
+Statuses are :func:`partsdb.derating.grade` codes.
+
+Checks, one per parameter and candidate (status ``ok`` / ``marginal`` / ``under-rated`` /
+``unknown``):
+
+* **Ratings** (vceo, vcbo, ic_max, ptot). Without a circuit stress the need is the original's
+  rating and a lower rating is ``under-rated``. With a stress (``--vce-peak`` for vceo and vcbo,
+  ``--ic-peak`` for ic_max, ``--power`` for ptot) the stress is the need, graded by the rule of
+  :func:`partsdb.derating.grade`: at most factor x rating ``ok``, up to the rating
+  ``marginal``, above it ``under-rated``; being below the original's rating is then only a flag.
+  Ptot is compared as the power allowed at the ambient: linear derating to Tj max for a free-air
+  rating, the thermal chain with the heat sink for a case rating (:mod:`partsdb.thermal`).
+* **tj_max**. With a power stress the junction temperature is estimated, Tj = Ta + P x Rth, and
+  graded against the policy's Tj limit (ok), Tj max (marginal), above (under-rated). Without
+  one, a lower Tj max than the original's is under-rated.
+* **ft**. The need is the original's f_T or, with ``--freq f``, hFE min x f: above f_beta the
+  gain falls as f_T / f, so a stage needing gain G at f needs f_T >= G x f (gain-bandwidth,
+  textbook: |hfe| = hfe0 / (1 + j f / f_beta), f_T = hfe0 x f_beta).
+* **hfe**. Windows compared on a log scale: no overlap, or a minimum below half the needed
+  minimum, is ``marginal`` (common practice); a minimum above three times the needed maximum is
+  flagged as an instability risk (common practice).
+* **package**, **pinout**, **material**: same is ``ok``; a different outline, lead order or
+  material needs work at the bench and is ``marginal`` (with what to do in the note).
+* A value missing on either side is ``unknown`` and lowers the candidate's confidence figure;
+  an unknown Vceo, Ic max or Ptot against a known need makes the verdict at least marginal
+  (the part cannot be confirmed), so missing data is never silently ok.
+
+Sub-scores (0..1, monotone non-decreasing in the candidate's headroom on every rating):
+
+* rating with a stress, headroom h = rating / stress, policy factor f:
+  h < 1: 0.3 h; 1 <= h < 1/f: 0.3 + 0.4 (h - 1) / (1/f - 1); h >= 1/f: 0.7 + 0.3 min(1, h f - 1)
+  (full marks at twice the policy's limit);
+* rating without a stress, h = offered / original: h < 1: 0.3 h; else 0.7 + 0.3 min(1, h - 1);
+* tj_max: the same on the temperature rise above the ambient (no stress: above 25 °C);
+* hfe: 1 - (log gap between the windows + log shortfall of the minimum) / ln 10, clipped to 0..1;
+* package / pinout / material: 1 same, 0.3 other outline, 0.5 other lead order, 0.2 ge <-> si,
+  0.4 other material change;
+* unknown offered value: 0.25 (rating) or 0.4 (fit); no need at all: 0.5 for every candidate;
+* stock: 1 in the drawers, 0 not; history: 1 worked before, 0 failed before, 0.5 no record.
+
+Score = 100 x sum(w_i s_i) / sum(w_i). Default weights (override in the config file's
+``[weights]`` table, see :mod:`partsdb.services.config`):
+
+    vceo 20, vcbo 5, ic_max 15, ptot 15, tj_max 5, ft 10, hfe 10,
+    package 8, pinout 4, material 8, stock 10, history 10
+
+Score = 100 x sum(w_i s_i) / sum(w_i); verdict: the worst check.
+"""
+
+from __future__ import annotations
+
+import functools
+import math
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass
+from typing import Any
+
+import numpy as np
+
+from partsdb.derating import UNKNOWN, Policy, grade
+from partsdb.device import default_tj_max
+from partsdb.ranking.columns import CatalogColumns
+from partsdb.ranking.model import (
+    HFE_LOW_FACTOR,
+    MATERIALS,
+    PARAMETERS,
+    PRIMARY,
+    SUB_NO_NEED,
+    SUB_UNKNOWN_FIT,
+    SUB_UNKNOWN_RATING,
+    Requirement,
+    Stress,
+    Weights,
+    outline_key,
+)
+from partsdb.thermal import (
+    DEFAULT_CASE_TO_SINK,
+    allowed_power,
+    case_to_ambient,
+    chain_power,
+    derated_power,
+    free_air_case_to_ambient,
+    thermal_path,
+)
+
+
+@functools.lru_cache(maxsize=64)
+def _segments(xs: tuple[float, ...], ys: tuple[float, ...]
+              ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray]:
+    """Break points, and per segment index (as ``searchsorted(xs, h, "right")`` numbers them)
+    its slope, start and start value; the last index is the flat part from the last point."""
+    xs_a = np.array(xs, dtype=float)
+    slope = [0.0] + [(ys[j + 1] - ys[j]) / (xs[j + 1] - xs[j]) for j in range(len(xs) - 1)]
+    return xs_a, np.array([*slope, 0.0]), np.array([xs[0], *xs]), np.array([ys[0], *ys])
+
+
+def _piecewise(h: np.ndarray, xs: Sequence[float], ys: Sequence[float]) -> np.ndarray:
+    """The broken line through (xs, ys), flat outside, as closed-form array arithmetic.
+
+    Bit for bit what ``np.interp(h, xs, ys)`` returns (numpy's own formula per segment:
+    slope x (h - x_j) + y_j with slope = (y_j+1 - y_j) / (x_j+1 - x_j); y_j at a break point;
+    NaN stays NaN): h is clipped to the line's ends, each element's segment found by one
+    binary search over the break points, and the formula taken with that segment's values.
+    A test checks both agree.
+    """
+    xs_a, slope, x0, y0 = _segments(tuple(xs), tuple(ys))
+    h = np.clip(np.asarray(h, dtype=float), xs_a[0], xs_a[-1])  # NaN stays NaN
+    seg = np.searchsorted(xs_a, h, side="right")  # NaN sorts last: the flat end, then NaN
+    out = slope.take(seg)
+    out *= h - x0.take(seg)
+    out += y0.take(seg)
+    return out
+
+
+def headroom_score_stressed(h: np.ndarray, factor: Any) -> np.ndarray:
+    """Sub-score of headroom h = rating / stress under a policy factor (see module docstring).
+
+    Continuous and piecewise linear in h: 0 at 0, 0.3 at the rating, 0.7 at the policy's limit
+    (h = 1/f), 1.0 at twice the limit.
+    """
+    if np.ndim(factor) == 0:
+        inv = 1.0 / float(factor)
+        if inv > 1.0:
+            return _piecewise(h, (0.0, 1.0, inv, 2.0 * inv), (0.0, 0.3, 0.7, 1.0))
+        return headroom_score_plain(h)
+    inv = 1.0 / np.asarray(factor, dtype=float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        mid = 0.3 + 0.4 * np.where(inv > 1, (h - 1.0) / (inv - 1.0), 1.0)
+    # (clips as two ufuncs: the same values, NaN kept, cheaper per call than np.clip)
+    top = 0.7 + 0.3 * np.minimum(np.maximum(h / inv - 1.0, 0.0), 1.0)
+    return np.where(h < 1.0, 0.3 * np.minimum(np.maximum(h, 0.0), 1.0),
+                    np.where(h < inv, mid, top))
+
+
+def headroom_score_plain(h: np.ndarray) -> np.ndarray:
+    """Sub-score of headroom h = offered / original's rating (no stress).
+
+    0.3 h below the rating, then a step to 0.7 at the rating and 0.3 more up to twice it.
+    """
+    out = _piecewise(h, (0.0, 1.0, 2.0), (0.0, 0.3, 0.6))
+    out[h >= 1.0] += 0.4
+    return out
+
+
+@dataclass
+class Column:
+    """One check over the evaluated rows (arrays aligned with the row selection)."""
+
+    need: Any
+    """Scalar or array (NaN: no need)."""
+    offered: np.ndarray
+    status: np.ndarray
+    sub: np.ndarray
+    ratio: np.ndarray | None = None
+    basis: str = ""
+    """How the need was set (for notes): rating, stress, freq, ..."""
+
+
+def _rating_column(offered: np.ndarray, original: float | None, stress: float | None,
+                   factor: float) -> Column:
+    n = offered.shape[0]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        if stress is not None:
+            h = offered / stress
+            status = grade(stress, offered, factor)
+            sub = headroom_score_stressed(h, factor)
+            basis = "stress"
+            need: float = stress
+        elif original is not None:
+            h = offered / original
+            status = grade(original, offered)  # under-rated below the original, ok from it up
+            sub = headroom_score_plain(h)
+            basis = "original"
+            need = original
+        else:
+            return Column(np.nan, offered, np.full(n, UNKNOWN, np.int8), np.full(n, SUB_NO_NEED),
+                           None, "none")
+    unknown = np.isnan(offered)
+    status[unknown] = UNKNOWN
+    sub = np.where(unknown, SUB_UNKNOWN_RATING, sub)
+    return Column(need, offered, status, sub, h, basis)
+
+
+@dataclass
+class Evaluation:
+    rows: np.ndarray
+    columns: dict[str, Column]
+    stock: np.ndarray
+    history: np.ndarray
+    score: np.ndarray
+    verdict: np.ndarray
+    allowed_power: np.ndarray
+    tj_estimate: np.ndarray | None
+
+
+def _requirement_power(req: Requirement, stress: Stress) -> tuple[float | None, float | None]:
+    """The original's allowed power at the ambient in the same mounting, and its Tj max used."""
+    if req.ptot is None:
+        return None, None
+    tj = req.tj_max if req.tj_max is not None else default_tj_max(req.material)
+    ref = req.ptot_ref or "ambient"
+    free_air, _ = free_air_case_to_ambient(req.package)
+    rth = thermal_path(req.ptot, tj, ref, stress.heatsink, DEFAULT_CASE_TO_SINK, free_air)
+    return float(allowed_power(req.ptot, tj, ref, stress.ambient, rth)), tj
+
+
+_VERDICT_OF = np.array([0, 1, 2, 0], dtype=np.int8)
+"""Verdict contribution of a status code: ok 0, marginal 1, under-rated 2, unknown 0."""
+
+
+def check_columns(cat: CatalogColumns, req: Requirement, stress: Stress, policy: Policy,
+             names: Sequence[str] = PARAMETERS
+             ) -> tuple[dict[str, Column], np.ndarray | None, np.ndarray | None]:
+    """The checks ``names`` over every row of ``cat``: (columns, allowed power, Tj estimate).
+
+    Each check depends only on its own row, so the same function serves the rows returned
+    (details) and the distinct value tuples of a large group (:func:`group_scores`).
+    """
+    n = cat.size
+    cols: dict[str, Column] = {}
+    if "vceo" in names:
+        cols["vceo"] = _rating_column(cat.vceo, req.vceo, stress.vce_peak, policy.voltage)
+    if "vcbo" in names:
+        # Vcb is Vce minus Vbe: the Vce peak bounds it, so it is the stress on Vcbo too.
+        cols["vcbo"] = _rating_column(cat.vcbo, req.vcbo, stress.vce_peak, policy.voltage)
+    if "ic_max" in names:
+        cols["ic_max"] = _rating_column(cat.ic_max, req.ic_max, stress.ic_peak, policy.current)
+
+    allowed: np.ndarray | None = None
+    tj_est: np.ndarray | None = None
+    if "ptot" in names or "tj_max" in names:
+        # Power allowed at the ambient in this mounting: free-air ratings derate linearly, case
+        # ratings go through Rth j-c + c-s + s-a (thermal.py); the two groups are computed apart
+        # so the reference is a scalar, not a string array.
+        # (thermal_path and allowed_power, taken apart so the parts that read only the
+        # ratings are computed once per catalog: CatalogColumns.rating_thermal)
+        rth, case, ptot_c, tj_c, rth_c, free_air_c = cat.rating_thermal
+        allowed = np.asarray(derated_power(cat.ptot, cat.tj_effective, stress.ambient),
+                             dtype=float)
+        if case.shape[0]:
+            rc = rth_c + case_to_ambient(stress.heatsink, DEFAULT_CASE_TO_SINK, free_air_c)
+            rth = rth.copy()
+            rth[case] = rc
+            allowed[case] = chain_power(ptot_c, tj_c, stress.ambient, rc)
+        req_power, _ = _requirement_power(req, stress)
+        cols["ptot"] = _rating_column(allowed, req_power, stress.power, policy.power)
+
+        tj = cat.tj_max
+        if stress.power is not None:
+            ta = stress.ambient
+            tj_est = ta + stress.power * rth
+            limit = np.asarray(policy.tj_limit(tj), dtype=float)
+            status = grade(tj_est, tj, limit=limit)
+            with np.errstate(invalid="ignore", divide="ignore"):
+                h = (tj - ta) / (tj_est - ta)
+                factor = np.minimum(np.maximum((limit - ta) / (tj - ta), 1e-6), 1.0)
+                sub = headroom_score_stressed(h, factor)
+            unknown = status == UNKNOWN
+            cols["tj_max"] = Column(tj_est, tj, status,
+                                     np.where(unknown, SUB_UNKNOWN_RATING, sub), h, "stress")
+        elif req.tj_max is not None:
+            col = _rating_column(tj - 25.0, req.tj_max - 25.0, None, 1.0)
+            col.need, col.offered = req.tj_max, tj
+            cols["tj_max"] = col
+        else:
+            cols["tj_max"] = Column(np.nan, tj, np.full(n, UNKNOWN, np.int8),
+                                     np.full(n, SUB_NO_NEED), None, "none")
+
+    if "ft" in names:
+        ft_need: float | None
+        if stress.freq is not None and req.hfe_min is not None:
+            ft_need, basis = req.hfe_min * stress.freq, "gain-bandwidth"
+        else:
+            ft_need, basis = req.ft, "original"
+        col = _rating_column(cat.ft, ft_need, None, 1.0)
+        if col.basis != "none":
+            col.basis = basis
+        cols["ft"] = col
+
+    if "hfe" in names:
+        cols["hfe"] = _hfe_column(cat, req)
+    if "package" in names:
+        cols["package"] = _fit_column(cat.package, _package_code(cat, req.package), 0.3)
+    if "pinout" in names:
+        cols["pinout"] = _fit_column(cat.pinout, _pinout_code(cat, req.pinout), 0.5)
+    if "material" in names:
+        mat_need = MATERIALS.index(req.material) if req.material in MATERIALS else -1
+        mat = cat.material
+        mcol = _fit_column(mat, mat_need, 0.4)
+        if mat_need in (0, 1):
+            # Germanium <-> silicon changes Vbe by about 0.4 V: the stage's bias must be
+            # re-checked.
+            mcol.sub = np.where(mat == 1 - mat_need, 0.2, mcol.sub)
+        cols["material"] = mcol
+    return cols, allowed, tj_est
+
+
+def verdict_part(cols: Mapping[str, Column], n: int) -> np.ndarray:
+    """Worst status of the given checks as a verdict code; an unknown primary rating against a
+    known need counts as marginal (the part cannot be confirmed)."""
+    verdict = np.zeros(n, np.int8)
+    for name, col in cols.items():
+        np.maximum(verdict, _VERDICT_OF[col.status], out=verdict)
+        if name in PRIMARY and col.basis != "none":
+            np.maximum(verdict, (col.status == UNKNOWN).view(np.int8), out=verdict)
+    return verdict
+
+
+def extras(weights: Weights, stock: np.ndarray, hist: np.ndarray) -> np.ndarray:
+    """The stock and history part of the weighted sum (added after the checks, in this order)."""
+    w = weights.as_dict()
+    return w["stock"] * stock + w["history"] * hist
+
+
+def evaluate(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress: Stress,
+              policy: Policy, weights: Weights, stock_qty: np.ndarray | None,
+              history_score: np.ndarray | None) -> Evaluation:
+    """Every check and score over ``cat`` (whose rows are the global ``rows``).
+
+    The straightforward evaluation, row by row in array form; the rows returned are always
+    detailed from it, and :func:`group_scores` must agree with it exactly (tested).
+    """
+    n = rows.shape[0]
+    cols, allowed, tj_est = check_columns(cat, req, stress, policy)
+    stock = np.zeros(n) if stock_qty is None else (stock_qty[rows] > 0).astype(float)
+    hist = np.full(n, 0.5) if history_score is None else history_score[rows]
+
+    w = weights.as_dict()
+    total = np.zeros(n)
+    for name in PARAMETERS:
+        if w[name]:
+            total += w[name] * cols[name].sub
+    total += extras(weights, stock, hist)
+    score = 100.0 * total / weights.total()
+    verdict = verdict_part(cols, n)
+    assert allowed is not None
+    return Evaluation(rows, cols, stock_qty[rows] if stock_qty is not None else np.zeros(n, int),
+                       hist, score, verdict, allowed, tj_est)
+
+
+def _package_code(cat: CatalogColumns, package: str | None) -> int:
+    k = outline_key(package)
+    if k is None:
+        return -1
+    for i, p in enumerate(cat.packages):
+        if outline_key(p) == k:
+            return i
+    return -2  # known, but no row has it
+
+
+def _pinout_code(cat: CatalogColumns, pinout: str | None) -> int:
+    if not pinout:
+        return -1
+    return cat.pinouts.index(pinout) if pinout in cat.pinouts else -2
+
+
+def _fit_column(codes: np.ndarray, need: int, other: float) -> Column:
+    n = codes.shape[0]
+    if need == -1:
+        return Column(np.nan, codes, np.full(n, UNKNOWN, np.int8), np.full(n, SUB_NO_NEED),
+                       None, "none")
+    same = codes == need
+    unknown = codes < 0
+    status = (~same).view(np.int8).copy()  # OK 0 / MARGINAL 1
+    status[unknown] = UNKNOWN
+    sub = np.where(same, 1.0, other)
+    sub[unknown] = SUB_UNKNOWN_FIT
+    return Column(float(need), codes, status, sub, None, "original")
+
+
+def _hfe_column(cat: CatalogColumns, req: Requirement) -> Column:
+    n = cat.size
+    lo, hi = cat.log_hfe
+    if req.hfe_min is None:
+        return Column(np.nan, cat.hfe_min, np.full(n, UNKNOWN, np.int8),
+                       np.full(n, SUB_NO_NEED), None, "none")
+    need_lo = math.log(req.hfe_min)
+    need_hi = math.log(req.hfe_max if req.hfe_max is not None else req.hfe_min)
+    gap = np.maximum(0.0, np.maximum(need_lo - hi, lo - need_hi))
+    short = np.maximum(0.0, need_lo - lo)
+    status = ((gap > 0) | (short > math.log(HFE_LOW_FACTOR))).view(np.int8).copy()
+    sub = np.minimum(np.maximum(1.0 - (gap + short) / math.log(10.0), 0.0), 1.0)
+    unknown = np.isnan(lo)
+    status[unknown] = UNKNOWN
+    sub = np.where(unknown, SUB_UNKNOWN_RATING, sub)
+    with np.errstate(invalid="ignore"):
+        ratio = np.exp(lo - need_lo)
+    return Column(req.hfe_min, cat.hfe_min, status, sub, ratio, "original")
+

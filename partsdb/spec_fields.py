@@ -1,0 +1,109 @@
+"""The requirement and circuit-stress field tables: one row per field, beside ``device.FIELDS``.
+
+A substitution is asked with two sets of values: the *requirement* (what the original offered,
+or a spec given directly) and the *stress* (what the circuit does to the part). Each field is one
+row here: its name (the :class:`partsdb.ranking.Requirement` / :class:`partsdb.ranking.Stress`
+attribute, the JSON key and the spec-line name), label, unit, CLI option and help. The
+``substitute`` and ``swaplog add`` options, the TUI Substitute view's inputs, the job-sheet rows
+and the swap log's stress text are all built from these tables, so adding a stress is one row
+here plus its check in :mod:`partsdb.ranking.checks`.
+
+Light on purpose (no numpy): the CLI builds its options from these tables at start-up.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Literal
+
+from partsdb.device import FIELD_BY_NAME
+
+SpecKind = Literal["quantity", "choice", "text", "window"]
+
+
+@dataclass(frozen=True)
+class SpecField:
+    """One requirement or stress field and how every face shows and reads it."""
+
+    name: str
+    """Attribute of Requirement / Stress, JSON key, spec-line name (``vceo=60V``)."""
+    label: str
+    """Row label in reports and the TUI."""
+    unit: str
+    """Unit symbol of a quantity ("" for none)."""
+    option: str
+    """CLI option (``--vce-peak``)."""
+    help: str
+    """CLI help and TUI hint."""
+    kind: SpecKind = "quantity"
+    choices: tuple[str, ...] = ()
+    short: str = ""
+    """Short label for narrow places (a table cell, a TUI input); the label when empty."""
+    positive: bool = True
+    """A quantity that must be above 0 (ambient and heat sink may be 0 or below)."""
+    default: float | None = None
+    """Value when not given (None: not given)."""
+
+    @property
+    def brief(self) -> str:
+        return self.short or self.label
+
+
+def _device(name: str, option: str, help: str, label: str = "") -> SpecField:
+    """A requirement row for a device field: label, unit and choices from ``device.FIELDS``."""
+    spec = FIELD_BY_NAME[name]
+    kind: SpecKind = "quantity" if spec.kind == "quantity" else \
+        "choice" if spec.kind == "choice" else "text"
+    return SpecField(name, label or spec.label, spec.unit, option, help, kind, spec.choices)
+
+
+REQUIREMENT_FIELDS: tuple[SpecField, ...] = (
+    _device("polarity", "--polarity", "Polarity of the part needed (overrides the stored record)."),
+    _device("kind", "--kind", "bjt or darlington (default for a given spec: bjt)."),
+    _device("material", "--material", "Material of the original (si, ge, other)."),
+    _device("vceo", "--vceo", "Vceo needed, e.g. 30V."),
+    _device("vcbo", "--vcbo", "Vcbo needed."),
+    _device("ic_max", "--ic", "Ic max needed, e.g. 0.5A."),
+    _device("ptot", "--ptot", "Ptot needed, e.g. 1W."),
+    _device("ptot_ref", "--ptot-ref", "Whether the given Ptot is a free-air (ambient) or case "
+                                      "rating.", label="Ptot rated at"),
+    _device("tj_max", "--tj-max", "Tj max of the original in °C."),
+    SpecField("hfe", "hFE", "", "--hfe", "hFE window needed, e.g. 60..180 (low end first).",
+              "window"),
+    _device("ft", "--ft", "fT needed, e.g. 2MHz."),
+    _device("package", "--package", "Outline of the original, e.g. TO-5."),
+    _device("pinout", "--pinout", "Lead order of the original, e.g. EBC."),
+)
+"""What a substitute must offer. ``hfe`` is a window: it sets ``hfe_min`` and ``hfe_max``."""
+
+REQUIREMENT_BY_NAME: dict[str, SpecField] = {f.name: f for f in REQUIREMENT_FIELDS}
+
+WINDOW_ENDS: dict[str, tuple[str, str]] = {"hfe": ("hfe_min", "hfe_max")}
+"""The Requirement attributes a window field sets (low end, high end)."""
+
+SPEC_NAMES: tuple[str, ...] = tuple(
+    name for f in REQUIREMENT_FIELDS for name in WINDOW_ENDS.get(f.name, (f.name,)))
+"""Requirement attributes a spec may give (the window ends in place of the window)."""
+
+DEFAULT_AMBIENT = 25.0
+
+STRESS_FIELDS: tuple[SpecField, ...] = (
+    SpecField("vce_peak", "Vce peak", "V", "--vce-peak",
+              "Highest collector-emitter voltage in the circuit (DC + peak), e.g. 18V.",
+              short="Vce"),
+    SpecField("ic_peak", "Ic peak", "A", "--ic-peak",
+              "Highest collector current in the circuit, e.g. 150mA.", short="Ic"),
+    SpecField("power", "Dissipation", "W", "--power", "Dissipation in the part, e.g. 300mW.",
+              short="P"),
+    SpecField("ambient", "Ambient", "°C", "--ambient",
+              "Air temperature around the part in °C (default 25).", short="Ta",
+              positive=False, default=DEFAULT_AMBIENT),
+    SpecField("freq", "Highest signal frequency", "Hz", "--freq",
+              "Highest signal frequency the stage must amplify, e.g. 20kHz.", short="f"),
+    SpecField("heatsink", "Heat sink (sink to ambient)", "K/W", "--heatsink",
+              "Heat sink, sink-to-ambient K/W (for case-rated parts; default none).",
+              short="sink", positive=False),
+)
+"""What the circuit does to the part; each row is a field of :class:`partsdb.ranking.Stress`."""
+
+STRESS_BY_NAME: dict[str, SpecField] = {f.name: f for f in STRESS_FIELDS}
