@@ -13,22 +13,12 @@ import html
 from typing import TYPE_CHECKING, Any
 
 from partsdb.cautions import SAFETY_CAUTIONS
+from partsdb.spec_fields import REQUIREMENT_FIELDS, STRESS_FIELDS, WINDOW_ENDS
 from partsdb.units import format_quantity
 
 if TYPE_CHECKING:
-    from partsdb.ranking import Candidate, RankResult
+    from partsdb.ranking import Candidate, Problem, RankResult
 
-_REQ_ROWS: tuple[tuple[str, str, str], ...] = (
-    ("polarity", "Polarity", ""), ("kind", "Kind", ""), ("material", "Material", ""),
-    ("vceo", "Vceo", "V"), ("vcbo", "Vcbo", "V"), ("ic_max", "Ic max", "A"),
-    ("ptot", "Ptot", "W"), ("ptot_ref", "Ptot rated at", ""), ("tj_max", "Tj max", "°C"),
-    ("ft", "fT", "Hz"), ("package", "Package", ""), ("pinout", "Pinout", ""),
-)
-_STRESS_ROWS: tuple[tuple[str, str, str], ...] = (
-    ("vce_peak", "Vce peak", "V"), ("ic_peak", "Ic peak", "A"), ("power", "Dissipation", "W"),
-    ("ambient", "Ambient", "°C"), ("freq", "Highest signal frequency", "Hz"),
-    ("heatsink", "Heat sink (sink to ambient)", "K/W"),
-)
 BLANK = "______________________"
 
 
@@ -40,20 +30,42 @@ def _value(value: Any, unit: str) -> str:
     return str(value)
 
 
+def _window(low: float | None, high: float | None) -> str:
+    if low is None:
+        return "—"
+    return f"{low:g}..{high:g}" if high is not None else f"{low:g}"
+
+
 def requirement_rows(result: RankResult) -> list[tuple[str, str]]:
+    """(label, value) of each requirement field given, in table order."""
     req = result.requirement
-    rows = [(label, _value(getattr(req, name), unit)) for name, label, unit in _REQ_ROWS]
-    if req.hfe_min is not None:
-        window = (f"{req.hfe_min:g}..{req.hfe_max:g}" if req.hfe_max is not None
-                  else f"{req.hfe_min:g}")
-        rows.insert(8, ("hFE", window))
+    rows = []
+    for f in REQUIREMENT_FIELDS:
+        if f.name in WINDOW_ENDS:
+            low, high = WINDOW_ENDS[f.name]
+            rows.append((f.label, _window(getattr(req, low), getattr(req, high))))
+        else:
+            rows.append((f.label, _value(getattr(req, f.name), f.unit)))
     return [(k, v) for k, v in rows if v != "—"]
 
 
 def stress_rows(result: RankResult) -> list[tuple[str, str]]:
+    """(label, value) of each stress given (the ambient always), in table order."""
     s = result.stress
-    return [(label, _value(getattr(s, name), unit)) for name, label, unit in _STRESS_ROWS
-            if getattr(s, name) is not None]
+    return [(f.label, _value(getattr(s, f.name), f.unit)) for f in STRESS_FIELDS
+            if getattr(s, f.name) is not None]
+
+
+def problem_line(problem: Problem) -> str:
+    """One problem as a line: ``vceo marginal: <note>`` for a check, ``<code>: <message>`` for
+    a flag."""
+    if problem.is_flag:
+        return f"{problem.parameter}: {problem.note}"
+    return f"{problem.parameter} {problem.status}: {problem.note}"
+
+
+def problem_lines(problems: tuple[Problem, ...] | list[Problem]) -> list[str]:
+    return [problem_line(p) for p in problems]
 
 
 def policy_line(result: RankResult) -> str:
@@ -72,14 +84,14 @@ def source_text(result: RankResult) -> str:
 
 
 def key_flags(candidate: Candidate) -> str:
-    """The checks that are not ok and the flag codes, short (for table cells)."""
-    under = [c.parameter for c in candidate.checks if c.status == "under-rated"]
-    # Fit checks (package, pinout, material) are named by their flags below.
-    marginal = [c.parameter for c in candidate.checks if c.status == "marginal"
-                and c.parameter not in ("package", "pinout", "material")]
-    unknown = [c.parameter for c in candidate.checks if c.status == "unknown"
-               and any(f.code == "unknown-data" and c.parameter in f.message
-                       for f in candidate.flags)]
+    """The problems, short (for table cells): under-rated and marginal checks, checks without
+    data, the fits that need work by their codes, then the flag codes."""
+    problems = candidate.problems()
+    checks = [p for p in problems if not p.is_flag]
+    under = [p.parameter for p in checks if p.status == "under-rated"]
+    marginal = [p.parameter for p in checks if p.status == "marginal" and not p.code]
+    unknown = [p.parameter for p in checks if p.status == "unknown"]
+    codes = [p.code for p in checks if p.code] + [p.code for p in problems if p.is_flag]
     parts = []
     if under:
         parts.append("UNDER " + ",".join(under))
@@ -87,7 +99,7 @@ def key_flags(candidate: Candidate) -> str:
         parts.append("tight " + ",".join(marginal))
     if unknown:
         parts.append("no data " + ",".join(unknown))
-    parts += [f.code for f in candidate.flags if f.code != "unknown-data"]
+    parts += codes
     return "; ".join(parts) or "—"
 
 
@@ -121,16 +133,14 @@ def render_markdown(result: RankResult, job: str | None = None, date: str | None
     if not result.candidates:
         out.append("| — | no candidate | | | | | | |")
     out.append("")
-    details = [c for c in result.candidates if c.flags or any(
-        k.status != "ok" for k in c.checks)]
+    details = [(c, c.problems()) for c in result.candidates]
+    details = [(c, problems) for c, problems in details if problems]
     if details:
         out += ["## Flags and checks", ""]
-        for c in details:
+        for c, problems in details:
             out.append(f"**{_md(c.designation)}** ({c.verdict}, score {c.score:.0f})")
             out.append("")
-            out += [f"- {_md(k.parameter)} {k.status}: {_md(k.note)}" for k in c.checks
-                    if k.status != "ok"]
-            out += [f"- {_md(f.code)}: {_md(f.message)}" for f in c.flags]
+            out += [f"- {_md(line)}" for line in problem_lines(problems)]
             out.append("")
     out += ["## Safety", ""]
     out += [f"- {_md(text)}" for text in result.cautions or SAFETY_CAUTIONS]
@@ -191,15 +201,13 @@ def render_html(result: RankResult, job: str | None = None, date: str | None = N
     if not result.candidates:
         parts.append('<tr><td colspan="8">no candidate</td></tr>')
     parts.append("</table>")
-    details = [c for c in result.candidates if c.flags or any(
-        k.status != "ok" for k in c.checks)]
+    details = [(c, c.problems()) for c in result.candidates]
+    details = [(c, problems) for c, problems in details if problems]
     if details:
         parts.append("<h2>Flags and checks</h2>")
-        for c in details:
+        for c, problems in details:
             parts.append(f"<h3>{e(c.designation)} ({e(c.verdict)}, score {c.score:.0f})</h3><ul>")
-            parts += [f"<li>{e(k.parameter)} {e(k.status)}: {e(k.note)}</li>" for k in c.checks
-                      if k.status != "ok"]
-            parts += [f"<li>{e(f.code)}: {e(f.message)}</li>" for f in c.flags]
+            parts += [f"<li>{e(line)}</li>" for line in problem_lines(problems)]
             parts.append("</ul>")
     parts.append("<h2>Safety</h2><ul>")
     parts += [f"<li>{e(text)}</li>" for text in result.cautions or SAFETY_CAUTIONS]

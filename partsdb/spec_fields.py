@@ -67,9 +67,9 @@ REQUIREMENT_FIELDS: tuple[SpecField, ...] = (
     _device("ptot", "--ptot", "Ptot needed, e.g. 1W."),
     _device("ptot_ref", "--ptot-ref", "Whether the given Ptot is a free-air (ambient) or case "
                                       "rating.", label="Ptot rated at"),
-    _device("tj_max", "--tj-max", "Tj max of the original in °C."),
     SpecField("hfe", "hFE", "", "--hfe", "hFE window needed, e.g. 60..180 (low end first).",
               "window"),
+    _device("tj_max", "--tj-max", "Tj max of the original in °C."),
     _device("ft", "--ft", "fT needed, e.g. 2MHz."),
     _device("package", "--package", "Outline of the original, e.g. TO-5."),
     _device("pinout", "--pinout", "Lead order of the original, e.g. EBC."),

@@ -121,9 +121,8 @@ class BenchView(Horizontal):
             return None
         device = catalog.get_device(session, text)
         if device is None:
-            hints = catalog.suggest(session, text)
-            hint = f" (did you mean {', '.join(hints)}?)" if hints else ""
-            raise LookupError(f"{field}: {text!r} is not in the catalog{hint}")
+            raise LookupError(f"{field}: {text!r} is not in the catalog"
+                              f"{catalog.did_you_mean(session, text)}")
         return device
 
     def _solve(self) -> tuple[BiasReport, list[Device], float]:

@@ -45,7 +45,7 @@ def help_renderable() -> Group:
     for caution in SAFETY_CAUTIONS:
         parts.append(Text("CAUTION ", style="bold red") + Text(caution))
     parts.append(Text(""))
-    parts.append(Text("Colours repeat what the words say: ok, marginal, OVER, unknown, LOW, "
+    parts.append(Text("Colours repeat what the words say: ok, marginal, UNDER-RATED, unknown, LOW, "
                       "suspect, obsolete.", style="dim"))
     return Group(*parts)
 

@@ -10,7 +10,6 @@ open the stage on the Bench.
 
 from __future__ import annotations
 
-import importlib
 from typing import TYPE_CHECKING, Any, ClassVar
 
 from rich.console import Group
@@ -23,6 +22,9 @@ from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Button, DataTable, Label, Select, Static
 
+from partsdb.errors import PartsdbError
+from partsdb.services import substitution
+from partsdb.spec_fields import STRESS_FIELDS
 from tui.inputs import TextField
 from tui.stock_forms import StockForm, StockRequest
 
@@ -30,25 +32,8 @@ if TYPE_CHECKING:
     from partsdb.storage.database import Database
 
 STATUS_STYLE = {"ok": "green", "suitable": "green", "marginal": "yellow",
-                "under-rated": "bold red", "over": "bold red", "incompatible": "red",
-                "unknown": "dim"}
-STRESS_FIELDS: tuple[tuple[str, str, str], ...] = (
-    ("vce_peak", "Vce peak", "V"), ("ic_peak", "Ic peak", "A"), ("power", "power", "W"),
-    ("ambient", "ambient °C", "°C"),
-)
+                "under-rated": "bold red", "incompatible": "red", "unknown": "dim", "flag": "yellow"}
 RANK_LIMIT = 30
-PARAMETER_UNITS = {"vceo": "V", "vcbo": "V", "ic_max": "A", "ptot": "W", "tj_max": "°C",
-                   "ft": "Hz", "hfe": ""}
-
-
-def substitution_service() -> Any | None:
-    """The substitution service module, or None while it is not installed."""
-    try:
-        return importlib.import_module("partsdb.services.substitution")
-    except ModuleNotFoundError as err:
-        if err.name != "partsdb.services.substitution":
-            raise
-        return None
 
 
 def ratio_bar(ratio: float | None, width: int = 10) -> Text:
@@ -117,7 +102,7 @@ class PromptForm(ModalScreen[dict[str, str] | None]):
         if self.check is not None:
             try:
                 message = self.check(values)
-            except (ValueError, LookupError, OSError) as err:
+            except (PartsdbError, ValueError, LookupError, OSError) as err:
                 message = f"REFUSED: {err}"
             if message:
                 self.query_one("#form-message", Static).update(message)
@@ -163,8 +148,11 @@ class SubstituteView(Vertical):
             yield TextField(placeholder="optional spec, e.g. vceo=60V ic_max=1A", id="sub-spec",
                             compact=True)
         with Horizontal(id="sub-stress"):
-            for ident, label, _unit in STRESS_FIELDS:
-                yield TextField(placeholder=label, id=f"ss-{ident}", compact=True)
+            for row in STRESS_FIELDS:  # every stress the CLI offers, from the one table
+                field = TextField(placeholder=f"{row.brief} {row.unit}", id=f"ss-{row.name}",
+                                  compact=True)
+                field.tooltip = f"{row.label}: {row.help}"
+                yield field
             yield Select([(name, name) for name in policies], prompt="policy",
                          id="sub-policy", compact=True)
         yield Static("", id="sub-status")
@@ -179,9 +167,6 @@ class SubstituteView(Vertical):
         table = self.query_one("#sub-table", DataTable)
         for label in ("Substitute", "Score", "Verdict", "Stock"):
             table.add_column(label)
-        if substitution_service() is None:
-            self._status(Text("Substitute ranking is not available yet in this build "
-                              "(partsdb.services.substitution is missing).", style="bold yellow"))
 
     def load(self) -> None:
         """Nothing to read until an original is given."""
@@ -208,13 +193,8 @@ class SubstituteView(Vertical):
             self.run_search()
 
     def run_search(self) -> None:
-        service = substitution_service()
-        if service is None:
-            self._status(Text("Substitute ranking is not available yet in this build.",
-                              style="bold yellow"))
-            return
         try:
-            self.result, self.original, note = self._rank(service)
+            self.result, self.original, note = self._rank()
         except (ValueError, LookupError) as err:
             message = str(err.args[0]) if isinstance(err, KeyError) and err.args else str(err)
             self._status(Text("NOT RANKED: " + message, style="bold yellow"))
@@ -222,55 +202,14 @@ class SubstituteView(Vertical):
         self._show_result(note)
 
     def _stress(self) -> Any:
-        """The circuit stress typed in the stress row (ambient 25 °C when blank)."""
-        from partsdb.ranking import Stress
-        from partsdb.units import parse_quantity
-
-        values: dict[str, Any] = {}
-        for ident, label, unit in STRESS_FIELDS:
-            text = self.query_one(f"#ss-{ident}", TextField).value.strip()
-            if text:
-                values[ident] = parse_quantity(text, unit, label)
-        return Stress(**values)
+        """The circuit stress typed in the stress row (each blank: not given)."""
+        return substitution.parse_stress(
+            {row.name: self.query_one(f"#ss-{row.name}", TextField).value
+             for row in STRESS_FIELDS})
 
     def _policy(self) -> str | None:
         policy = self.query_one("#sub-policy", Select).value
         return None if policy is Select.NULL else str(policy)
-
-    def _spec_values(self) -> dict[str, Any]:
-        """``name=value`` pairs of the spec line, each read like the device field it names."""
-        from partsdb.device import parse_field
-        from partsdb.services.substitution import SPEC_FIELDS
-
-        text = self.query_one("#sub-spec", TextField).value.strip()
-        spec: dict[str, Any] = {}
-        for item in text.replace(",", " ").split():
-            name, sep, value = item.partition("=")
-            name = name.strip().lower()
-            if not sep or not value:
-                raise ValueError(f"spec: {item!r} is not valid; expected name=value such as "
-                                 "vceo=60V")
-            if name not in SPEC_FIELDS:
-                raise ValueError(f"spec: {name!r} is not a spec field; expected one of "
-                                 + ", ".join(SPEC_FIELDS))
-            spec[name] = parse_field(name, value.strip())
-        return spec
-
-    def _resolve_original(self) -> tuple[str | None, str]:
-        """The stored designation meant by the query (exact, else the best fuzzy hit)."""
-        from partsdb.services import catalog
-
-        query = self.query_one("#sub-query", TextField).value.strip()
-        if not query:
-            return None, ""
-        with self.db.session() as session:
-            device = catalog.get_device(session, query)
-            if device is not None:
-                return device.designation, ""
-        hits = self._index().find(query, limit=1)
-        if not hits:
-            raise LookupError(f"original: {query!r} is not in the catalog and nothing is close")
-        return hits[0].designation, f"{query!r} read as {hits[0].designation} ({hits[0].reason})"
 
     def _index(self) -> Any:
         """The app's shared search index; built here (blocking) if it is not ready yet."""
@@ -282,16 +221,18 @@ class SubstituteView(Vertical):
             return SearchIndex(*read_search_corpus(self.db))
         return shared.index or shared.build()
 
-    def _rank(self, service: Any) -> tuple[Any, str | None, str]:
-        original, note = self._resolve_original()
-        spec = self._spec_values()
+    def _rank(self) -> tuple[Any, str | None, str]:
+        query = self.query_one("#sub-query", TextField).value.strip()
+        spec = substitution.parse_spec(self.query_one("#sub-spec", TextField).value)
         stress = self._stress()
-        if original is None and not spec:
+        if not query and not spec:
             raise ValueError("original: empty; type a designation, or a spec such as "
                              "polarity=npn vceo=60V ic_max=1A")
         with self.db.session() as session:
-            result = service.rank_substitutes(session, original, spec or None, stress,
-                                              self._policy(), limit=RANK_LIMIT)
+            original, note = (substitution.resolve_original(session, query, self._index)
+                              if query else (None, ""))
+            result = substitution.rank_substitutes(session, original, spec or None, stress,
+                                                   self._policy(), limit=RANK_LIMIT)
         return result, original, note
 
     def _show_result(self, note: str) -> None:
@@ -326,15 +267,10 @@ class SubstituteView(Vertical):
         return self.result.candidates[row] if 0 <= row < len(self.result.candidates) else None
 
     def _show_candidate(self, row: int) -> None:
-        from partsdb.units import format_quantity
-
         if self.result is None or not 0 <= row < len(self.result.candidates):
             return
         c = self.result.candidates[row]
         req = self.result.requirement
-
-        def fmt(value: float | None, unit: str) -> str:
-            return "—" if value is None else format_quantity(value, unit)
 
         grid = Table(box=None, padding=(0, 1), header_style="bold", expand=False)
         grid.add_column("Parameter")
@@ -343,12 +279,7 @@ class SubstituteView(Vertical):
         grid.add_column("Ratio")
         grid.add_column("Status")
         for check in c.checks:
-            unit = PARAMETER_UNITS.get(check.parameter)
-            if unit is None:  # package, pinout, material: compared as words
-                need = str(getattr(req, check.parameter, None) or "—")
-                offered = str((c.device or {}).get(check.parameter) or "—")
-            else:
-                need, offered = fmt(check.need, unit), fmt(check.offered, unit)
+            need, offered = c.shown.get(check.parameter, ("—", "—"))
             grid.add_row(check.parameter, need, offered, ratio_bar(check.ratio),
                          Text(check.status, style=STATUS_STYLE.get(check.status, "")))
         head = Text(f"{c.designation}: ", style="bold")
@@ -357,10 +288,7 @@ class SubstituteView(Vertical):
         head.append(f"stock {c.in_stock}" + (f" in {', '.join(c.locations[:3])}"
                                              if c.locations else ""))
         parts: list[Any] = [head, grid]
-        for flag in c.flags:
-            parts.append(Text("FLAG ", style="bold yellow") + Text(flag.message))
-        for note in check_notes(c):
-            parts.append(Text("· " + note, style="dim"))
+        parts += [problem_text(p) for p in c.problems()]
         sub_pin = (c.device or {}).get("pinout")
         if req.pinout and sub_pin and sub_pin != req.pinout:
             parts.append(lead_drawing(req.pinout, sub_pin, (req.designation or "original",
@@ -396,8 +324,7 @@ class SubstituteView(Vertical):
 
     def action_record_swap(self) -> None:
         c = self.selected()
-        service = substitution_service()
-        if c is None or service is None or self.original is None:
+        if c is None or self.original is None:
             self.notify("Rank substitutes for a stored original first.", severity="warning")
             return
 
@@ -406,12 +333,10 @@ class SubstituteView(Vertical):
                 return "job: empty; expected the repair's job reference"
             from partsdb.services import swaplog
 
-            stress = self.result.stress
             with self.db.session() as session:
                 swaplog.add(session, self.original, c.designation, values["job"],
-                            vce_peak=stress.vce_peak, ic_peak=stress.ic_peak, power=stress.power,
-                            ambient=stress.ambient, freq=stress.freq, heatsink=stress.heatsink,
-                            policy=self.result.policy.name, note=values["note"] or None)
+                            self.result.stress, policy=self.result.policy.name,
+                            note=values["note"] or None)
             return ""
 
         self.app.push_screen(PromptForm(f"Record the swap {self.original} -> {c.designation}",
@@ -419,24 +344,13 @@ class SubstituteView(Vertical):
                              lambda v: v and self.notify("Swap recorded in the swap log."))
 
     def action_save_report(self) -> None:
-        service = substitution_service()
-        if self.result is None or service is None:
+        if self.result is None:
             self.notify("Rank substitutes first.", severity="warning")
             return
         default = f"substitutes-{(self.original or 'spec').lower()}.md"
 
         def check(values: dict[str, str]) -> str:
-            from datetime import date
-            from pathlib import Path
-
-            from partsdb.reports import render_html, render_markdown
-
-            path = Path(values["path"]).expanduser()
-            if path.suffix.lower() not in (".md", ".html", ".htm"):
-                return f"file: {values['path']!r} is not valid; expected a name ending in .md or .html"
-            render = render_markdown if path.suffix.lower() == ".md" else render_html
-            path.write_text(render(self.result, job=values["job"] or None,
-                                   date=date.today().isoformat()), encoding="utf-8")
+            substitution.write_report(self.result, values["path"], job=values["job"] or None)
             return ""
 
         self.app.push_screen(PromptForm("Save the report (Markdown .md or HTML .html)",
@@ -454,19 +368,13 @@ class SubstituteView(Vertical):
         app.view("bench").fill(self.original, c.designation)
 
 
-def check_notes(candidate: Any) -> list[str]:
-    """``parameter: note`` for each check that is not ok, leaving out notes that only repeat a
-    flag shown above them (the ranking often gives the same words as flag and as note)."""
-    flags = [flag.message.strip().lower() for flag in candidate.flags]
-    notes = []
-    for check in candidate.checks:
-        note = (check.note or "").strip()
-        if not note or check.status == "ok":
-            continue
-        if any(note.lower() in flag for flag in flags):
-            continue
-        notes.append(f"{check.parameter}: {note}")
-    return notes
+def problem_text(problem: Any) -> Text:
+    """One problem of a candidate: ``FLAG <message>`` for a flag, else the check's status word,
+    parameter and note (each problem once: a flag never repeats a check's note)."""
+    if problem.is_flag:
+        return Text("FLAG ", style="bold yellow") + Text(problem.note)
+    head = Text(problem.status.upper() + " ", style=STATUS_STYLE.get(problem.status, ""))
+    return head + Text(f"{problem.parameter}: {problem.note}")
 
 
 def _short_caution() -> str:

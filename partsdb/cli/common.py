@@ -166,10 +166,8 @@ def load_device(state: CliState, designation: str) -> Device:
 
     with state.database().session() as session:
         device = catalog.get_device(session, designation)
-        if device is None:
-            hints = catalog.suggest(session, designation, limit=3)
+        hint = catalog.did_you_mean(session, designation) if device is None else ""
     if device is None:
-        hint = f" (did you mean: {', '.join(hints)}?)" if hints else ""
         fail(f"device {designation!r} not found{hint}", EXIT_NOT_FOUND)
     return device
 

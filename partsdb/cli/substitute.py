@@ -20,63 +20,65 @@ from partsdb.cli.common import (
     pass_state,
     print_table,
 )
+from partsdb.spec_fields import REQUIREMENT_FIELDS, STRESS_FIELDS, WINDOW_ENDS, SpecField
 
 
-def _stress_options(func: Any) -> Any:
-    """Circuit-stress options shared by ``substitute`` and ``swaplog add``."""
-    options = [
-        click.option("--vce-peak", type=QuantityParam("V", "vce_peak"), default=None,
-                     help="Highest collector-emitter voltage in the circuit (DC + peak), e.g. 18V."),
-        click.option("--ic-peak", type=QuantityParam("A", "ic_peak"), default=None,
-                     help="Highest collector current in the circuit, e.g. 150mA."),
-        click.option("--power", type=QuantityParam("W", "power"), default=None,
-                     help="Dissipation in the part, e.g. 300mW."),
-        click.option("--ambient", type=QuantityParam("°C", "ambient", positive=False),
-                     default=None, help="Air temperature around the part in °C (default 25)."),
-        click.option("--freq", type=QuantityParam("Hz", "freq"), default=None,
-                     help="Highest signal frequency the stage must amplify, e.g. 20kHz."),
-        click.option("--heatsink", type=QuantityParam("K/W", "heatsink", positive=False),
-                     default=None,
-                     help="Heat sink, sink-to-ambient K/W (for case-rated parts; default none)."),
-    ]
-    for option in reversed(options):
-        func = option(func)
-    return func
+def _option(row: SpecField) -> Any:
+    """The click option of one requirement or stress row (its name is the row's name)."""
+    if row.kind == "choice":
+        kind: Any = click.Choice(list(row.choices))
+    elif row.kind == "window":
+        kind = RangeParam(row.unit, row.name)
+    elif row.kind == "quantity":
+        kind = QuantityParam(row.unit, row.name, positive=row.positive)
+    else:
+        kind = str
+    return click.option(row.option, row.name, type=kind, default=None, help=row.help)
 
 
-def _stress(vce_peak: float | None, ic_peak: float | None, power: float | None,
-            ambient: float | None, freq: float | None, heatsink: float | None) -> Any:
+def _options(rows: tuple[SpecField, ...]) -> Any:
+    def decorate(func: Any) -> Any:
+        for row in reversed(rows):
+            func = _option(row)(func)
+        return func
+
+    return decorate
+
+
+_stress_options = _options(STRESS_FIELDS)
+"""Circuit-stress options shared by ``substitute`` and ``swaplog add``."""
+
+
+def _stress(values: dict[str, Any]) -> Any:
+    """The Stress of the stress options in ``values`` (removed from it)."""
     from partsdb.ranking import SpecError, Stress
 
+    given = {row.name: values.pop(row.name) for row in STRESS_FIELDS}
     try:
-        return Stress(vce_peak=vce_peak, ic_peak=ic_peak, power=power,
-                      ambient=25.0 if ambient is None else ambient, freq=freq, heatsink=heatsink)
+        return Stress.from_values(given)
     except SpecError as err:
         fail(str(err))
 
 
+def _spec(values: dict[str, Any]) -> dict[str, Any]:
+    """The requirement options in ``values`` (removed from it) as spec fields (windows split)."""
+    spec: dict[str, Any] = {}
+    for row in REQUIREMENT_FIELDS:
+        value = values.pop(row.name)
+        if row.name in WINDOW_ENDS:
+            low, high = WINDOW_ENDS[row.name]
+            spec[low], spec[high] = value if value else (None, None)
+        else:
+            spec[row.name] = value
+    return spec
+
+
+_STRESS_NAMES = ", ".join(row.option for row in STRESS_FIELDS)
+
+
 @click.command()
 @click.argument("designation", required=False)
-@click.option("--polarity", type=click.Choice(["npn", "pnp"]), default=None,
-              help="Polarity of the part needed (overrides the stored record).")
-@click.option("--kind", type=click.Choice(["bjt", "darlington"]), default=None,
-              help="bjt or darlington (default for a given spec: bjt).")
-@click.option("--material", type=click.Choice(["si", "ge", "other"]), default=None,
-              help="Material of the original (si, ge, other).")
-@click.option("--vceo", type=QuantityParam("V", "vceo"), default=None, help="Vceo needed, e.g. 30V.")
-@click.option("--vcbo", type=QuantityParam("V", "vcbo"), default=None, help="Vcbo needed.")
-@click.option("--ic", "ic_max", type=QuantityParam("A", "ic_max"), default=None,
-              help="Ic max needed, e.g. 0.5A.")
-@click.option("--ptot", type=QuantityParam("W", "ptot"), default=None, help="Ptot needed, e.g. 1W.")
-@click.option("--ptot-ref", type=click.Choice(["ambient", "case"]), default=None,
-              help="Whether the given Ptot is a free-air (ambient) or case rating.")
-@click.option("--tj-max", type=QuantityParam("°C", "tj_max"), default=None,
-              help="Tj max of the original in °C.")
-@click.option("--hfe", type=RangeParam("", "hfe"), default=None,
-              help="hFE window needed, e.g. 60..180 (low end first).")
-@click.option("--ft", type=QuantityParam("Hz", "ft"), default=None, help="fT needed, e.g. 2MHz.")
-@click.option("--package", default=None, help="Outline of the original, e.g. TO-5.")
-@click.option("--pinout", default=None, help="Lead order of the original, e.g. EBC.")
+@_options(REQUIREMENT_FIELDS)
 @_stress_options
 @click.option("--policy", "policy_name", default=None, metavar="NAME",
               help="Derating policy (see 'partsdb policies'; default workshop).")
@@ -90,18 +92,12 @@ def _stress(vce_peak: float | None, ic_peak: float | None, power: float | None,
               help="Write the md/html job sheet to this file instead of the screen.")
 @click.option("--job", default=None, help="Job reference to print on the md/html job sheet.")
 @pass_state
-def substitute(state: CliState, designation: str | None, polarity: str | None,
-               kind: str | None, material: str | None, vceo: float | None, vcbo: float | None,
-               ic_max: float | None, ptot: float | None, ptot_ref: str | None,
-               tj_max: float | None, hfe: tuple[float, float] | None, ft: float | None,
-               package: str | None, pinout: str | None, vce_peak: float | None,
-               ic_peak: float | None, power: float | None, ambient: float | None,
-               freq: float | None, heatsink: float | None, policy_name: str | None,
+def substitute(state: CliState, designation: str | None, policy_name: str | None,
                show_rejected: bool, in_stock: bool, limit: int, fmt: str, output: Path | None,
-               job: str | None) -> None:
+               job: str | None, **values: Any) -> None:
     """Rank substitutes for DESIGNATION (its stored record is the requirement) or for a spec.
 
-    Give circuit stress (--vce-peak, --ic-peak, --power, --ambient, --freq, --heatsink) to judge
+    Give circuit stress ({stress}) to judge
     candidates against what the circuit does rather than the original's ratings; the derating
     policy sets the margin. Parts in the drawers, and parts that worked before for the same
     original (swaplog), rank higher.
@@ -112,13 +108,8 @@ def substitute(state: CliState, designation: str | None, polarity: str | None,
     if output is not None and fmt not in ("md", "html"):
         fail(f"--output: writes md or html job sheets; use --format md or --format html "
              f"(got {fmt})")
-    spec: dict[str, Any] = {
-        "polarity": polarity, "kind": kind, "material": material, "vceo": vceo, "vcbo": vcbo,
-        "ic_max": ic_max, "ptot": ptot, "ptot_ref": ptot_ref, "tj_max": tj_max, "ft": ft,
-        "package": package, "pinout": pinout,
-        "hfe_min": hfe[0] if hfe else None, "hfe_max": hfe[1] if hfe else None,
-    }
-    stress = _stress(vce_peak, ic_peak, power, ambient, freq, heatsink)
+    spec = _spec(values)
+    stress = _stress(values)
     try:
         result = rank_substitutes(state.database(), designation, spec, stress, policy_name,
                                   limit=limit, in_stock_only=in_stock,
@@ -129,23 +120,34 @@ def substitute(state: CliState, designation: str | None, polarity: str | None,
         emit_json(result.to_json())
         return
     if fmt in ("md", "html"):
-        from datetime import date
-
-        from partsdb.reports import render_html, render_markdown
-
-        render = render_markdown if fmt == "md" else render_html
-        text = render(result, job=job, date=date.today().isoformat())
         if output is None:
-            click.echo(text)
+            from datetime import date
+
+            from partsdb.reports import render_html, render_markdown
+
+            render = render_markdown if fmt == "md" else render_html
+            click.echo(render(result, job=job, date=date.today().isoformat()))
         else:
-            output.write_text(text, encoding="utf-8")
+            from partsdb.services.substitution import write_report
+
+            write_report(result, output, job=job, fmt=fmt)
             click.echo(f"job sheet written to {output}", err=True)
         return
     _print_result(result)
 
 
+substitute.help = (substitute.help or "").replace("{stress}", _STRESS_NAMES)
+
+
 def _print_result(result: Any) -> None:
-    from partsdb.reports import key_flags, policy_line, requirement_rows, source_text, stress_rows
+    from partsdb.reports import (
+        key_flags,
+        policy_line,
+        problem_lines,
+        requirement_rows,
+        source_text,
+        stress_rows,
+    )
 
     req = result.requirement
     title = f"Substitutes for {req.designation}" if req.designation else "Substitutes"
@@ -165,13 +167,10 @@ def _print_result(result: Any) -> None:
         click.echo("No candidate: nothing of this polarity and kind"
                    + (" in the drawers" if result.compatible == 0 else "") + ".")
     for c in result.candidates[:3]:
-        lines = [f"{k.parameter}: {k.note}" for k in c.checks
-                 if k.status in ("under-rated", "marginal")]
-        lines += [f.message for f in c.flags if f.code not in ("material-change", "re-form-leads",
-                                                                "other-outline")]
-        if lines:
+        problems = c.problems()
+        if problems:
             click.echo(f"{c.designation}:")
-            for line in lines:
+            for line in problem_lines(problems):
                 click.echo(f"  - {line}")
     for note in result.notes:
         click.echo(f"note: {note}")
@@ -200,17 +199,14 @@ def swaplog() -> None:
 @format_option("table", "json")
 @pass_state
 def swaplog_add(state: CliState, original: str, substitute_part: str, job: str,
-                vce_peak: float | None, ic_peak: float | None, power: float | None,
-                ambient: float | None, freq: float | None, heatsink: float | None,
                 policy_name: str | None, outcome: str | None, note: str | None,
-                fmt: str) -> None:
+                fmt: str, **values: Any) -> None:
     """Record that SUBSTITUTE replaced ORIGINAL in a job, with the circuit stress."""
     from partsdb.services import swaplog as service
 
     with state.database().session() as session:
-        view = service.add(session, original, substitute_part, job, vce_peak=vce_peak,
-                           ic_peak=ic_peak, power=power, ambient=ambient, freq=freq,
-                           heatsink=heatsink, policy=policy_name, outcome=outcome, note=note)
+        view = service.add(session, original, substitute_part, job, _stress(values),
+                           policy=policy_name, outcome=outcome, note=note)
     if fmt == "json":
         emit_json(view.to_json())
         return
@@ -240,15 +236,12 @@ def swaplog_list(state: CliState, original: str | None, fmt: str) -> None:
 def _stress_text(stress: Any) -> str:
     from partsdb.units import format_quantity
 
-    parts = []
-    for name, label, unit in (("vce_peak", "Vce", "V"), ("ic_peak", "Ic", "A"),
-                              ("power", "P", "W"), ("freq", "f", "Hz"),
-                              ("heatsink", "sink", "K/W")):
-        value = getattr(stress, name)
-        if value is not None:
-            parts.append(f"{label} {format_quantity(value, unit)}")
-    if parts and stress.ambient != 25.0:
-        parts.append(f"Ta {stress.ambient:g} °C")
+    parts = [f"{row.brief} {format_quantity(getattr(stress, row.name), row.unit)}"
+             for row in STRESS_FIELDS
+             if getattr(stress, row.name) is not None and row.default is None]
+    # A default (the 25 °C ambient) is named only beside a stress that was given.
+    parts += [f"{row.brief} {getattr(stress, row.name):g} {row.unit}" for row in STRESS_FIELDS
+              if parts and row.default is not None and getattr(stress, row.name) != row.default]
     return ", ".join(parts) or "—"
 
 

@@ -248,7 +248,6 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
     checks: list[list[Check]] = [[] for _ in range(k)]
     shown: list[dict[str, tuple[str, str]]] = [{} for _ in range(k)]
     applicable, known = [0] * k, [0] * k
-    unknown: list[list[str]] = [[] for _ in range(k)]
     needs: dict[str, list[float | None]] = {}
     for name in PARAMETERS:
         col = ev.columns[name]
@@ -263,8 +262,6 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
                 if need_text is not None:
                     applicable[j] += 1
                     known[j] += off_text is not None
-                    if status[j] == "unknown":
-                        unknown[j].append(name)
             continue
         if isinstance(col.need, np.ndarray):
             need_at = _floats_or_none(pick(col.need))
@@ -280,8 +277,6 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
             if need is not None:
                 applicable[j] += 1
                 known[j] += off is not None
-                if status[j] == "unknown":
-                    unknown[j].append(name)
             checks[j].append(Check(name, need, off, ratios[j], status[j],
                                    rating_note(name, basis, need, off, req, stress, policy,
                                                devs[j])))
@@ -316,9 +311,6 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
                 flags.append(Flag("failed-before",
                                   f"used for {req.designation} before and failed {past.failed} "
                                   f"time(s){jobs}: score penalty; read the swap log notes"))
-        if unknown[j]:
-            flags.append(Flag("unknown-data", "no value to compare for " + ", ".join(unknown[j])
-                              + ": check the datasheet"))
         row_subs = {name: subs[name][j] for name in PARAMETERS}
         row_subs["stock"] = float(stock[j] > 0)
         row_subs["history"] = hist[j]

@@ -146,3 +146,7 @@ def much_faster(ft: float) -> str:
     return (f"fT {fmt(ft, 'Hz')} is over {FT_FAST_FACTOR:g}x the need: it may oscillate; keep "
             "leads short, add a base stopper if needed (common practice)")
 
+
+
+def unknown_data_message(parameters: list[str]) -> str:
+    return "no value to compare for " + ", ".join(parameters) + ": check the datasheet"

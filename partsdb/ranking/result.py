@@ -15,6 +15,7 @@ from typing import Any
 from partsdb.cautions import SAFETY_CAUTIONS
 from partsdb.derating import Policy
 from partsdb.ranking.model import FIT_CODES, Requirement, Stress, Weights
+from partsdb.ranking.notes import unknown_data_message
 
 
 @dataclass(frozen=True, slots=True)
@@ -61,6 +62,9 @@ class Problem:
     """The candidate's value as shown (with unit; "" for a flag)."""
     note: str
     """The check's note or the flag's message."""
+    code: str = ""
+    """A short code for tables: the flag's code, or a fit's that needs work (``re-form-leads``);
+    "" for the other checks."""
 
     @property
     def is_flag(self) -> bool:
@@ -68,7 +72,7 @@ class Problem:
 
     def to_json(self) -> dict[str, str]:
         return {"parameter": self.parameter, "status": self.status, "need": self.need,
-                "offered": self.offered, "note": self.note}
+                "offered": self.offered, "note": self.note, "code": self.code}
 
 
 @dataclass(frozen=True, slots=True)
@@ -97,13 +101,18 @@ class Candidate:
     def problems(self) -> tuple[Problem, ...]:
         """The checks that are not ok (an unknown one only where there was a need), in check
         order, then the flags."""
+        unknown = self.unknown()
         items = [Problem(c.parameter, c.status, *self.shown.get(c.parameter, ("—", "—")),
-                         c.note)
+                         c.note, FIT_CODES.get(c.parameter, "") if c.status == "marginal" else "")
                  for c in self.checks
-                 if c.status in ("under-rated", "marginal")
-                 or (c.status == "unknown" and self.shown.get(c.parameter, ("—",))[0] != "—")]
-        items += [Problem(f.code, "flag", "", "", f.message) for f in self.flags]
+                 if c.status in ("under-rated", "marginal") or c.parameter in unknown]
+        items += [Problem(f.code, "flag", "", "", f.message, f.code) for f in self.flags]
         return tuple(items)
+
+    def unknown(self) -> list[str]:
+        """The parameters with a need but no value on the candidate's side to compare."""
+        return [c.parameter for c in self.checks if c.status == "unknown"
+                and self.shown.get(c.parameter, ("—",))[0] != "—"]
 
     def flag_codes(self) -> list[str]:
         """The flag codes, and the code of each fit check that needs work at the bench
@@ -111,12 +120,15 @@ class Candidate:
         return [f["code"] for f in self._flags_json()]
 
     def _flags_json(self) -> list[dict[str, str]]:
-        # A fit that needs work is a marginal check, not a flag; the JSON lists it among the
-        # flags too, under its long-standing code, as it always has.
+        # A fit that needs work is a marginal check, and missing data an unknown check, not
+        # flags; the JSON lists them among the flags too, under their long-standing codes.
         fits = [{"code": FIT_CODES[c.parameter], "message": c.note} for c in self.checks
                 if c.parameter in FIT_CODES and c.status == "marginal"]
+        unknown = self.unknown()
         return [f.to_json() for f in self.flags[:1] if f.code == "incompatible"] + fits + [
-            f.to_json() for f in self.flags if f.code != "incompatible"]
+            f.to_json() for f in self.flags if f.code != "incompatible"] + (
+            [{"code": "unknown-data", "message": unknown_data_message(unknown)}]
+            if unknown else [])
 
     def to_json(self) -> dict[str, Any]:
         return {"designation": self.designation, "score": round(self.score, 1),

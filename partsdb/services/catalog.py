@@ -65,9 +65,7 @@ def get_device(session: Session, designation: str) -> Device | None:
 def require_row(session: Session, designation: str) -> DeviceRow:
     row = _row(session, designation)
     if row is None:
-        hints = suggest(session, designation)
-        hint = f" (did you mean: {', '.join(hints)}?)" if hints else ""
-        raise NotFound(f"device {designation!r} not found{hint}")
+        raise NotFound(f"device {designation!r} not found{did_you_mean(session, designation)}")
     return row
 
 
@@ -80,6 +78,13 @@ def suggest(session: Session, text: str, limit: int = 3) -> list[str]:
         return []
     hits = SearchIndex(designations).find(text, limit=limit)
     return [h.designation for h in hits if h.score >= 60]
+
+
+def did_you_mean(session: Session, text: str, limit: int = 3) -> str:
+    """`` (did you mean: A, B?)`` naming close stored spellings of ``text``, or "" (the one
+    place that writes this hint for a name not found)."""
+    hints = suggest(session, text, limit)
+    return f" (did you mean: {', '.join(hints)}?)" if hints else ""
 
 
 def add_device(session: Session, raw: Mapping[str, Any] | Device) -> Device:

@@ -8,14 +8,21 @@ A ranking needs only the rows of the requirement's polarity and kind (the hard c
 :func:`rank_substitutes` reads and caches that group alone (:func:`load_group`: one query
 filtered in SQL, about half the rows); the whole catalog (:func:`load_catalog`) is read only
 for ``show_rejected``, which lists the other groups too.
+
+The workflow around a ranking lives here too, for every face: resolving the original a
+technician typed (:func:`resolve_original`), reading a spec line (:func:`parse_spec`) and the
+stress inputs (:func:`parse_stress`), and writing the job sheet to a file (:func:`write_report`).
 """
 
 from __future__ import annotations
 
+import os
+import tempfile
 import threading
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from itertools import chain
-from typing import Any
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
 
 import numpy as np
 from sqlalchemy import select
@@ -23,6 +30,7 @@ from sqlalchemy.orm import Session
 
 from partsdb.derating import Policy
 from partsdb.designations import normalize
+from partsdb.errors import EnvironmentProblem
 from partsdb.ranking import (
     KINDS,
     MATERIALS,
@@ -38,17 +46,20 @@ from partsdb.ranking import (
     rank,
 )
 from partsdb.services import catalog as catalog_service
+from partsdb.spec_fields import SPEC_NAMES, STRESS_FIELDS
 from partsdb.storage.database import Database
 from partsdb.storage.models import SwapRow
+
+if TYPE_CHECKING:
+    from partsdb.search import SearchIndex
 
 _NUMBER_COLUMNS = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max", "ft")
 _CACHE: dict[str, tuple[tuple[Any, ...], dict[str, CatalogColumns]]] = {}
 """Per database: (catalog version, columns by part: "all" or "npn/bjt" and so on)."""
 _LOCK = threading.Lock()
 
-# Requirement fields a spec may give (the CLI options map onto these).
-SPEC_FIELDS = ("polarity", "kind", "material", "vceo", "vcbo", "ic_max", "ptot", "ptot_ref",
-               "tj_max", "hfe_min", "hfe_max", "ft", "package", "pinout")
+SPEC_FIELDS = SPEC_NAMES
+"""Requirement fields a spec may give (from :data:`partsdb.spec_fields.REQUIREMENT_FIELDS`)."""
 
 
 _MISSING = -1e300
@@ -289,8 +300,7 @@ def build_requirement(session: Session, designation: str | None,
         return Requirement.from_device(device).overridden(**given)
     if "polarity" not in given:
         if designation:
-            hints = catalog_service.suggest(session, designation)
-            hint = f" (stored names close to it: {', '.join(hints)})" if hints else ""
+            hint = catalog_service.did_you_mean(session, designation)
             raise SpecError(f"no stored device {designation!r} and no --polarity/--kind spec "
                             f"given{hint}; give the spec, such as --polarity pnp --vceo 30V "
                             "--ic 0.5A")
@@ -299,6 +309,103 @@ def build_requirement(session: Session, designation: str | None,
     if "ptot" in given and "ptot_ref" not in given:
         given["ptot_ref"] = "ambient"  # a datasheet Ptot without a note is a free-air rating
     return Requirement(**given, designation=designation, source="given")
+
+
+def resolve_original(session: Session, query: str,
+                     index: Callable[[], SearchIndex] | None = None) -> tuple[str, str]:
+    """(stored designation meant by ``query``, how it was read): the exact name first, else the
+    best fuzzy hit of the search index (``index()`` gives one kept by the caller, read only when
+    the name is not exact; default: built from the catalog); the note is "" for an exact name.
+    Raises :class:`partsdb.services.catalog.NotFound` when nothing is close."""
+    query = query.strip()
+    device = catalog_service.get_device(session, query)
+    if device is not None:
+        return device.designation, ""
+    if index is None:
+        from partsdb.search import SearchIndex
+
+        found = SearchIndex(catalog_service.designations_and_notes(session)[0])
+    else:
+        found = index()
+    hits = found.find(query, limit=1)
+    if not hits:
+        raise catalog_service.NotFound(f"original: {query!r} is not in the catalog and nothing "
+                                       "is close")
+    return hits[0].designation, f"{query!r} read as {hits[0].designation} ({hits[0].reason})"
+
+
+def parse_spec(text: str) -> dict[str, Any]:
+    """A spec line, ``name=value`` pairs (spaces or commas between), each value read like the
+    device field it names: ``vceo=60V ic_max=1A package=TO-126``."""
+    from partsdb.device import parse_field
+
+    spec: dict[str, Any] = {}
+    for item in text.replace(",", " ").split():
+        name, sep, value = item.partition("=")
+        name = name.strip().lower()
+        if not sep or not value:
+            raise SpecError(f"spec: {item!r} is not valid; expected name=value such as vceo=60V")
+        if name not in SPEC_FIELDS:
+            raise SpecError(f"spec: {name!r} is not a spec field; expected one of "
+                            + ", ".join(SPEC_FIELDS))
+        spec[name] = parse_field(name, value.strip())
+    return spec
+
+
+def parse_stress(texts: Mapping[str, str]) -> Stress:
+    """The circuit stress from text per stress field (``{"vce_peak": "18V"}``; blank: not given),
+    each read in its row's unit (:data:`partsdb.spec_fields.STRESS_FIELDS`)."""
+    from partsdb.units import UnitError, parse_quantity
+
+    values: dict[str, float] = {}
+    for row in STRESS_FIELDS:
+        text = (texts.get(row.name) or "").strip()
+        if text:
+            try:
+                values[row.name] = parse_quantity(text, row.unit, row.name)
+            except UnitError as err:
+                raise SpecError(str(err)) from err
+    return Stress.from_values(values)
+
+
+class ReportWriteError(EnvironmentProblem):
+    """A job sheet that could not be written (the path and the system's reason)."""
+
+
+REPORT_FORMATS: dict[str, str] = {".md": "md", ".html": "html", ".htm": "html"}
+
+
+def write_report(result: RankResult, path: str | Path, job: str | None = None,
+                 fmt: str | None = None, date: str | None = None) -> Path:
+    """Write the job sheet of ``result`` to ``path`` (Markdown or HTML, by ``fmt`` or by the
+    file's suffix). Written to a temporary name beside it and renamed, so a failure leaves any
+    existing file as it was. Returns the path written."""
+    from datetime import date as _date
+
+    from partsdb.reports import render_html, render_markdown
+
+    target = Path(path).expanduser()
+    kind = fmt or REPORT_FORMATS.get(target.suffix.lower())
+    if kind not in ("md", "html"):
+        raise SpecError(f"file: {str(path)!r} is not valid; expected a name ending in .md or "
+                        ".html")
+    render = render_markdown if kind == "md" else render_html
+    text = render(result, job=job, date=date or _date.today().isoformat())
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp",
+                                   dir=target.parent if str(target.parent) else ".")
+    except OSError as err:
+        raise ReportWriteError(f"file: {str(path)!r} cannot be written ({err.strerror})") \
+            from err
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8") as out:
+            out.write(text)
+        os.replace(tmp, target)
+    except OSError as err:
+        Path(tmp).unlink(missing_ok=True)
+        raise ReportWriteError(f"file: {str(path)!r} cannot be written ({err.strerror})") \
+            from err
+    return target
 
 
 def _session_of(target: Session | Database) -> Any:

@@ -20,6 +20,7 @@ from partsdb.designations import normalize
 from partsdb.errors import InvalidInput
 from partsdb.ranking import Candidate, Requirement, SpecError, Stress, assess
 from partsdb.services import catalog
+from partsdb.spec_fields import STRESS_FIELDS
 from partsdb.storage.models import SwapRow
 
 OUTCOMES = ("worked", "failed")
@@ -49,20 +50,20 @@ class SwapView:
 
 
 def _view(row: SwapRow) -> SwapView:
-    stress = Stress(vce_peak=row.vce_peak, ic_peak=row.ic_peak, power=row.power,
-                    ambient=25.0 if row.ambient is None else row.ambient, freq=row.freq,
-                    heatsink=row.heatsink)
+    stress = Stress.from_values({f.name: getattr(row, f.name) for f in STRESS_FIELDS})
     return SwapView(row.id, row.at, row.original, row.substitute, row.job, row.outcome, stress,
                     row.policy, row.note)
 
 
-def add(session: Session, original: str, substitute: str, job: str, *,
-        vce_peak: float | None = None, ic_peak: float | None = None, power: float | None = None,
-        ambient: float | None = None, freq: float | None = None, heatsink: float | None = None,
-        policy: str | None = None, outcome: str | None = None,
-        note: str | None = None) -> SwapView:
+def add(session: Session, original: str, substitute: str, job: str,
+        stress: Stress | None = None, *, policy: str | None = None, outcome: str | None = None,
+        note: str | None = None, **stress_values: float | None) -> SwapView:
     """Record a substitution. The substitute must be a stored device (the audit re-checks it);
-    the original may be a part that was never stored."""
+    the original may be a part that was never stored.
+
+    The circuit stress is given as a :class:`Stress`, or as its values by name
+    (``vce_peak=20.0``, the rows of :data:`partsdb.spec_fields.STRESS_FIELDS`).
+    """
     if not original or not normalize(original):
         raise SwapError("original: empty; expected the designation of the part replaced")
     if not job or not job.strip():
@@ -73,13 +74,14 @@ def add(session: Session, original: str, substitute: str, job: str, *,
         raise SwapError(f"substitute: {substitute!r} is the original itself")
     device = catalog.get_device(session, substitute)
     if device is None:
-        hints = catalog.suggest(session, substitute)
-        hint = f" (did you mean: {', '.join(hints)}?)" if hints else ""
+        hint = catalog.did_you_mean(session, substitute)
         raise catalog.NotFound(f"substitute {substitute!r} is not a stored device{hint}; add it "
                                "first so the swap can be re-checked later")
+    if stress is not None and stress_values:
+        raise SwapError("stress: given twice; give a Stress or its values, not both")
     try:
-        Stress(vce_peak=vce_peak, ic_peak=ic_peak, power=power,
-               ambient=25.0 if ambient is None else ambient, freq=freq, heatsink=heatsink)
+        if stress is None:
+            stress = Stress.from_values(stress_values)
     except SpecError as err:
         raise SwapError(str(err)) from err
     if policy is not None:
@@ -90,8 +92,8 @@ def add(session: Session, original: str, substitute: str, job: str, *,
     row = SwapRow(original=stored.designation if stored else original.strip(),
                   original_key=normalize(original), substitute=device.designation,
                   substitute_key=device.key, job=job.strip(), outcome=outcome,
-                  vce_peak=vce_peak, ic_peak=ic_peak, power=power, ambient=ambient, freq=freq,
-                  heatsink=heatsink, policy=policy, note=note)
+                  **{f.name: getattr(stress, f.name) for f in STRESS_FIELDS},
+                  policy=policy, note=note)
     session.add(row)
     session.flush()
     return _view(row)

@@ -257,7 +257,9 @@ async def test_substitute_search_then_take_one(shop_db: Any) -> None:
         view.query_one("#sub-table").move_cursor(row=row)
         await pilot.pause()
         detail = static_text(view.query_one("#sub-detail", Static))
-        assert "vceo" in detail and "FLAG" in detail and "lead" in detail  # EBC vs CBE
+        # EBC vs CBE: the pinout check is marginal and says which lead goes where.
+        assert "vceo" in detail and "MARGINAL pinout: re-form leads" in detail
+        assert "lead" in detail
         await pilot.press("t")
         await pilot.pause()
         assert isinstance(app.screen, StockForm)
@@ -452,10 +454,8 @@ async def test_paging_keeps_cursor_and_detail_in_step(shop_db: Any) -> None:
         assert view.table.cursor == 0
 
 
-async def test_substitute_detail_does_not_repeat_flags_in_notes(shop_db: Any) -> None:
-    """A check note that only repeats a flag shown above it is left out of the detail."""
-    from tui.substitute import check_notes
-
+async def test_substitute_detail_shows_each_problem_once(shop_db: Any) -> None:
+    """Every problem of the selected candidate is in the detail once; no flag copies a note."""
     app = build_app(shop_db, cursor_blink=False)
     async with app.run_test(size=SIZE) as pilot:
         await pilot.press("f4")
@@ -464,17 +464,16 @@ async def test_substitute_detail_does_not_repeat_flags_in_notes(shop_db: Any) ->
         await pilot.pause()
         view = app.view("substitute")
         for c in view.result.candidates:
-            flags = [f.message for f in c.flags]
-            for note in check_notes(c):
-                text = note.split(": ", 1)[1]
-                assert not any(text in flag for flag in flags)
+            notes = {k.note for k in c.checks}
+            assert not any(f.message in notes for f in c.flags)
         row = [c.designation for c in view.result.candidates].index("QX3302")
         view.query_one("#sub-table").move_cursor(row=row)
         await pilot.pause()
-        detail = static_text(view.query_one("#sub-detail", Static))
-        for flag in view.result.candidates[row].flags:
-            # each flag's words appear once (as the FLAG line), not again as a check note
-            assert detail.replace("\n", " ").count(flag.message[:40]) <= 1
+        detail = static_text(view.query_one("#sub-detail", Static)).replace("\n", " ")
+        problems = view.result.candidates[row].problems()
+        assert problems
+        for problem in problems:
+            assert detail.count(problem.note[:40]) == 1
 
 
 async def test_spec_field_starts_empty_with_an_example_hint(shop_db: Any) -> None:
