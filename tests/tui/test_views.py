@@ -9,6 +9,7 @@ from __future__ import annotations
 
 from typing import Any
 
+import pytest
 from textual.widgets import ContentSwitcher, Select, Static
 
 from partsdb.services import catalog, stock
@@ -483,3 +484,28 @@ async def test_spec_field_starts_empty_with_an_example_hint(shop_db: Any) -> Non
         spec = app.query_one("#sub-spec")
         assert spec.value == ""
         assert spec.placeholder.startswith("optional") and "e.g." in spec.placeholder
+
+
+async def test_substitute_offers_every_stress_the_cli_offers(shop_db: Any) -> None:
+    """One input per stress row (frequency and heat sink included), read into the ranking."""
+    from partsdb.ranking import Stress
+    from partsdb.spec_fields import STRESS_FIELDS
+
+    app = build_app(shop_db, start="substitute", cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        view = app.view("substitute")
+        typed = {"vce_peak": "18V", "ic_peak": "50mA", "power": "100mW", "ambient": "40",
+                 "freq": "20kHz", "heatsink": "5"}
+        assert set(typed) == {row.name for row in STRESS_FIELDS}
+        for name, text in typed.items():
+            app.query_one(f"#ss-{name}").focus()
+            await type_text(pilot, text)
+        app.query_one("#sub-query").focus()
+        await type_text(pilot, "qx3301")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert view.result.stress == Stress(vce_peak=18.0, ic_peak=0.05, power=0.1, ambient=40.0,
+                                            freq=2e4, heatsink=5.0)
+        # The frequency sets the fT need by gain-bandwidth (hFE min x f).
+        ft = view.result.candidates[0].check("ft")
+        assert ft.need == pytest.approx(view.result.requirement.hfe_min * 2e4)
