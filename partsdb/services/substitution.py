@@ -451,6 +451,7 @@ def worked_example(db: Database) -> str:
     """
     from sqlalchemy import select as _select
 
+    from partsdb.reports import problem_lines
     from partsdb.storage.models import DeviceRow
     from partsdb.units import format_quantity
 
@@ -478,6 +479,6 @@ def worked_example(db: Database) -> str:
                 f"  best in stock: {best.designation}, score {best.score:.0f}, {best.verdict}, "
                 f"{best.in_stock} in {', '.join(best.locations) or '—'}",
             ]
-            lines += [f"  - {f.message}" for f in best.flags[:3]]
+            lines += [f"  - {line}" for line in problem_lines(best.problems()[:3])]
             return "\n".join(lines)
     return "Worked example: no obsolete part with an in-stock substitute in this database."
