@@ -221,7 +221,7 @@ class CatalogColumns:
             return np.log(lo), np.log(hi)
 
     def devices_at(self, rows: np.ndarray) -> list[dict[str, Any]]:
-        """:meth:`device_at` of each of ``rows``, read column by column (the same values)."""
+        """Each of ``rows`` as plain values (for details and reports), read column by column."""
         rows = np.asarray(rows, dtype=np.intp).reshape(-1)
 
         def names(codes: np.ndarray, table: Sequence[str]) -> list[str | None]:
@@ -237,23 +237,11 @@ class CatalogColumns:
                    names(self.package, self.packages), names(self.pinout, self.pinouts)]
         return [dict(zip(_DEVICE_KEYS, values, strict=True)) for values in zip(*columns, strict=True)]
 
-    def device_at(self, i: int) -> dict[str, Any]:
-        """The row as plain values (for details and reports)."""
-        return {
-            "designation": str(self.designation[i]), "key": str(self.key[i]),
-            "polarity": _name(POLARITIES, self.polarity[i]), "kind": _name(KINDS, self.kind[i]),
-            "material": _name(MATERIALS, self.material[i]),
-            **{n: _num(getattr(self, n)[i]) for n in _DEVICE_NUMBERS},
-            "ptot_ref": "case" if self.case_rated[i] else "ambient",
-            "package": self.packages[self.package[i]] if self.package[i] >= 0 else None,
-            "pinout": self.pinouts[self.pinout[i]] if self.pinout[i] >= 0 else None,
-        }
-
 
 _DEVICE_NUMBERS = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max", "ft")
 _DEVICE_KEYS = ("designation", "key", "polarity", "kind", "material", *_DEVICE_NUMBERS,
                 "ptot_ref", "package", "pinout")
-"""The keys of :meth:`CatalogColumns.device_at`, in its order."""
+"""The keys of :meth:`CatalogColumns.devices_at`, in its order."""
 
 
 def _name(table: Sequence[str], code: Any) -> str | None:

@@ -26,7 +26,6 @@ MATERIALS: tuple[str, ...] = ("si", "ge", "other")
 
 PARAMETERS: tuple[str, ...] = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "ft", "hfe",
                                "package", "pinout", "material")
-RATINGS: tuple[str, ...] = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "ft")
 # An unknown value on these, against a known need, means the part cannot be confirmed.
 PRIMARY: tuple[str, ...] = ("vceo", "ic_max", "ptot")
 

@@ -71,3 +71,22 @@ def test_html_job_sheet_is_escaped_and_complete() -> None:
     assert "Signature" in text and "Job reference" in text
     assert SAFETY_CAUTIONS[0] in text
     assert "mil-std-975m" in text
+
+
+def test_key_flags_and_details_come_from_the_problems() -> None:
+    # QR3: 25 V peak on a 20 V part is above the rating (MIL-STD-975M App. A: the rating is the
+    # absolute limit) and below the original's 40 V; QR<2>: the lead order differs.
+    from partsdb.reports import key_flags, problem_lines
+
+    result = _result()
+    by = {c.designation: c for c in result.candidates}
+    qr3, qr2 = by["QR3"], by["QR<2>&|x"]
+    assert key_flags(qr3).startswith("UNDER vceo")
+    assert "below-original" in key_flags(qr3)
+    assert key_flags(qr2) == "re-form-leads"
+    text = render_markdown(result)
+    assert problem_lines(qr3.problems())[0].startswith("vceo under-rated: Vce peak 25 V is 125 %")
+    pinout = next(p for p in qr2.problems() if p.parameter == "pinout")
+    assert (pinout.status, pinout.need, pinout.offered, pinout.code) == \
+        ("marginal", "EBC", "ECB", "re-form-leads")
+    assert text.count("re-form leads: original E B C") == 1
