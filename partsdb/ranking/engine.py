@@ -38,8 +38,6 @@ from partsdb.ranking.model import (
     DEFAULT_WEIGHTS,
     FIT_CODES,
     FT_FAST_FACTOR,
-    HFE_HIGH_FACTOR,
-    HFE_LOW_FACTOR,
     KINDS,
     PARAMETERS,
     POLARITIES,
@@ -55,6 +53,7 @@ from partsdb.ranking.notes import (
     case_rating_message,
     fit_note,
     fmt,
+    gain_code,
     much_faster,
     rating_note,
 )
@@ -257,7 +256,8 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
             for j in range(k):
                 off_text = devs[j][name]
                 checks[j].append(Check(name, None, None, None, status[j],
-                                       fit_note(name, need_text, off_text, status[j])))
+                                       fit_note(name, need_text, off_text, status[j]),
+                                       FIT_CODES[name] if status[j] == "marginal" else ""))
                 shown[j][name] = (need_text or "—", off_text or "—")
                 if need_text is not None:
                     applicable[j] += 1
@@ -279,7 +279,8 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
                 known[j] += off is not None
             checks[j].append(Check(name, need, off, ratios[j], status[j],
                                    rating_note(name, basis, need, off, req, stress, policy,
-                                               devs[j])))
+                                               devs[j]),
+                                   gain_code(req, devs[j]) if name == "hfe" else ""))
             shown[j][name] = (_shown(name, need, req), _shown(name, off, devs[j]))
 
     subs = {name: pick(ev.columns[name].sub).astype(float).tolist() for name in PARAMETERS}
@@ -338,8 +339,8 @@ def _shown(name: str, value: float | None, source: Requirement | Mapping[str, An
 def _flags(flags: list[Flag], dev: dict[str, Any], req: Requirement,
            stress: Stress, ft_need: float | None, case_rated: bool, free_air: float,
            allowed: float, tj_effective: float) -> None:
-    """The flags of one candidate: facts no check covers (a fit that needs work is its check's
-    status and note, not a flag)."""
+    """The flags of one candidate: facts no check covers (a fit that needs work, or a gain far
+    off the need, is its check's status, note and code, not a flag)."""
     for name, stressed in (("vceo", stress.vce_peak), ("vcbo", stress.vce_peak),
                            ("ic_max", stress.ic_peak)):
         original = getattr(req, name)
@@ -353,15 +354,6 @@ def _flags(flags: list[Flag], dev: dict[str, Any], req: Requirement,
     if dev["tj_max"] is None and dev["ptot"] is not None:
         flags.append(Flag("tj-assumed", f"Tj max not in the record: {tj_effective:g} °C "
                                         f"assumed for {dev['material']} to derate Ptot"))
-    if req.hfe_min is not None and dev["hfe_min"] is not None:
-        need_hi = req.hfe_max if req.hfe_max is not None else req.hfe_min
-        if dev["hfe_min"] > HFE_HIGH_FACTOR * need_hi:
-            flags.append(Flag("high-gain", f"much higher gain (hFE min {dev['hfe_min']:g} vs "
-                                           f"{need_hi:g}): risk of instability or oscillation; "
-                                           "check the stage (common practice)"))
-        elif dev["hfe_min"] * HFE_LOW_FACTOR < req.hfe_min:
-            flags.append(Flag("low-gain", f"hFE min {dev['hfe_min']:g} is well below the needed "
-                                          f"{req.hfe_min:g}"))
     if dev["ft"] is not None and ft_need is not None and dev["ft"] > FT_FAST_FACTOR * ft_need:
         flags.append(Flag("much-faster", much_faster(dev["ft"])))
 

@@ -7,10 +7,20 @@ engine (:mod:`partsdb.ranking.engine`) decides which are written.
 from __future__ import annotations
 
 import math
+from collections.abc import Mapping
 from typing import Any
 
 from partsdb.derating import Policy
-from partsdb.ranking.model import FT_FAST_FACTOR, LABEL, UNIT, Requirement, Stress, outline_key
+from partsdb.ranking.model import (
+    FT_FAST_FACTOR,
+    HFE_HIGH_FACTOR,
+    HFE_LOW_FACTOR,
+    LABEL,
+    UNIT,
+    Requirement,
+    Stress,
+    outline_key,
+)
 from partsdb.thermal import DEFAULT_CASE_TO_SINK, FREE_AIR_CASE_TO_AMBIENT
 
 _SI_STEPS: tuple[tuple[float, str], ...] = (
@@ -101,7 +111,15 @@ def rating_note(name: str, basis: str, need: float | None, offered: float | None
                else f"{req.hfe_min:g}")
         cand = (f"{dev['hfe_min']:g}..{dev['hfe_max']:g}" if dev["hfe_max"] is not None
                 else f"{dev['hfe_min']:g}")
-        return f"window {cand} against {win} (log scale)"
+        text = f"window {cand} against {win} (log scale)"
+        code = gain_code(req, dev)
+        if code == "high-gain":
+            need_hi = req.hfe_max if req.hfe_max is not None else req.hfe_min
+            text += (f"; much higher gain (hFE min {dev['hfe_min']:g} vs {need_hi:g}): risk of "
+                     "instability or oscillation; check the stage (common practice)")
+        elif code == "low-gain":
+            text += f"; hFE min {dev['hfe_min']:g} is well below the needed {req.hfe_min:g}"
+        return text
     if name == "ft":
         if basis == "gain-bandwidth":
             return (f"fT {fmt(offered, 'Hz')} against hFE min x f = {req.hfe_min:g} x "
@@ -146,6 +164,20 @@ def much_faster(ft: float) -> str:
     return (f"fT {fmt(ft, 'Hz')} is over {FT_FAST_FACTOR:g}x the need: it may oscillate; keep "
             "leads short, add a base stopper if needed (common practice)")
 
+
+
+def gain_code(req: Requirement, dev: Mapping[str, Any]) -> str:
+    """``high-gain`` for a minimum above three times the needed maximum, ``low-gain`` for one
+    below half the needed minimum (common practice), else "" (both make the hFE check
+    marginal)."""
+    if req.hfe_min is None or dev["hfe_min"] is None:
+        return ""
+    need_hi = req.hfe_max if req.hfe_max is not None else req.hfe_min
+    if dev["hfe_min"] > HFE_HIGH_FACTOR * need_hi:
+        return "high-gain"
+    if dev["hfe_min"] * HFE_LOW_FACTOR < req.hfe_min:
+        return "low-gain"
+    return ""
 
 
 def unknown_data_message(parameters: list[str]) -> str:

@@ -14,7 +14,7 @@ from typing import Any
 
 from partsdb.cautions import SAFETY_CAUTIONS
 from partsdb.derating import Policy
-from partsdb.ranking.model import FIT_CODES, Requirement, Stress, Weights
+from partsdb.ranking.model import Requirement, Stress, Weights
 from partsdb.ranking.notes import unknown_data_message
 
 
@@ -31,8 +31,13 @@ class Check:
     """ok, marginal, under-rated or unknown (:data:`partsdb.derating.STATUSES`)."""
     note: str = ""
     """A sentence for the technician: the figures compared, and what to do when not ok."""
+    code: str = ""
+    """A short code for what needs doing when the check is not ok (``re-form-leads``,
+    ``other-outline``, ``material-change``, ``low-gain``, ``high-gain``), else ""."""
 
     def to_json(self) -> dict[str, Any]:
+        # (the code travels in the candidate's "flags" and "problems"; this object's keys are
+        # a published contract)
         return {"parameter": self.parameter, "need": self.need, "offered": self.offered,
                 "ratio": self.ratio, "status": self.status, "note": self.note}
 
@@ -103,7 +108,7 @@ class Candidate:
         order, then the flags."""
         unknown = self.unknown()
         items = [Problem(c.parameter, c.status, *self.shown.get(c.parameter, ("—", "—")),
-                         c.note, FIT_CODES.get(c.parameter, "") if c.status == "marginal" else "")
+                         c.note, c.code)
                  for c in self.checks
                  if c.status in ("under-rated", "marginal") or c.parameter in unknown]
         items += [Problem(f.code, "flag", "", "", f.message, f.code) for f in self.flags]
@@ -115,15 +120,14 @@ class Candidate:
                 and self.shown.get(c.parameter, ("—",))[0] != "—"]
 
     def flag_codes(self) -> list[str]:
-        """The flag codes, and the code of each fit check that needs work at the bench
-        (``material-change``, ``other-outline``, ``re-form-leads``)."""
+        """The flag codes, and the code of each check that needs work (:attr:`Check.code`)."""
         return [f["code"] for f in self._flags_json()]
 
     def _flags_json(self) -> list[dict[str, str]]:
-        # A fit that needs work is a marginal check, and missing data an unknown check, not
-        # flags; the JSON lists them among the flags too, under their long-standing codes.
-        fits = [{"code": FIT_CODES[c.parameter], "message": c.note} for c in self.checks
-                if c.parameter in FIT_CODES and c.status == "marginal"]
+        # A fit that needs work or a gain far off is a marginal check with a code, and missing
+        # data an unknown check, not flags; the JSON lists them among the flags too, under
+        # their long-standing codes.
+        fits = [{"code": c.code, "message": c.note} for c in self.checks if c.code]
         unknown = self.unknown()
         return [f.to_json() for f in self.flags[:1] if f.code == "incompatible"] + fits + [
             f.to_json() for f in self.flags if f.code != "incompatible"] + (
