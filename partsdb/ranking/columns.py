@@ -63,7 +63,7 @@ class CatalogColumns:
     _groups: dict[tuple[int, int], tuple[np.ndarray, CatalogColumns]] = field(
         default_factory=dict, repr=False)
     _memo: dict[Any, Any] = field(default_factory=dict, repr=False)
-    """Tables derived from these rows for the ranking (see :func:`_group_blocks`)."""
+    """Tables derived from these rows for the ranking (see :mod:`partsdb.ranking.fastpath`)."""
 
     @property
     def size(self) -> int:

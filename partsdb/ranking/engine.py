@@ -152,7 +152,7 @@ def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | Non
     as :attr:`RankResult.considered` (default: ``catalog.size``).
 
     Score and verdict of every compatible row come from :func:`group_scores`; the rows
-    returned are detailed from the same checks (:meth:`Scores.detail`).
+    returned are detailed from the same checks (:attr:`partsdb.ranking.fastpath.Scores.detail`).
     """
     stress = stress or Stress()
     policy = policy or BUILTIN_POLICIES[DEFAULT_POLICY]

@@ -159,6 +159,12 @@ def test_job_sheet_files(url: str, tmp_path: Path) -> None:
     assert "Job reference: J-1" in text and "QZ150" in text
     page = run(url, "substitute", "QZ100", "--format", "html").output
     assert page.startswith("<!DOCTYPE html>") and "Signature" in page
+    # A sheet that cannot be written: one line naming the file, exit 3 (environment), no trace.
+    bad = run(url, "substitute", "QZ100", "--format", "md", "--output",
+              str(tmp_path / "no-such-dir" / "sheet.md"))
+    assert bad.exit_code == 3
+    assert "sheet.md" in bad.output and "cannot be written" in bad.output
+    assert "Traceback" not in bad.output and len(bad.output.strip().splitlines()) == 1
 
 
 def test_policies_lists_builtin_and_user(url: str, tmp_path: Path,
