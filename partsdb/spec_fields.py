@@ -43,6 +43,8 @@ class SpecField:
     """A quantity that must be above 0 (ambient and heat sink may be 0 or below)."""
     default: float | None = None
     """Value when not given (None: not given)."""
+    sets_need: bool = True
+    """A stress that sets a need of its own (ambient and heat sink only modify others)."""
 
     @property
     def brief(self) -> str:
@@ -97,12 +99,12 @@ STRESS_FIELDS: tuple[SpecField, ...] = (
               short="P"),
     SpecField("ambient", "Ambient", "°C", "--ambient",
               "Air temperature around the part in °C (default 25).", short="Ta",
-              positive=False, default=DEFAULT_AMBIENT),
+              positive=False, default=DEFAULT_AMBIENT, sets_need=False),
     SpecField("freq", "Highest signal frequency", "Hz", "--freq",
               "Highest signal frequency the stage must amplify, e.g. 20kHz.", short="f"),
     SpecField("heatsink", "Heat sink (sink to ambient)", "K/W", "--heatsink",
               "Heat sink, sink-to-ambient K/W (for case-rated parts; default none).",
-              short="sink", positive=False),
+              short="sink", positive=False, sets_need=False),
 )
 """What the circuit does to the part; each row is a field of :class:`partsdb.ranking.Stress`."""
 

@@ -17,7 +17,7 @@ from typing import Any
 from partsdb.designations import normalize
 from partsdb.device import FIELD_BY_NAME, Device
 from partsdb.errors import InvalidInput
-from partsdb.spec_fields import STRESS_FIELDS
+from partsdb.spec_fields import DEFAULT_AMBIENT, STRESS_FIELDS
 
 POLARITIES: tuple[str, ...] = ("npn", "pnp")
 KINDS: tuple[str, ...] = ("bjt", "darlington")
@@ -165,7 +165,7 @@ class Stress:
     ic_peak: float | None = None
     power: float | None = None
     """Dissipation in the part, W."""
-    ambient: float = 25.0
+    ambient: float = DEFAULT_AMBIENT
     freq: float | None = None
     """Highest signal frequency the stage must amplify, Hz."""
     heatsink: float | None = None
@@ -199,7 +199,7 @@ class Stress:
     def given(self) -> bool:
         """True when any stress that sets a need is given (ambient and heat sink alone do not)."""
         return any(getattr(self, row.name) is not None for row in STRESS_FIELDS
-                   if row.default is None and row.positive)
+                   if row.sets_need)
 
     def to_json(self) -> dict[str, Any]:
         return {row.name: getattr(self, row.name) for row in STRESS_FIELDS}
