@@ -272,10 +272,13 @@ def _print_bias(report: BiasReport) -> None:
         f = report.fix
         name = f.resistor.upper()
         click.echo(f"Fix: change {name} from {_q(f.original_value, 'Ω')} to "
-                   f"{_q(f.exact, 'Ω', 4)} (exact) to restore Ic {_q(f.target_ic, 'A')}:")
+                   f"{_q(f.exact, 'Ω', 4)} (exact) to restore Ic {_q(f.target_ic, 'A')}, "
+                   f"{f.target}:")
         for label, opt in (("E12", f.e12), ("E24", f.e24)):
             click.echo(f"  {label} {_q(opt.value, 'Ω')}: Ic {_q(opt.ic, 'A')}, "
-                       f"Vce {_q(opt.vce, 'V')} ({opt.region})")
+                       f"Vce {_q(opt.vce, 'V')} ({opt.region}); at hFE min "
+                       f"{_q(opt.ic_hfe_min, 'A')} ({opt.region_hfe_min}), at hFE max "
+                       f"{_q(opt.ic_hfe_max, 'A')} ({opt.region_hfe_max})")
     for r in results:
         for note in r.notes:
             click.echo(f"note: {note}")
