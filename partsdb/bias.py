@@ -379,6 +379,14 @@ def solve_fixed_vbe(stage: Stage, beta: float, vbe: float, vce_sat: float,
         # a single transistor, straight through for a pair).
         ib, ic = (-icbo, icbo) if not pair else (0.0, icbo)
         point = Point(ic, ib, *_node_voltages(stage, ic, ib), CUT_OFF)
+        if point.vce < vce_sat:
+            # More leakage than the collector circuit can pass: the collector bottoms at
+            # Vce(sat) and the current is what the resistors allow.
+            if stage.network == "collector-feedback":
+                ic = (stage.vcc - vce_sat) / (rc + re) - ib
+            else:
+                ic = (stage.vcc - vce_sat - re * ib) / (rc + re)
+            point = Point(ic, ib, *_node_voltages(stage, ic, ib), SATURATION)
         return _relabel(stage, point, vce_sat)
     point = Point(ic, ib, *_node_voltages(stage, ic, ib), ACTIVE)
     if point.vce < vce_sat:

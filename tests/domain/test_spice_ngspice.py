@@ -186,3 +186,28 @@ def test_germanium_card_temperature_coefficient(tmp_path: Path) -> None:
     spice = run_netlist(diode_vbe_netlist(card, "XG372", "pnp", 1e-3, (25.0, 35.0)), tmp_path)
     slope = (spice["v1"] - spice["v0"]) / 10.0
     assert -2.2e-3 <= slope <= -1.8e-3
+
+
+# --- Leakage: the solved shift against ngspice with a leakage source between base and collector
+
+# The demo's germanium driver stage (issue 13): -9 V, R1 47k, R2 10k, Rc 2k2, Re 470; the part
+# as its record gives it (hFE 60..140, Icbo 10 µA) with Vbe 0.25 V at 1 mA.
+LEAKY = TransistorParams("QG2", "pnp", hfe=math.sqrt(60 * 140), vbe=0.25, vbe_ic=1e-3,
+                         hfe_min=60, hfe_max=140, material="ge", icbo=10e-6)
+DEMO_STAGE = Stage("divider", 9, rc=2.2e3, re=470, r1=47e3, r2=10e3)
+
+
+@pytest.mark.parametrize("model", ["fixed-vbe", "exponential"])
+@pytest.mark.parametrize("ambient", [25.0, 45.0])
+def test_leakage_shift_matches_ngspice(model: str, ambient: float, tmp_path: Path) -> None:
+    """leakage_ic is Ic with minus Ic without the leakage; ngspice solves the same two
+    circuits (a current source between collector and base, SPICE's own Vbe) and must give the
+    same difference within 3 %. At 25 °C it is about 0.16 mA, not the (beta + 1) Icbo
+    = 0.93 mA of an open base."""
+    result = analyse_stage(DEMO_STAGE, LEAKY, model, ambient)
+    with_leak = run_netlist(oracle(DEMO_STAGE, LEAKY, ambient, True), tmp_path)
+    without = run_netlist(oracle(DEMO_STAGE, LEAKY, ambient, False), tmp_path)
+    spice_shift = abs(with_leak["ic"]) - abs(without["ic"])
+    assert result.leakage_ic == pytest.approx(spice_shift, rel=0.03)
+    assert result.leakage_ic < 0.3 * (LEAKY.hfe + 1) * result.icbo
+    assert any(f"raises Ic by {result.leakage_ic * 1e3:.3g} mA" in n for n in result.notes)
