@@ -528,8 +528,7 @@ def check_ambient(params: TransistorParams, ambient: float) -> None:
     _number("ambient", ambient, low=-273.15, allow_low=False, expected="a temperature in °C")
     if params.tj_max is not None and ambient >= params.tj_max:
         raise BiasError("ambient", ambient,
-                        f"an ambient below the Tj max of {params.name} ({params.tj_max:g} °C); "
-                        f"{ambient:g} °C is at or above it")
+                        f"an ambient below the Tj max of {params.name} ({params.tj_max:g} °C)")
     if not AMBIENT_MIN <= ambient <= AMBIENT_MAX:
         raise BiasError("ambient", ambient,
                         f"an ambient from {AMBIENT_MIN:g} to {AMBIENT_MAX:g} °C")
