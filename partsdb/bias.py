@@ -26,9 +26,18 @@ Two device models:
   needs no separate equations here: the forward-biased collector junction is in the model.
 
 Temperature: Vbe falls about 2 mV/K (common practice; DOMAIN notes), applied to Vbe(on) in both
-models; collector-base leakage Icbo doubles every 10 K (common practice) and adds
-(beta + 1) x Icbo to Ic, modelled as a current source from collector to base inside the device
-(so the same term appears in the ngspice netlist).
+models; collector-base leakage Icbo doubles every 10 K (common practice) and is modelled as a
+current source from collector to base inside the device. Its effect on Ic is what the stage
+lets through: the stage is solved with and without the source and the difference reported
+(``leakage_ic``). With a fixed Vbe that difference is S x Icbo, the stability factor
+S = (1 + beta)(1 + RB/RE)/(1 + beta + RB/RE) (Boylestad & Nashelsky, *Electronic Devices and
+Circuit Theory*, ch. 4, bias stabilization; from memory), which is (beta + 1) x Icbo only
+for an open base. A Darlington's stored Icbo is the pair's own collector leakage, measured at
+its terminals: it is added to Ic as it is (a source from collector to emitter), not multiplied
+by the pair's gain.
+
+Ambient: from -55 °C to 300 °C, and below the part's Tj max (at or above it the stage is not a
+bias question); outside that a clear error names the value.
 """
 
 from __future__ import annotations
@@ -49,6 +58,19 @@ ACTIVE, SATURATION, CUT_OFF = "active", "saturation", "cut-off"
 VCE_SAT_DEFAULT = 0.2
 """Vce below which a stage is called saturated when the record has no Vce(sat), V (common
 practice for small-signal parts)."""
+VCE_SAT_DARLINGTON = 0.9
+"""Vce(sat) assumed for a Darlington whose record has none, V: the output transistor's Vbe
+plus the driver's saturation, about 0.7 + 0.2 V (common practice)."""
+
+AMBIENT_MIN, AMBIENT_MAX = -55.0, 300.0
+"""Ambient range the bias model accepts, °C (-55 °C: the low end of military temperature
+ranges, common practice; 300 °C: the highest Tj max a record may hold)."""
+VBE_FLOOR = 0.05
+"""Smallest Vbe(on) the -2 mV/K shift may reach before the ambient is refused, V (below it the
+linear shift has lost its meaning; a choice made here)."""
+CUT_OFF_FRACTION = 1e-4
+"""A stage whose collector carries less than this fraction of Vcc/(Rc + Re) is cut off (the
+exponential model has no sharp edge; a threshold chosen here)."""
 
 # Vbe(on) at about 1 mA, 25 °C, when the record has none (DOMAIN notes; common practice).
 VBE_DEFAULT: dict[str, float] = {"ge": 0.25, "si": 0.65, "other": 0.65}
@@ -185,6 +207,8 @@ class TransistorParams:
     material: str = "si"
     kind: str = "bjt"
     notes: tuple[str, ...] = ()
+    tj_max: float | None = None
+    """Maximum junction temperature, °C (None: not known; the ambient is then not checked)."""
 
     def __post_init__(self) -> None:
         if self.polarity not in ("npn", "pnp"):
@@ -237,7 +261,14 @@ def params_from_device(device: Device) -> TransistorParams:
         vbe_ic = None
         notes.append(f"{device.designation}: Vbe(on) not in the record, {vbe:g} V assumed "
                      f"for {device.kind} {device.material} (common practice)")
-    vce_sat = device.vce_sat if device.vce_sat is not None else VCE_SAT_DEFAULT
+    if device.vce_sat is not None:
+        vce_sat = device.vce_sat
+    elif device.kind == "darlington":
+        vce_sat = VCE_SAT_DARLINGTON
+        notes.append(f"{device.designation}: Vce(sat) not in the record, {vce_sat:g} V assumed "
+                     "for a Darlington (output Vbe plus driver saturation; common practice)")
+    else:
+        vce_sat = VCE_SAT_DEFAULT
     if device.icbo is not None:
         icbo = device.icbo
     elif device.material == "ge":
@@ -249,7 +280,8 @@ def params_from_device(device: Device) -> TransistorParams:
     return TransistorParams(name=device.designation, polarity=device.polarity, hfe=hfe, vbe=vbe,
                             vbe_ic=vbe_ic, hfe_min=device.hfe_min, hfe_max=device.hfe_max,
                             vce_sat=vce_sat, icbo=icbo, material=device.material,
-                            kind=device.kind, notes=tuple(notes))
+                            kind=device.kind, notes=tuple(notes),
+                            tj_max=device.tj_max_or_default()[0])
 
 
 def vbe_at(params: TransistorParams, ambient: float) -> float:
@@ -319,8 +351,12 @@ def _solve2(a: tuple[float, float, float], b: tuple[float, float, float]) -> tup
 
 
 def solve_fixed_vbe(stage: Stage, beta: float, vbe: float, vce_sat: float,
-                    icbo: float = 0.0) -> Point:
-    """Constant-Vbe solution in the region the stage is actually in (unknowns Ib, Ic)."""
+                    icbo: float = 0.0, pair: bool = False) -> Point:
+    """Constant-Vbe solution in the region the stage is actually in (unknowns Ib, Ic).
+
+    ``icbo`` flows from collector to base inside the device (one transistor), or from collector
+    to emitter when ``pair`` is set (a Darlington's own leakage, not amplified).
+    """
     re, rc = stage.re or 0.0, stage.rc
     if stage.network == "collector-feedback":
         assert stage.rb is not None
@@ -330,16 +366,53 @@ def solve_fixed_vbe(stage: Stage, beta: float, vbe: float, vce_sat: float,
         vs, rs = stage.base_source()
         base = (rs + re, re, vs - vbe)
         sat = (re, rc + re, stage.vcc - vce_sat)
-    active = (-beta, 1.0, (beta + 1.0) * icbo)  # Ic = beta Ib + (beta + 1) Icbo
+    if pair:
+        # Ic = beta Ib + Icbo; the emitter carries Ib + Ic, so the base loop sees Icbo in Re.
+        active = (-beta, 1.0, icbo)
+        junction = 0.0
+    else:
+        active = (-beta, 1.0, (beta + 1.0) * icbo)  # Ic = beta Ib + (beta + 1) Icbo
+        junction = icbo
     ib, ic = _solve2(base, active)
-    if ib + icbo <= 0:
-        # Cut-off: no base current into the junction; only the leakage flows, out of the base.
-        ib, ic = -icbo, icbo
-        return Point(ic, ib, *_node_voltages(stage, ic, ib), CUT_OFF)
+    if ib + junction <= 0:
+        # Junction off: no base current into it; only the leakage flows (out of the base for
+        # a single transistor, straight through for a pair).
+        ib, ic = (-icbo, icbo) if not pair else (0.0, icbo)
+        point = Point(ic, ib, *_node_voltages(stage, ic, ib), CUT_OFF)
+        if point.vce < vce_sat:
+            # More leakage than the collector circuit can pass: the collector bottoms at
+            # Vce(sat) and the current is what the resistors allow.
+            if stage.network == "collector-feedback":
+                ic = (stage.vcc - vce_sat) / (rc + re) - ib
+            else:
+                ic = (stage.vcc - vce_sat - re * ib) / (rc + re)
+            point = Point(ic, ib, *_node_voltages(stage, ic, ib), SATURATION)
+        return _relabel(stage, point, vce_sat)
     point = Point(ic, ib, *_node_voltages(stage, ic, ib), ACTIVE)
     if point.vce < vce_sat:
         ib, ic = _solve2(base, sat)
         point = Point(ic, ib, *_node_voltages(stage, ic, ib), SATURATION)
+    return _relabel(stage, point, vce_sat)
+
+
+def _full_scale(stage: Stage) -> float:
+    """The collector current the stage could carry with the transistor shorted, A."""
+    span = stage.rc + (stage.re or 0.0)
+    if span > 0:
+        return stage.vcc / span
+    _, rs = (0.0, stage.rb) if stage.network == "collector-feedback" else stage.base_source()
+    return stage.vcc / (rs or 1.0)
+
+
+def _relabel(stage: Stage, point: Point, vce_sat: float) -> Point:
+    """The region from the solved currents and voltages: cut-off only when the collector
+    carries next to nothing, saturated when Vce is at or below Vce(sat), else active."""
+    if point.ic < CUT_OFF_FRACTION * _full_scale(stage):
+        point.region = CUT_OFF
+    elif point.region == SATURATION or point.vce < vce_sat:
+        point.region = SATURATION
+    else:
+        point.region = ACTIVE
     return point
 
 
@@ -401,16 +474,7 @@ def solve_exponential(stage: Stage, beta: float, i_s: float, vt: float, vce_sat:
     vbc = vbc_for(vbe)
     ic, ib = currents(vbe, vbc)
     vb, ve, vc = _node_voltages(stage, ic, ib)
-    region = ACTIVE
-    # Cut-off: transport current below 1e-4 of what the collector circuit could carry
-    # (a threshold chosen here; the exponential model has no sharp edge).
-    span = rc + re
-    i_scale = stage.vcc / span if span > 0 else stage.vcc / (rs or stage.rb or 1.0)
-    if ic - icbo < 1e-4 * i_scale:
-        region = CUT_OFF
-    elif vc - ve < vce_sat:
-        region = SATURATION
-    return Point(ic, ib, vb, ve, vc, region)
+    return _relabel(stage, Point(ic, ib, vb, ve, vc, ACTIVE), vce_sat)
 
 
 def resolve_model(model: str, *params: TransistorParams) -> str:
@@ -435,7 +499,47 @@ def solve_point(stage: Stage, params: TransistorParams, model: str, ambient: flo
     if model == "exponential":
         return solve_exponential(stage, b, saturation_current(params, ambient),
                                  thermal_voltage(ambient), params.vce_sat, icbo)
-    return solve_fixed_vbe(stage, b, vbe_at(params, ambient), params.vce_sat, icbo)
+    return solve_fixed_vbe(stage, b, vbe_at(params, ambient), params.vce_sat, icbo,
+                           pair=params.kind == "darlington")
+
+
+def stability_factor(stage: Stage, beta: float) -> float:
+    """S = dIc/dIcbo with a fixed Vbe: (1 + beta)(1 + RB/RE)/(1 + beta + RB/RE).
+
+    Boylestad & Nashelsky, *Electronic Devices and Circuit Theory*, ch. 4, bias stabilization
+    (from memory); RB is the Thevenin resistance of the divider or the base resistor, and for
+    collector feedback RE is replaced by Rc + Re (the same derivation, the feedback resistor
+    carrying the emitter current). With no resistance in the loop S = beta + 1 (open base).
+    """
+    if stage.network == "collector-feedback":
+        r_loop = stage.rc + (stage.re or 0.0)
+        rb = stage.rb or 0.0
+    else:
+        r_loop = stage.re or 0.0
+        rb = stage.base_source()[1]
+    if r_loop <= 0:
+        return beta + 1.0
+    ratio = rb / r_loop
+    return (1.0 + beta) * (1.0 + ratio) / (1.0 + beta + ratio)
+
+
+def check_ambient(params: TransistorParams, ambient: float) -> None:
+    """Refuse an ambient the bias model cannot answer for, with one line naming the value."""
+    _number("ambient", ambient, low=-273.15, allow_low=False, expected="a temperature in °C")
+    if params.tj_max is not None and ambient >= params.tj_max:
+        raise BiasError("ambient", ambient,
+                        f"an ambient below the Tj max of {params.name} ({params.tj_max:g} °C)")
+    if not AMBIENT_MIN <= ambient <= AMBIENT_MAX:
+        raise BiasError("ambient", ambient,
+                        f"an ambient from {AMBIENT_MIN:g} to {AMBIENT_MAX:g} °C")
+    vbe = vbe_at(params, ambient)
+    if vbe < VBE_FLOOR:
+        hot = T_REFERENCE + (params.vbe - VBE_FLOOR) / abs(VBE_TEMPCO) / (
+            2.0 if params.kind == "darlington" else 1.0)
+        raise BiasError("ambient", ambient,
+                        f"an ambient below {hot:.0f} °C for {params.name}: there its Vbe(on) "
+                        f"{params.vbe:g} V at 25 °C falls under {VBE_FLOOR * 1e3:g} mV at "
+                        "-2 mV/K")
 
 
 @dataclass
@@ -454,6 +558,8 @@ class StageResult:
     stability: dict[str, Any]
     notes: list[str] = field(default_factory=list)
     params: TransistorParams | None = None
+    leakage_ic: float = 0.0
+    """Ic with the leakage minus Ic without it (both solved), A."""
     """The device parameters solved with (for netlists and fixes)."""
 
     def to_json(self) -> dict[str, Any]:
@@ -461,7 +567,8 @@ class StageResult:
         return {"device": self.device, "polarity": self.polarity, "ic": p.ic, "ib": p.ib,
                 "ie": p.ie, "vce": p.vce, "vb": p.vb, "ve": p.ve, "vc": p.vc, "vbe": p.vbe,
                 "power": p.power, "region": p.region, "model": self.model, "beta": self.beta,
-                "icbo": self.icbo, "ic_hfe_min": self.ic_hfe_min,
+                "icbo": self.icbo, "leakage_ic": self.leakage_ic,
+                "ic_hfe_min": self.ic_hfe_min,
                 "ic_hfe_typ": self.ic_hfe_typ, "ic_hfe_max": self.ic_hfe_max,
                 "stability": self.stability, "notes": list(self.notes)}
 
@@ -490,7 +597,7 @@ def stability(stage: Stage, beta_low: float, ic_low: float, ic_high: float) -> d
 def analyse_stage(stage: Stage, params: TransistorParams, model: str = "auto",
                   ambient: float = 25.0, leakage: bool = True) -> StageResult:
     """Solve the stage at the typical, lowest and highest hFE of ``params``."""
-    _number("ambient", ambient, low=-273.15, allow_low=False, expected="a temperature in °C")
+    check_ambient(params, ambient)
     used = resolve_model(model, params)
     point = solve_point(stage, params, used, ambient, leakage)
     lo, typ, hi = params.gain_window
@@ -498,28 +605,46 @@ def analyse_stage(stage: Stage, params: TransistorParams, model: str = "auto",
     ic_hi = solve_point(stage, params, used, ambient, leakage, beta=hi).ic
     notes = list(params.notes)
     icbo = leakage_at(params, ambient) if leakage else 0.0
+    leakage_ic = 0.0
     if icbo > 0:
-        notes.append(f"{params.name}: leakage Icbo {icbo * 1e6:.3g} µA at {ambient:g} °C adds "
-                     f"{(params.hfe + 1) * icbo * 1e3:.3g} mA to Ic")
+        leakage_ic = point.ic - solve_point(stage, params, used, ambient, False).ic
+        how = ("the pair's own leakage, not amplified" if params.kind == "darlington"
+               else f"stability factor S {stability_factor(stage, typ):.3g}")
+        notes.append(f"{params.name}: leakage Icbo {icbo * 1e6:.3g} µA at {ambient:g} °C "
+                     f"raises Ic by {leakage_ic * 1e3:.3g} mA (the stage solved with and "
+                     f"without it; {how})")
     if params.hfe_min is None or params.hfe_max is None:
         notes.append(f"{params.name}: hFE window incomplete; Ic spread understated")
+    stab = stability(stage, lo, ic_lo, ic_hi)
+    stab["s_icbo"] = stability_factor(stage, typ)  # at the typical beta
     return StageResult(device=params.name, polarity=params.polarity, model=used, point=point,
                        beta=typ, icbo=icbo, ic_hfe_min=ic_lo, ic_hfe_typ=point.ic,
-                       ic_hfe_max=ic_hi, stability=stability(stage, lo, ic_lo, ic_hi),
-                       notes=notes, params=params)
+                       ic_hfe_max=ic_hi, stability=stab,
+                       notes=notes, params=params, leakage_ic=leakage_ic)
 
 
 @dataclass
 class FixOption:
-    """A preferred resistor value and the operating point it gives."""
+    """A preferred resistor value and the operating point it gives, at the typical hFE and at
+    each end of the substitute's hFE window."""
 
     value: float
     ic: float
     vce: float
     region: str
+    ic_hfe_min: float = math.nan
+    region_hfe_min: str = ""
+    ic_hfe_max: float = math.nan
+    region_hfe_max: str = ""
 
     def to_json(self) -> dict[str, Any]:
-        return {"value": self.value, "ic": self.ic, "vce": self.vce, "region": self.region}
+        return {"value": self.value, "ic": self.ic, "vce": self.vce, "region": self.region,
+                "ic_hfe_min": self.ic_hfe_min, "region_hfe_min": self.region_hfe_min,
+                "ic_hfe_max": self.ic_hfe_max, "region_hfe_max": self.region_hfe_max}
+
+
+FIX_TARGET = (f"the original's operating point at {T_REFERENCE:g} °C without leakage "
+              "(the stage's design point)")
 
 
 @dataclass
@@ -532,10 +657,11 @@ class Fix:
     target_ic: float
     e12: FixOption
     e24: FixOption
+    target: str = FIX_TARGET
 
     def to_json(self) -> dict[str, Any]:
         return {"resistor": self.resistor, "original_value": self.original_value,
-                "exact": self.exact, "target_ic": self.target_ic,
+                "exact": self.exact, "target_ic": self.target_ic, "target": self.target,
                 "e12": self.e12.to_json(), "e24": self.e24.to_json()}
 
 
@@ -561,10 +687,16 @@ def solve_fix(stage: Stage, params: TransistorParams, target_ic: float, model: s
     log_exact = float(brentq(miss, lo, hi, xtol=1e-12, rtol=1e-14, maxiter=500))
     exact = math.exp(log_exact)
 
+    lo, _, hi = params.gain_window
+
     def option(series: str) -> FixOption:
         value = nearest(exact, series)
-        p = solve_point(stage.with_resistor(name, value), params, model, ambient, leakage)
-        return FixOption(value, p.ic, p.vce, p.region)
+        fixed = stage.with_resistor(name, value)
+        p = solve_point(fixed, params, model, ambient, leakage)
+        p_lo = solve_point(fixed, params, model, ambient, leakage, beta=lo)
+        p_hi = solve_point(fixed, params, model, ambient, leakage, beta=hi)
+        return FixOption(value, p.ic, p.vce, p.region, p_lo.ic, p_lo.region, p_hi.ic,
+                         p_hi.region)
 
     return Fix(name, r0, exact, target_ic, option("E12"), option("E24"))
 
@@ -623,19 +755,24 @@ def analyse_bias(stage: Stage, original: TransistorParams,
     if substitute is not None and substitute.polarity != original.polarity:
         raise BiasError("substitute", substitute.name,
                              f"a {original.polarity.upper()} like {original.name}")
+    for device in devices:
+        check_ambient(device, ambient)
     orig = analyse_stage(stage, original, used, ambient, leakage)
     report = BiasReport(stage, orig, notes=notes)
     if substitute is None:
         return report
     report.substitute = analyse_stage(stage, substitute, used, ambient, leakage)
-    if orig.point.region != ACTIVE:
-        notes.append(f"the original stage is in {orig.point.region}: no fix computed "
-                     "(restoring its Ic is not a bias target)")
+    # The fix aims at the design point: the original at 25 °C without its leakage, so a
+    # germanium original's leakage-inflated current at a warm ambient is not copied.
+    design = solve_point(stage, original, used, T_REFERENCE, leakage=False)
+    if design.region != ACTIVE:
+        notes.append(f"the original stage is in {design.region} at {T_REFERENCE:g} °C without "
+                     "leakage: no fix computed (restoring its Ic is not a bias target)")
         return report
-    report.fix = solve_fix(stage, substitute, orig.point.ic, used, ambient, leakage)
+    report.fix = solve_fix(stage, substitute, design.ic, used, ambient, leakage)
     if report.fix is None:
         notes.append(f"no value of {stage.fix_resistor.upper()} restores Ic "
-                     f"{orig.point.ic * 1e3:.3g} mA with {substitute.name}")
+                     f"{design.ic * 1e3:.3g} mA ({FIX_TARGET}) with {substitute.name}")
     return report
 
 

@@ -221,6 +221,9 @@ def check_operating_point(device: Device, vce: float, ic: float, power: float | 
         notes.append("dissipation taken as Vce x Ic (base drive neglected)")
 
     tj_max, assumed = device.tj_max_or_default()
+    if ambient >= tj_max:
+        raise ValueError(f"ambient: {ambient:g} °C is at or above the Tj max of {device.designation}"
+                         f" ({tj_max:g} °C); expected an ambient below Tj max")
     if assumed:
         notes.append(f"Tj max not in the record: {tj_max:g} °C assumed for material "
                      f"'{device.material}' (common practice)")

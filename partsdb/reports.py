@@ -70,7 +70,7 @@ def problem_lines(problems: tuple[Problem, ...] | list[Problem]) -> list[str]:
 
 def policy_line(result: RankResult) -> str:
     p = result.policy
-    tj = f"Tj at most {p.tj_margin:g} K below Tj max"
+    tj = f"Tj at least {p.tj_margin:g} K below Tj max"
     if p.tj_cap is not None:
         tj += f" and at most {p.tj_cap:g} °C"
     return (f"{p.name}: voltage {p.voltage:.0%}, current {p.current:.0%}, power {p.power:.0%} of "

@@ -18,7 +18,9 @@ from typing import Literal
 
 from partsdb.device import FIELD_BY_NAME
 
-SpecKind = Literal["quantity", "choice", "text", "window"]
+SpecKind = Literal["quantity", "temperature", "choice", "text", "window"]
+"""How a field is read: ``temperature`` takes °C or kelvin (``45``, ``318K``), see
+:func:`partsdb.units.parse_temperature`."""
 
 
 @dataclass(frozen=True)
@@ -98,8 +100,8 @@ STRESS_FIELDS: tuple[SpecField, ...] = (
     SpecField("power", "Dissipation", "W", "--power", "Dissipation in the part, e.g. 300mW.",
               short="P"),
     SpecField("ambient", "Ambient", "°C", "--ambient",
-              "Air temperature around the part in °C (default 25).", short="Ta",
-              positive=False, default=DEFAULT_AMBIENT, sets_need=False),
+              "Air temperature around the part in °C, or kelvin as 318K (default 25).",
+              kind="temperature", short="Ta", positive=False, default=DEFAULT_AMBIENT, sets_need=False),
     SpecField("freq", "Highest signal frequency", "Hz", "--freq",
               "Highest signal frequency the stage must amplify, e.g. 20kHz.", short="f"),
     SpecField("heatsink", "Heat sink (sink to ambient)", "K/W", "--heatsink",

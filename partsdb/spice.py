@@ -29,6 +29,14 @@ from partsdb.bias import (
 )
 from partsdb.device import Device
 
+EG_GERMANIUM = 0.67
+"""Band gap for germanium cards, eV (common practice in germanium SPICE models; about 0.66 eV
+at 300 K). Without it SPICE uses its default 1.11 eV, silicon's, and a germanium junction's
+Vbe falls about -3.3 mV/K instead of about -1.8 to -2 mV/K."""
+XTI_DEFAULT = 3.0
+"""Saturation-current temperature exponent (the SPICE default for a junction transistor,
+written out so the card states its whole temperature model)."""
+
 BF_DEFAULT = 100.0
 """BF when the record has no hFE (SPICE's own default is 100)."""
 VBE_IC_DEFAULT = 1e-3
@@ -61,22 +69,25 @@ def model_card(device: Device) -> str:
         lines.append(f"* BF = {_g(hfe)}: geometric mean of the hFE window {window}")
     params.append(f"BF={_g(hfe)}")
     vt = thermal_voltage(25.0)
-    if device.vbe_on is not None and device.vbe_ic is not None:
-        vbe, ic = device.vbe_on, device.vbe_ic
-        lines.append(f"* IS from Vbe(on) {_g(vbe)} V at {_g(ic)} A: IS = Ic/(exp(Vbe/Vt)-1), "
-                     f"Vt {vt * 1e3:.4g} mV at 25 C")
-    else:
-        vbe = VBE_DARLINGTON if device.kind == "darlington" else VBE_DEFAULT.get(
-            device.material, 0.65)
-        ic = VBE_IC_DEFAULT
-        lines.append(f"* IS from a default Vbe {_g(vbe)} V at {_g(ic)} A for "
-                     f"{device.material} (no Vbe(on) in the record; common practice)")
     nf = 1.0
     if device.kind == "darlington":
         # Two junctions in series: the pair's Vbe grows with 2 Vt per e-fold of current.
         nf = 2.0
         lines.append("* NF = 2: a Darlington pair approximated as one device with two "
                      "junction drops")
+    formula = ("IS = Ic/(exp(Vbe/Vt)-1)" if nf == 1.0
+               else f"IS = Ic/(exp(Vbe/({_g(nf)} Vt))-1)")
+    if device.vbe_on is not None and device.vbe_ic is not None:
+        vbe, ic = device.vbe_on, device.vbe_ic
+        lines.append(f"* IS from Vbe(on) {_g(vbe)} V at {_g(ic)} A: {formula}, "
+                     f"Vt {vt * 1e3:.4g} mV at 25 C")
+    else:
+        vbe = VBE_DARLINGTON if device.kind == "darlington" else VBE_DEFAULT.get(
+            device.material, 0.65)
+        ic = VBE_IC_DEFAULT
+        lines.append(f"* IS from a default Vbe {_g(vbe)} V at {_g(ic)} A for "
+                     f"{device.material} (no Vbe(on) in the record; common practice): "
+                     f"{formula}, Vt {vt * 1e3:.4g} mV at 25 C")
     i_s = ic / math.expm1(vbe / (nf * vt))
     params.append(f"IS={i_s:.6e}")
     if nf != 1.0:
@@ -88,9 +99,15 @@ def model_card(device: Device) -> str:
         params.append(f"TF={tf:.6e}")
     else:
         lines.append("* TF: default 0 (no fT in the record)")
+    if device.material == "ge":
+        lines.append(f"* EG = {_g(EG_GERMANIUM)} eV, XTI = {_g(XTI_DEFAULT)}: germanium's band "
+                     "gap for the temperature model (common practice; SPICE's default EG "
+                     "1.11 eV is silicon's)")
+        params += [f"EG={_g(EG_GERMANIUM)}", f"XTI={_g(XTI_DEFAULT)}"]
     params.append("TNOM=25")
-    lines.append("* defaults: BR=1, VAF=inf, IKF=inf, RB=RE=RC=0, CJE=CJC=0 "
-                 "(not from the record)")
+    lines.append("* defaults: BR=1, VAF=inf, IKF=inf, RB=RE=RC=0, CJE=CJC=0"
+                 + ("" if device.material == "ge" else ", EG=1.11, XTI=3")
+                 + " (not from the record)")
     lines.append(f".model {model_name(device.designation)} {kind}({' '.join(params)})")
     return "\n".join(lines) + "\n"
 
@@ -109,11 +126,13 @@ def stage_netlist(stage: Stage, device_params: TransistorParams, ambient: float 
     bf = p.hfe if beta is None else beta
     i_s = saturation_current(p, ambient)
     nf = ""
+    formula = "IS = Ic/(exp(Vbe/Vt)-1)"
     if p.kind == "darlington":
         # Two junctions in series (see model_card): emission coefficient 2, IS to match.
         ic_test = p.vbe_ic if p.vbe_ic is not None else VBE_IC_DEFAULT
         i_s = ic_test / math.expm1(vbe_at(p, ambient) / (2.0 * thermal_voltage(ambient)))
         nf = " NF=2"
+        formula = "IS = Ic/(exp(Vbe/(2 Vt))-1)"
     vcc = stage.vcc if npn else -stage.vcc
     icbo = leakage_at(p, ambient) if leakage else 0.0
     name = model_name(p.name)
@@ -121,8 +140,9 @@ def stage_netlist(stage: Stage, device_params: TransistorParams, ambient: float 
               else f"Vbe {p.vbe:g} V at an assumed {VBE_IC_DEFAULT:g} A")
     lines = [
         f"* partsdb: {stage.network} bias, {kind} {p.name}, {ambient:g} C",
-        f"* IS from {source}, shifted -2 mV/K to {ambient:g} C (common practice); "
-        f"BF = {_g(bf)}",
+        f"* IS from {source}, shifted -{2 if p.kind != 'darlington' else 4} mV/K to "
+        f"{ambient:g} C (common practice): {formula} with Vt at {ambient:g} C; BF = {_g(bf)}",
+        "* TNOM = .temp: the temperature shift is partsdb's, not SPICE's own model",
         f"VCC vcc 0 DC {_g(vcc)}",
     ]
     if stage.network == "divider":
@@ -139,7 +159,10 @@ def stage_netlist(stage: Stage, device_params: TransistorParams, ambient: float 
         "VMB b bq DC 0",
         f"Q1 cq bq e {name}",
     ]
-    if icbo > 0:
+    if icbo > 0 and p.kind == "darlington":
+        # A pair's own leakage, at its terminals: collector to emitter, not amplified.
+        lines.append(f"ILK {'cq e' if npn else 'e cq'} DC {icbo:.6e}")
+    elif icbo > 0:
         # Collector-base leakage: a current source from collector to base inside the device.
         lines.append(f"ILK {'cq bq' if npn else 'bq cq'} DC {icbo:.6e}")
     lines += [

@@ -170,3 +170,40 @@ def parse_range(text: str, unit: str, field: str) -> Range:
     if low > high:
         raise UnitError(field, text, f"a range whose low end is not above its high end ({s})")
     return Range(low, high)
+
+
+ZERO_CELSIUS = 273.15
+"""0 °C in kelvin (SI Brochure, 9th ed., 2.3.1: t/°C = T/K - 273.15)."""
+
+# "45", "-20", "45C", "45 °C", "45°C", "45 degC", "45 ℃" (Celsius) and "318K", "318 K"
+# (kelvin). Only here is "K" the kelvin; everywhere else it stays the kilo prefix.
+_TEMPERATURE = re.compile(
+    rf"^(?P<num>{_NUMBER})\s*(?:(?P<celsius>°\s*C|C|degC|deg\s*C|℃)|(?P<kelvin>K))?$",
+    re.IGNORECASE)
+
+
+def parse_temperature(text: object, field: str = "ambient") -> float:
+    """An ambient or case temperature in °C from ``45``, ``45C``, ``45 °C`` or ``318K``.
+
+    A bare number is degrees Celsius (the unit of every datasheet); a trailing ``K`` means
+    kelvin and is converted (t/°C = T/K - 273.15). Raises :class:`UnitError` naming ``field``.
+    """
+    expected = "a temperature such as 45, 45 °C or 318 K"
+    if isinstance(text, int | float) and not isinstance(text, bool):
+        value = float(text)
+        if not math.isfinite(value) or value <= -ZERO_CELSIUS:
+            raise UnitError(field, text, expected + " (above absolute zero)")
+        return value
+    if not isinstance(text, str):
+        raise UnitError(field, text, expected)
+    m = _TEMPERATURE.match(text.strip())
+    if m is None:
+        raise UnitError(field, text, expected)
+    value = float(m.group("num"))
+    if m.group("kelvin"):
+        if value < 0:
+            raise UnitError(field, text, "a kelvin temperature of 0 K or more")
+        value = round(value - ZERO_CELSIUS, 9)  # 318 K -> 44.85, not 44.850000000000023
+    if not math.isfinite(value) or value <= -ZERO_CELSIUS:
+        raise UnitError(field, text, expected + " (above absolute zero)")
+    return value

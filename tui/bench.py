@@ -37,7 +37,7 @@ FIELDS: tuple[tuple[str, str, str, str], ...] = (
     ("rb", "Rb", "Ω", ""),
     ("rc", "Rc", "Ω", "2k2"),
     ("re", "Re", "Ω", "470"),
-    ("ambient", "Ambient", "°C", "25"),
+    ("ambient", "Ambient", "°C", "25"),  # read by parse_temperature: 45, 45 °C or 318K
 )
 DEFAULT_NETWORK = "divider"
 """The network the form starts with (one of partsdb.bias.NETWORKS)."""
@@ -127,13 +127,18 @@ class BenchView(Horizontal):
 
     def _solve(self) -> tuple[BiasReport, list[Device], float]:
         from partsdb.bias import Stage, analyse_bias, params_from_device, predict_swap
-        from partsdb.units import parse_quantity
+        from partsdb.units import parse_quantity, parse_temperature
 
         network = str(self.query_one("#bn-network", Select).value)
         values: dict[str, float | None] = {}
         for ident, label, unit, _ in FIELDS:
             text = self._text(ident)
-            values[ident] = parse_quantity(text, unit, label) if text else None
+            if not text:
+                values[ident] = None
+            elif ident == "ambient":  # °C, or kelvin with a K ("318K")
+                values[ident] = parse_temperature(text, label)
+            else:
+                values[ident] = parse_quantity(text, unit, label)
         needed = ("r1", "r2") if network == "divider" else ("rb",)
         for name in ("r1", "r2", "rb"):
             if name not in needed:
@@ -200,9 +205,13 @@ class BenchView(Horizontal):
             fix = report.fix
             name = fix.resistor.upper()
             parts.append(Text(
-                f"Fix: {name} {fq(fix.original_value, 'Ω')} -> {fq(fix.exact, 'Ω')} exact; "
-                f"E12 {fq(fix.e12.value, 'Ω')} gives Ic {fq(fix.e12.ic, 'A')}, "
-                f"E24 {fq(fix.e24.value, 'Ω')} gives Ic {fq(fix.e24.ic, 'A')}", style="cyan"))
+                f"Fix: {name} {fq(fix.original_value, 'Ω')} -> {fq(fix.exact, 'Ω')} exact, "
+                f"for Ic {fq(fix.target_ic, 'A')}, {fix.target}", style="cyan"))
+            for label, opt in (("E12", fix.e12), ("E24", fix.e24)):
+                parts.append(Text(
+                    f"  {label} {fq(opt.value, 'Ω')}: Ic {fq(opt.ic, 'A')} ({opt.region}); "
+                    f"hFE min {fq(opt.ic_hfe_min, 'A')} ({opt.region_hfe_min}), "
+                    f"hFE max {fq(opt.ic_hfe_max, 'A')} ({opt.region_hfe_max})", style="cyan"))
         for note in [*report.notes, *(n for r in results for n in r.notes),
                      *(n for c in checks for n in c.notes)]:
             parts.append(Text("· " + note, style="dim"))

@@ -14,6 +14,7 @@ import click
 from partsdb.cli.common import (
     CliState,
     QuantityParam,
+    TemperatureParam,
     emit_json,
     fail,
     format_option,
@@ -57,8 +58,8 @@ def _policy(name: str) -> Policy:
               help="Collector current magnitude, e.g. 150mA.")
 @click.option("--power", type=QuantityParam("W", "power", positive=False), default=None,
               help="Dissipation if not Vce x Ic (e.g. with a pulsed or AC load), e.g. 2W.")
-@click.option("--ambient", type=QuantityParam("°C", "ambient", positive=False), default=25.0,
-              show_default=True, help="Ambient temperature, °C.")
+@click.option("--ambient", type=TemperatureParam("ambient"), default=25.0, show_default=True,
+              help="Ambient temperature: °C (45, 45C, 45 °C) or kelvin (318K).")
 @click.option("--heatsink", type=QuantityParam("K/W", "heatsink"), default=None,
               help="Sink-to-ambient thermal resistance, K/W (omit for no heat sink).")
 @click.option("--case-to-sink", type=QuantityParam("K/W", "case_to_sink", positive=False),
@@ -151,8 +152,8 @@ def _device_params(state: CliState, designation: str) -> Any:
               help="With --vbe: its test current (enables the exponential model).")
 @click.option("--substitute", "substitute_name", default=None,
               help="Stored device to swap in: predicts the shift and the resistor fix.")
-@click.option("--ambient", type=QuantityParam("°C", "ambient", positive=False), default=25.0,
-              show_default=True, help="Ambient temperature, °C.")
+@click.option("--ambient", type=TemperatureParam("ambient"), default=25.0, show_default=True,
+              help="Ambient temperature: °C (45, 45C, 45 °C) or kelvin (318K).")
 @click.option("--no-leakage", is_flag=True, help="Ignore collector-base leakage Icbo.")
 @click.option("--model", type=click.Choice(("auto", "fixed-vbe", "exponential")),
               default="auto", show_default=True,
@@ -271,10 +272,13 @@ def _print_bias(report: BiasReport) -> None:
         f = report.fix
         name = f.resistor.upper()
         click.echo(f"Fix: change {name} from {_q(f.original_value, 'Ω')} to "
-                   f"{_q(f.exact, 'Ω', 4)} (exact) to restore Ic {_q(f.target_ic, 'A')}:")
+                   f"{_q(f.exact, 'Ω', 4)} (exact) to restore Ic {_q(f.target_ic, 'A')}, "
+                   f"{f.target}:")
         for label, opt in (("E12", f.e12), ("E24", f.e24)):
             click.echo(f"  {label} {_q(opt.value, 'Ω')}: Ic {_q(opt.ic, 'A')}, "
-                       f"Vce {_q(opt.vce, 'V')} ({opt.region})")
+                       f"Vce {_q(opt.vce, 'V')} ({opt.region}); at hFE min "
+                       f"{_q(opt.ic_hfe_min, 'A')} ({opt.region_hfe_min}), at hFE max "
+                       f"{_q(opt.ic_hfe_max, 'A')} ({opt.region_hfe_max})")
     for r in results:
         for note in r.notes:
             click.echo(f"note: {note}")

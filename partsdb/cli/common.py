@@ -83,6 +83,26 @@ class QuantityParam(click.ParamType):
         return number
 
 
+class TemperatureParam(click.ParamType):
+    """An ambient or case temperature: "45", "45C", "45 °C" (°C) or "318K" (kelvin) -> °C."""
+
+    name = "temperature"
+
+    def __init__(self, field: str | None = None) -> None:
+        self.field = field
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None) -> float:
+        from partsdb.units import UnitError, parse_temperature
+
+        if isinstance(value, float):
+            return value
+        name = self.field or (param.name if param and param.name else "temperature")
+        try:
+            return parse_temperature(value, name)
+        except UnitError as err:
+            self.fail(str(err), param, ctx)
+
+
 class RangeParam(click.ParamType):
     """A window such as "60..180" -> (low, high); a single value gives (v, v)."""
 

@@ -14,6 +14,7 @@ from partsdb.cli.common import (
     CliState,
     QuantityParam,
     RangeParam,
+    TemperatureParam,
     emit_json,
     fail,
     format_option,
@@ -29,6 +30,8 @@ def _option(row: SpecField) -> Any:
         kind: Any = click.Choice(list(row.choices))
     elif row.kind == "window":
         kind = RangeParam(row.unit, row.name)
+    elif row.kind == "temperature":
+        kind = TemperatureParam(row.name)
     elif row.kind == "quantity":
         kind = QuantityParam(row.unit, row.name, positive=row.positive)
     else:

@@ -355,14 +355,15 @@ def parse_spec(text: str) -> dict[str, Any]:
 def parse_stress(texts: Mapping[str, str]) -> Stress:
     """The circuit stress from text per stress field (``{"vce_peak": "18V"}``; blank: not given),
     each read in its row's unit (:data:`partsdb.spec_fields.STRESS_FIELDS`)."""
-    from partsdb.units import UnitError, parse_quantity
+    from partsdb.units import UnitError, parse_quantity, parse_temperature
 
     values: dict[str, float] = {}
     for row in STRESS_FIELDS:
         text = (texts.get(row.name) or "").strip()
         if text:
             try:
-                values[row.name] = parse_quantity(text, row.unit, row.name)
+                values[row.name] = (parse_temperature(text, row.name) if row.kind == "temperature"
+                                    else parse_quantity(text, row.unit, row.name))
             except UnitError as err:
                 raise SpecError(str(err)) from err
     return Stress.from_values(values)

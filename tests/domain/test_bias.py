@@ -292,4 +292,7 @@ def test_fix_exact_value_restores_original_ic(network: str, vcc: float, r1: floa
     assert report.fix is not None
     fixed = stage.with_resistor(report.fix.resistor, report.fix.exact)
     ic = solve_point(fixed, sub, model).ic
-    assert ic == pytest.approx(report.original.point.ic, rel=1e-3)
+    # The target is the design point: the original at 25 °C without its leakage (issue 13).
+    design = solve_point(stage, orig, model, 25.0, leakage=False).ic
+    assert report.fix.target_ic == pytest.approx(design, rel=1e-12)
+    assert ic == pytest.approx(design, rel=1e-3)

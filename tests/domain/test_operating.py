@@ -64,6 +64,10 @@ def test_chain_power_is_the_worked_chain_solved_for_power() -> None:
 ])
 def test_linear_derating(ambient: float, expected: float) -> None:
     assert derated_power(0.625, 150.0, ambient) == pytest.approx(expected, abs=1e-12)
+    if ambient >= 150.0:  # an ambient at or above Tj max is refused (issue 13, item 8)
+        with pytest.raises(ValueError, match="Tj max"):
+            check_operating_point(small_signal(), vce=1.0, ic=1e-3, ambient=ambient)
+        return
     r = check_operating_point(small_signal(), vce=1.0, ic=1e-3, ambient=ambient)
     power = next(lim for lim in r.limits if lim.parameter == "power")
     assert power.limit == pytest.approx(expected, abs=1e-12)

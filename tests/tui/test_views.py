@@ -324,6 +324,32 @@ async def test_bench_bad_resistor_is_inline(shop_db: Any) -> None:
         assert view.report is None
 
 
+async def test_bench_takes_kelvin_and_refuses_ambient_above_tj_max(shop_db: Any) -> None:
+    # 318 K = 44.85 °C (SI Brochure, 9th ed., 2.3.1); at or above Tj max nothing is solved.
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=(120, 40)) as pilot:
+        await pilot.press("f5")
+        await pilot.pause()
+        view = app.view("bench")
+        view.query_one("#bn-ambient").value = "318K"
+        await type_text(pilot, "QX3301")
+        await pilot.press("tab")
+        await type_text(pilot, "QX3302")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert view.report is not None
+        assert "44.85 °C" in static_text(view.query_one("#bench-result", Static))
+        assert view.report.fix is not None
+        assert "hFE min" in static_text(view.query_one("#bench-result", Static))
+        view.report = None
+        view.query_one("#bn-ambient").value = "400"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert "NOT SOLVED" in static_text(view.query_one("#bench-error", Static))
+        assert "ambient" in static_text(view.query_one("#bench-error", Static))
+        assert view.report is None
+
+
 async def test_ledger_filters(shop_db: Any) -> None:
     app = build_app(shop_db, cursor_blink=False)
     async with app.run_test(size=SIZE) as pilot:
