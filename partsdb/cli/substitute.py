@@ -89,6 +89,7 @@ def _stress(vce_peak: float | None, ic_peak: float | None, power: float | None,
 @click.option("--output", type=click.Path(dir_okay=False, path_type=Path), default=None,
               help="Write the md/html job sheet to this file instead of the screen.")
 @click.option("--job", default=None, help="Job reference to print on the md/html job sheet.")
+@click.option("--force", is_flag=True, help="Replace the --output file if it exists.")
 @pass_state
 def substitute(state: CliState, designation: str | None, polarity: str | None,
                kind: str | None, material: str | None, vceo: float | None, vcbo: float | None,
@@ -98,7 +99,7 @@ def substitute(state: CliState, designation: str | None, polarity: str | None,
                ic_peak: float | None, power: float | None, ambient: float | None,
                freq: float | None, heatsink: float | None, policy_name: str | None,
                show_rejected: bool, in_stock: bool, limit: int, fmt: str, output: Path | None,
-               job: str | None) -> None:
+               job: str | None, force: bool) -> None:
     """Rank substitutes for DESIGNATION (its stored record is the requirement) or for a spec.
 
     Give circuit stress (--vce-peak, --ic-peak, --power, --ambient, --freq, --heatsink) to judge
@@ -138,7 +139,10 @@ def substitute(state: CliState, designation: str | None, polarity: str | None,
         if output is None:
             click.echo(text)
         else:
-            output.write_text(text, encoding="utf-8")
+            from partsdb.services.files import protected_files, write_text
+
+            write_text(output, text, force=force, protect=protected_files(state.database()),
+                       what="--output")
             click.echo(f"job sheet written to {output}", err=True)
         return
     _print_result(result)

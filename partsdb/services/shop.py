@@ -299,21 +299,16 @@ def _decoder(column_type: Any) -> Callable[[str], Any]:
     return lambda s: s[1:] if s.startswith("\\") else s
 
 
-def _refuse_existing(dest: Path, force: bool) -> None:
-    if dest.is_dir():
-        raise BackupError(f"backup: {str(dest)!r} is a folder; expected a file name such as "
-                          "shop-backup.zip")
-    if dest.exists() and not force:
-        raise BackupError(f"backup: {str(dest)!r} exists; nothing was written "
-                          "(use --force to overwrite it)")
-
-
 def backup(db: Database, dest: str | os.PathLike[str], fmt: str = "auto",
            force: bool = False) -> BackupReport:
     """Write a consistent backup of ``db`` to ``dest`` (``fmt``: auto, sqlite or zip).
 
-    The file appears at ``dest`` only when complete (written beside it, then renamed).
+    Written through :func:`partsdb.services.files.atomic_path`: the file appears at ``dest``
+    only when complete; the database's own files are refused; hidden partial files left by a
+    killed earlier backup to the same ``dest`` are removed first.
     """
+    from partsdb.services.files import atomic_path, protected_files
+
     path = Path(dest)
     if fmt == "auto":
         fmt = "sqlite" if db.dialect == "sqlite" else "zip"
@@ -322,21 +317,11 @@ def backup(db: Database, dest: str | os.PathLike[str], fmt: str = "auto",
     if fmt == "sqlite" and db.dialect != "sqlite":
         raise BackupError(f"backup format sqlite needs a SQLite database, not {db.dialect}; "
                           "use the zip format")
-    _refuse_existing(path, force)
-    if db.dialect == "sqlite" and db.url.database and path.resolve() == Path(db.url.database).resolve():
-        raise BackupError(f"backup: {str(path)!r} is the database itself; choose another file")
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp_name = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
-    os.close(fd)
-    tmp = Path(tmp_name)
-    try:
+    with atomic_path(path, force=force, protect=protected_files(db), what="backup") as tmp:
         if fmt == "sqlite":
             revision, counted = _backup_sqlite(db, tmp)
         else:
             revision, counted = _backup_zip(db, tmp)
-        os.replace(tmp, path)
-    finally:
-        tmp.unlink(missing_ok=True)
     return BackupReport(path, fmt, revision, counted)
 
 
