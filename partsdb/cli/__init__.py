@@ -29,6 +29,12 @@ class PartsdbGroup(click.Group):
 
             click.echo(f"error: {mask_url(str(err))}", err=True)
             sys.exit(err.exit_code)
+        except BrokenPipeError:
+            # The reader of our output went away (``| head``): stop quietly, as other tools do.
+            import os
+
+            os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+            sys.exit(0)
         except OSError as err:
             # The machine refused (disk full, no permission, missing folder): one line, exit 3.
             from partsdb.errors import EXIT_ENVIRONMENT
