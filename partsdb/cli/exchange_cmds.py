@@ -46,7 +46,6 @@ def import_stock(state: CliState, file: str) -> None:
     that lot to the quantity given (a count, recorded in the ledger). FILE `-` reads standard
     input."""
     from partsdb.services import exchange
-
     from partsdb.services.files import input_path
 
     with input_path(file) as path, state.database().session() as session:
@@ -68,12 +67,11 @@ def export_devices(state: CliState, file: str, force: bool) -> None:
     complete; an existing FILE or a file of the open database is refused (--force replaces an
     existing FILE, never the database)."""
     from partsdb.services import exchange
-
     from partsdb.services.files import atomic_open, protected_files
 
     db = state.database()
     with atomic_open(file, force=force, protect=protected_files(db),
-                     what=f"export devices") as handle, db.session() as session:
+                     what="export devices") as handle, db.session() as session:
         n = exchange.export_devices(session, handle)  # type: ignore[arg-type]
     click.echo(f"exported {n} device(s) to {'standard output' if file == '-' else file}",
                err=file == "-")
@@ -86,12 +84,11 @@ def export_devices(state: CliState, file: str, force: bool) -> None:
 def export_stock(state: CliState, file: str, force: bool) -> None:
     """Export every lot to FILE (`-`: standard output); written like `export devices`."""
     from partsdb.services import exchange
-
     from partsdb.services.files import atomic_open, protected_files
 
     db = state.database()
     with atomic_open(file, force=force, protect=protected_files(db),
-                     what=f"export stock") as handle, db.session() as session:
+                     what="export stock") as handle, db.session() as session:
         n = exchange.export_stock(session, handle)  # type: ignore[arg-type]
     click.echo(f"exported {n} lot(s) to {'standard output' if file == '-' else file}",
                err=file == "-")

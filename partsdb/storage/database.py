@@ -176,7 +176,7 @@ def make_engine(url: URL, read_only: bool = False) -> Engine:
             path = Path(url.database)
             if not path.is_file():
                 raise DatabaseError(f"the database {str(path)!r} does not exist; nothing was "
-                                    "created (--read-only)")
+                                    "created (opened read-only)")
             uri = f"file:{quote(str(path))}?mode=ro"
 
             def connect() -> sqlite3.Connection:
@@ -366,7 +366,7 @@ def open_database(target: str | os.PathLike[str] | None = None, *, read_only: bo
                             f"has an older schema ({current}; this partsdb uses {head})")
                     raise ReadOnlyError(
                         f"the database {mask_url(url)} {what}; nothing was changed "
-                        f"(--read-only); `partsdb --db PATH init` without --read-only "
+                        f"(opened read-only); `partsdb --db PATH init` without --read-only "
                         + ("creates" if current is None else "upgrades") + " it")
                 if upgrade_schema:
                     fresh = current is None and not inspect(engine).get_table_names()
