@@ -23,6 +23,7 @@ from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Button, DataTable, Label, Select, Static
 
+from partsdb.errors import PartsdbError
 from tui.inputs import TextField
 from tui.stock_forms import StockForm, StockRequest
 
@@ -117,8 +118,10 @@ class PromptForm(ModalScreen[dict[str, str] | None]):
         if self.check is not None:
             try:
                 message = self.check(values)
-            except (ValueError, LookupError, OSError) as err:
-                message = f"REFUSED: {err}"
+            except (ValueError, LookupError, OSError, PartsdbError) as err:
+                from partsdb.storage.database import mask_url
+
+                message = f"REFUSED: {mask_url(str(err))}"
             if message:
                 self.query_one("#form-message", Static).update(message)
                 return
@@ -400,6 +403,11 @@ class SubstituteView(Vertical):
         if c is None or service is None or self.original is None:
             self.notify("Rank substitutes for a stored original first.", severity="warning")
             return
+        if self.db.read_only:
+            self.notify("This database is open read-only (--read-only): the swap log cannot "
+                        "be changed.", severity="warning")
+            self._status(Text("Read-only: the swap was not recorded.", style="yellow"))
+            return
 
         def check(values: dict[str, str]) -> str:
             if not values["job"]:
@@ -435,8 +443,11 @@ class SubstituteView(Vertical):
             if path.suffix.lower() not in (".md", ".html", ".htm"):
                 return f"file: {values['path']!r} is not valid; expected a name ending in .md or .html"
             render = render_markdown if path.suffix.lower() == ".md" else render_html
-            path.write_text(render(self.result, job=values["job"] or None,
-                                   date=date.today().isoformat()), encoding="utf-8")
+            from partsdb.services.files import protected_files, write_text
+
+            write_text(path, render(self.result, job=values["job"] or None,
+                                    date=date.today().isoformat()),
+                       protect=protected_files(self.db), what="report")
             return ""
 
         self.app.push_screen(PromptForm("Save the report (Markdown .md or HTML .html)",
