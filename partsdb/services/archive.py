@@ -203,11 +203,9 @@ def _decoder(column: Any) -> Callable[[str], Any]:
         low, high = INT64 if isinstance(kind, BigInteger) else INT32
 
         def integer(s: str) -> int:
-            if not _INT.fullmatch(s):
-                raise ValueError("expected a whole number")
-            value = int(s)
-            if not low <= value <= high:
+            if not _INT.fullmatch(s) or not low <= int(s) <= high:
                 raise ValueError(f"expected a whole number from {low} to {high}")
+            value = int(s)
             return value
         return integer
     if isinstance(kind, Float):
