@@ -422,7 +422,9 @@ def restore(db: Database, src: str | os.PathLike[str], force: bool = False,
             allow_empty: bool = False) -> CopyReport:
     """Replace the content of ``db`` by the backup at ``src`` (refused if ``db`` holds data
     and ``force`` is not given, or if the backup would empty it and ``allow_empty`` is not
-    given); verified against the backup's own tally."""
+    given); verified against the backup's own tally. Working copies left by a killed
+    earlier restore are removed first."""
+    remove_stale_restore_copies()
     kind = backup_kind(src)
     if kind == "sqlite":
         return _restore_sqlite(db, Path(src), force, allow_empty)
@@ -470,7 +472,6 @@ def _restore_sqlite(db: Database, src: Path, force: bool, allow_empty: bool) -> 
                           "a newer partsdb")
     # An older schema is upgraded on a working copy, so the backup itself stays as made. The
     # copy's folder carries this process's id: the next restore removes it if this one is killed.
-    remove_stale_restore_copies()
     folder = tempfile.mkdtemp(prefix=f"{RESTORE_WORK_PREFIX}{os.getpid()}-")
     try:
         work = Path(folder) / "backup.sqlite"
