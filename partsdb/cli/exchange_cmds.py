@@ -72,7 +72,7 @@ def export_devices(state: CliState, file: str, force: bool) -> None:
     db = state.database()
     with atomic_open(file, force=force, protect=protected_files(db),
                      what="export devices") as handle, db.session() as session:
-        n = exchange.export_devices(session, handle)  # type: ignore[arg-type]
+        n = exchange.export_devices(session, handle)
     click.echo(f"exported {n} device(s) to {'standard output' if file == '-' else file}",
                err=file == "-")
 
@@ -89,7 +89,7 @@ def export_stock(state: CliState, file: str, force: bool) -> None:
     db = state.database()
     with atomic_open(file, force=force, protect=protected_files(db),
                      what="export stock") as handle, db.session() as session:
-        n = exchange.export_stock(session, handle)  # type: ignore[arg-type]
+        n = exchange.export_stock(session, handle)
     click.echo(f"exported {n} lot(s) to {'standard output' if file == '-' else file}",
                err=file == "-")
 
