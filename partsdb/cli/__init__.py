@@ -44,7 +44,7 @@ class PartsdbGroup(click.Group):
             click.echo(f"error: {mask_url(err.strerror or str(err))}{mask_url(where)}", err=True)
             sys.exit(EXIT_ENVIRONMENT)
         except Exception as err:
-            if not type(err).__module__.startswith("sqlalchemy"):
+            if not type(err).__module__.startswith(("sqlalchemy", "sqlite3")):
                 raise
             # A database failure no service turned into a message: its first line, masked.
             from partsdb.errors import EXIT_ENVIRONMENT

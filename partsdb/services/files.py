@@ -23,6 +23,7 @@ from __future__ import annotations
 import contextlib
 import os
 import secrets
+import sqlite3
 import stat
 from collections.abc import Iterable, Iterator
 from pathlib import Path
@@ -193,6 +194,9 @@ def atomic_path(dest: str | os.PathLike[str], *, force: bool = False,
             os.replace(tmp, path)
         except OSError as err:
             raise _oserror(what, dest, err) from err
+        except sqlite3.Error as err:  # SQLite writing the file (a backup): disk full, I/O error
+            raise FileProblem(f"{what}: cannot write {str(dest)!r}: {err}; nothing was "
+                              "written") from err
         _fsync_folder(path.parent)
     finally:
         for suffix in DB_SUFFIXES:

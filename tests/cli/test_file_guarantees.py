@@ -182,6 +182,8 @@ def test_full_disk_and_read_only_mount(shop: Path, tiny_mount: Path) -> None:
     full = _cli("--db", str(shop), "export", "devices", str(out), "--force")
     assert full.exit_code == 3, full.output  # type: ignore[attr-defined]
     assert "No space left" in full.output  # type: ignore[attr-defined]
+    backup = _cli("--db", str(shop), "backup", str(tiny_mount / "b.sqlite"))
+    assert backup.exit_code == 3 and _one_error_line(backup), backup.output  # type: ignore[attr-defined]
     assert _listing(tiny_mount) == before
     keep.unlink()
     # A database on a read-only mount: look-ups work with --read-only, init is one line.
