@@ -253,11 +253,18 @@ def input_path(source: str | os.PathLike[str]) -> Iterator[Path]:
     import sys
     import tempfile
 
+    from partsdb.errors import PartsdbError
+
     with tempfile.TemporaryDirectory(prefix="partsdb-stdin-") as folder:
         copy = Path(folder) / "stdin.csv"
         with copy.open("wb") as handle:
             shutil.copyfileobj(sys.stdin.buffer, handle)
-        yield copy
+        try:
+            yield copy
+        except PartsdbError as err:  # name the input as the user gave it, not the copy
+            err.args = tuple(a.replace(str(copy), "standard input") if isinstance(a, str)
+                             else a for a in err.args)
+            raise
 
 
 __all__ = ["FileProblem", "OutputRefused", "atomic_open", "atomic_path", "check_destination",

@@ -507,8 +507,9 @@ def _require_partsdb_file(src: Path) -> str:
         raise BackupError(f"restore: {str(src)!r} is a SQLite file without a partsdb schema "
                           "revision")
     if not check or check[0] != "ok":
+        detail = " ".join(str(check[0] if check else None).split())
         raise BackupError(f"restore: {str(src)!r} is damaged (SQLite quick_check: "
-                          f"{str(check[0] if check else None)[:120]})")
+                          f"{detail[:120]})")
     return row[0]
 
 

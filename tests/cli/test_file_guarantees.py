@@ -430,3 +430,25 @@ def test_passwords_never_printed(url: str) -> None:
     assert result.exit_code == 3 and _one_error_line(result), result.output  # type: ignore[attr-defined]
     for piece in ("Pw9s", "cret", "Ecret"):
         assert piece not in result.output, result.output  # type: ignore[attr-defined]
+
+
+def test_import_from_empty_standard_input_names_it(tmp_path: Path) -> None:
+    result = _cli("--db", str(tmp_path / "x.sqlite"), "-q", "import", "devices", "-", input="")
+    assert result.exit_code == 2 and "standard input" in result.output  # type: ignore[attr-defined]
+    assert "partsdb-stdin" not in result.output  # type: ignore[attr-defined]
+
+
+def test_damaged_sqlite_backup_is_one_line(shop: Path, tmp_path: Path) -> None:
+    """Bytes overwritten inside a b-tree page: SQLite's quick_check finds it (SQLite docs,
+    "PRAGMA quick_check"); the restore refuses with one line and changes nothing."""
+    backup = tmp_path / "b.sqlite"
+    assert _cli("--db", str(shop), "backup", str(backup)).exit_code == 0  # type: ignore[attr-defined]
+    data = bytearray(backup.read_bytes())
+    data[20000:20100] = b"x" * 100
+    backup.write_bytes(bytes(data))
+    target = tmp_path / "t.sqlite"
+    assert _cli("--db", str(target), "-q", "init").exit_code == 0  # type: ignore[attr-defined]
+    before = hashlib.sha256(target.read_bytes()).hexdigest()
+    result = _cli("--db", str(target), "restore", "--force", str(backup))
+    assert result.exit_code == 2 and _one_error_line(result), result.output  # type: ignore[attr-defined]
+    assert hashlib.sha256(target.read_bytes()).hexdigest() == before
