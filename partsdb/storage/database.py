@@ -164,6 +164,13 @@ def _sqlite_read_only_pragmas(dbapi_connection: Any, _record: Any) -> None:
     cursor.close()
 
 
+def _on_read_only_mount(path: Path) -> bool:
+    try:
+        return bool(os.statvfs(path.parent).f_flag & os.ST_RDONLY)
+    except (OSError, AttributeError):  # no statvfs (Windows)
+        return False
+
+
 def make_engine(url: URL, read_only: bool = False) -> Engine:
     """An engine for ``url``. ``read_only`` opens SQLite with ``mode=ro`` (the file must exist;
     nothing is created) and runs every PostgreSQL transaction READ ONLY."""
@@ -180,7 +187,19 @@ def make_engine(url: URL, read_only: bool = False) -> Engine:
             uri = f"file:{quote(str(path))}?mode=ro"
 
             def connect() -> sqlite3.Connection:
-                return sqlite3.connect(uri, uri=True, timeout=timeout, check_same_thread=False)
+                conn = sqlite3.connect(uri, uri=True, timeout=timeout, check_same_thread=False)
+                try:
+                    conn.execute("PRAGMA schema_version").fetchone()
+                except sqlite3.OperationalError:
+                    if not _on_read_only_mount(path):
+                        raise
+                    # A WAL database on a read-only mount: its -shm cannot be made, but nothing
+                    # can change the file either, so it is read as immutable (SQLite docs, "URI
+                    # Filenames", immutable=1).
+                    conn.close()
+                    conn = sqlite3.connect(f"{uri}&immutable=1", uri=True, timeout=timeout,
+                                           check_same_thread=False)
+                return conn
 
             engine = create_engine(url, creator=connect)
             event.listen(engine, "connect", _sqlite_read_only_pragmas)
@@ -383,9 +402,13 @@ def open_database(target: str | os.PathLike[str] | None = None, *, read_only: bo
     except (OperationalError, DBAPIError) as err:
         engine.dispose()
         text = str(getattr(err, "orig", None) or err)
+        hint = ""
+        if (url.get_backend_name() == "sqlite" and url.database and not read_only
+                and _on_read_only_mount(Path(url.database))):
+            hint = " (it is on a read-only file system: add --read-only to look things up)"
         raise DatabaseError(f"cannot open database {mask_url(url)}: "
                             f"{mask_url(text).splitlines()[0] if text else type(err).__name__}"
-                            ) from err
+                            f"{hint}") from err
     except BaseException:
         engine.dispose()
         raise

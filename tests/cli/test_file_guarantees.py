@@ -188,11 +188,15 @@ def test_full_disk_and_read_only_mount(shop: Path, tiny_mount: Path) -> None:
     keep.unlink()
     # A database on a read-only mount: look-ups work with --read-only, init is one line.
     shutil_copy(shop, tiny_mount / "ro.sqlite")
+    shutil_copy(shop, tiny_mount / "wal.sqlite", journal="WAL")
     subprocess.run(["mount", "-o", "remount,ro", str(tiny_mount)], check=True)
     before = _listing(tiny_mount)
-    look = _cli("--read-only", "--db", str(tiny_mount / "ro.sqlite"), "device", "list",
-                "--format", "csv")
-    assert look.exit_code == 0, look.output  # type: ignore[attr-defined]
+    for name in ("ro.sqlite", "wal.sqlite"):
+        look = _cli("--read-only", "--db", str(tiny_mount / name), "device", "list",
+                    "--format", "csv")
+        assert look.exit_code == 0, look.output  # type: ignore[attr-defined]
+    writer = _cli("--db", str(tiny_mount / "wal.sqlite"), "device", "list")
+    assert writer.exit_code == 3 and "--read-only" in writer.output  # type: ignore[attr-defined]
     init = _cli("--db", str(tiny_mount / "new.sqlite"), "init")
     assert init.exit_code == 3 and _one_error_line(init), init.output  # type: ignore[attr-defined]
     export = _cli("--db", str(shop), "export", "devices", str(tiny_mount / "x.csv"))
@@ -200,13 +204,14 @@ def test_full_disk_and_read_only_mount(shop: Path, tiny_mount: Path) -> None:
     assert _listing(tiny_mount) == before
 
 
-def shutil_copy(src: Path, dest: Path) -> None:
-    """Copy a SQLite file as a single DELETE-journal file (as `partsdb backup` leaves it)."""
+def shutil_copy(src: Path, dest: Path, journal: str = "DELETE") -> None:
+    """Copy a SQLite file as a single file in the given journal mode (DELETE: as `partsdb
+    backup` leaves it; WAL: as a working database is)."""
     import sqlite3
 
     with sqlite3.connect(src) as source, sqlite3.connect(dest) as target:
         source.backup(target)
-        target.execute("PRAGMA journal_mode=DELETE")
+        target.execute(f"PRAGMA journal_mode={journal}")
     source.close()
     target.close()
 
