@@ -83,7 +83,7 @@ def check_destination(dest: str | os.PathLike[str], *, force: bool = False,
         raise OutputRefused(f"{what}: {text!r} is not a file name; expected e.g. parts.csv")
     resolved = path.resolve()
     guarded = {p for p in protect}
-    if resolved in guarded:
+    if resolved in guarded or _same_file_as(path, guarded):
         raise OutputRefused(f"{what}: {text!r} is a file of the open database; "
                             "choose another file (nothing was written)")
     if path.is_dir():
@@ -101,6 +101,20 @@ def check_destination(dest: str | os.PathLike[str], *, force: bool = False,
         raise FileProblem(f"{what}: cannot write {text!r}: the folder {str(parent)!r} does "
                           "not exist; nothing was written")
     return path
+
+
+def _same_file_as(path: Path, others: set[Path]) -> bool:
+    """Whether ``path`` is one of ``others`` under another name (a hard link)."""
+    try:
+        mine = path.stat()
+    except OSError:
+        return False
+    for other in others:
+        with contextlib.suppress(OSError):
+            theirs = other.stat()
+            if (mine.st_dev, mine.st_ino) == (theirs.st_dev, theirs.st_ino):
+                return True
+    return False
 
 
 def _pid_alive(pid: int) -> bool:

@@ -98,6 +98,8 @@ def test_hostile_output_paths(shop: Path, command: list[str], what: str, templat
     existing.write_text("keep me\n")
     for suffix in ("-wal", "-shm", "-journal"):  # make every companion exist
         Path(f"{shop}{suffix}").touch()
+    (folder / "link.sqlite").symlink_to(shop)
+    os.link(shop, folder / "hard.sqlite")
     path = template.format(db=shop, dir=folder, file=existing)
     before = _listing(folder)
     result = _cli("--db", str(shop), *command, path, *(["--force"] if force else []))

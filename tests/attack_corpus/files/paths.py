@@ -14,6 +14,8 @@ OUTPUT_PATHS: tuple[tuple[str, str, bool, int], ...] = (
     ("its shared-memory index", "{db}-shm", True, 2),
     ("its rollback journal", "{db}-journal", True, 2),
     ("the database through a ./ detour", "{dir}/./sub/../shop.sqlite", True, 2),
+    ("the database through a symbolic link", "{dir}/link.sqlite", True, 2),
+    ("the database through a hard link", "{dir}/hard.sqlite", True, 2),
     ("an existing file without --force", "{file}", False, 2),
     ("a folder", "{dir}", True, 2),
     ("a name under an ordinary file", "{file}/out.csv", True, 3),
