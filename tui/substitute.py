@@ -102,8 +102,10 @@ class PromptForm(ModalScreen[dict[str, str] | None]):
         if self.check is not None:
             try:
                 message = self.check(values)
-            except (PartsdbError, ValueError, LookupError, OSError) as err:
-                message = f"REFUSED: {err}"
+            except (ValueError, LookupError, OSError, PartsdbError) as err:
+                from partsdb.storage.database import mask_url
+
+                message = f"REFUSED: {mask_url(str(err))}"
             if message:
                 self.query_one("#form-message", Static).update(message)
                 return
@@ -327,6 +329,11 @@ class SubstituteView(Vertical):
         if c is None or self.original is None:
             self.notify("Rank substitutes for a stored original first.", severity="warning")
             return
+        if self.db.read_only:
+            self.notify("This database is open read-only (--read-only): the swap log cannot "
+                        "be changed.", severity="warning")
+            self._status(Text("Read-only: the swap was not recorded.", style="yellow"))
+            return
 
         def check(values: dict[str, str]) -> str:
             if not values["job"]:
@@ -350,7 +357,10 @@ class SubstituteView(Vertical):
         default = f"substitutes-{(self.original or 'spec').lower()}.md"
 
         def check(values: dict[str, str]) -> str:
-            substitution.write_report(self.result, values["path"], job=values["job"] or None)
+            from partsdb.services.files import protected_files
+
+            substitution.write_report(self.result, values["path"], job=values["job"] or None,
+                                      protect=protected_files(self.db))
             return ""
 
         self.app.push_screen(PromptForm("Save the report (Markdown .md or HTML .html)",

@@ -29,6 +29,31 @@ class PartsdbGroup(click.Group):
 
             click.echo(f"error: {mask_url(str(err))}", err=True)
             sys.exit(err.exit_code)
+        except BrokenPipeError:
+            # The reader of our output went away (``| head``): stop quietly, as other tools do.
+            import os
+
+            os.dup2(os.open(os.devnull, os.O_WRONLY), sys.stdout.fileno())
+            sys.exit(0)
+        except OSError as err:
+            # The machine refused (disk full, no permission, missing folder): one line, exit 3.
+            from partsdb.errors import EXIT_ENVIRONMENT
+            from partsdb.storage.database import mask_url
+
+            where = f" ({err.filename})" if err.filename else ""
+            click.echo(f"error: {mask_url(err.strerror or str(err))}{mask_url(where)}", err=True)
+            sys.exit(EXIT_ENVIRONMENT)
+        except Exception as err:
+            if not type(err).__module__.startswith(("sqlalchemy", "sqlite3")):
+                raise
+            # A database failure no service turned into a message: its first line, masked.
+            from partsdb.errors import EXIT_ENVIRONMENT
+            from partsdb.storage.database import mask_url
+
+            text = str(getattr(err, "orig", None) or err).strip().splitlines()
+            click.echo(f"error: database trouble: {mask_url(text[0] if text else type(err).__name__)}",
+                       err=True)
+            sys.exit(EXIT_ENVIRONMENT)
 
 
 @click.group(cls=PartsdbGroup, context_settings={"help_option_names": ["-h", "--help"]})

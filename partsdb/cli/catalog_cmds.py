@@ -33,17 +33,29 @@ def init(state: CliState) -> None:
                                            "opening the terminal UI.")
 @click.option("--path", "path", type=click.Path(dir_okay=False), default=None,
               help="Where to build the demo database (default: partsdb-demo.sqlite in your user "
-                   "data directory). Replaced if it exists.")
+                   "data directory). An earlier demo there is replaced; any other file is "
+                   "refused unless --force is given.")
+@click.option("--force", is_flag=True,
+              help="Replace an existing file at --path that is not a demo database (never your "
+                   "working database).")
 @click.pass_context
-def demo(ctx: click.Context, no_ui: bool, path: str | None) -> None:
+def demo(ctx: click.Context, no_ui: bool, path: str | None, force: bool) -> None:
     """Build a fresh demo workshop database (invented parts and drawers) and open it.
 
-    The demo database is separate from your own: it never touches the default database.
+    The demo database is separate from your own: it never replaces the default database or
+    the one named by --db, and is refused under --read-only.
     """
-    from partsdb.services.demo import build_demo, default_demo_path, demo_summary
+    from partsdb.services.demo import (
+        build_demo,
+        check_demo_target,
+        default_demo_path,
+        demo_summary,
+    )
 
     state: CliState = ctx.obj
     target = path or str(default_demo_path())
+    working = state.db_url if state.db_url and "://" not in state.db_url else None
+    check_demo_target(target, force=force, read_only=state.read_only, protect=(working,))
     db = build_demo(target)
     click.echo(f"demo database: {target}", err=no_ui is False)
     if no_ui:

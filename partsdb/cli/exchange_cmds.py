@@ -28,11 +28,13 @@ def import_group() -> None:
 @pass_state
 def import_devices(state: CliState, file: str, strict: bool) -> None:
     """Import device records. Columns are the device fields (see `partsdb device add --help`);
-    cells may carry units ("40V", "200mA"); re-importing updates in place."""
+    cells may carry units ("40V", "200mA"); re-importing updates in place. FILE `-` reads
+    standard input."""
     from partsdb.services import exchange
+    from partsdb.services.files import input_path
 
-    with state.database().session() as session:
-        report = exchange.import_devices(session, file, strict=strict)
+    with input_path(file) as path, state.database().session() as session:
+        report = exchange.import_devices(session, path, strict=strict)
     _report(report)
 
 
@@ -41,11 +43,13 @@ def import_devices(state: CliState, file: str, strict: bool) -> None:
 @pass_state
 def import_stock(state: CliState, file: str) -> None:
     """Import lots: columns designation, location, quantity, condition, note. Each row sets
-    that lot to the quantity given (a count, recorded in the ledger)."""
+    that lot to the quantity given (a count, recorded in the ledger). FILE `-` reads standard
+    input."""
     from partsdb.services import exchange
+    from partsdb.services.files import input_path
 
-    with state.database().session() as session:
-        report = exchange.import_stock(session, file)
+    with input_path(file) as path, state.database().session() as session:
+        report = exchange.import_stock(session, path)
     _report(report)
 
 
@@ -55,27 +59,39 @@ def export_group() -> None:
 
 
 @export_group.command("devices")
-@click.argument("file", type=click.Path(dir_okay=False, writable=True))
+@click.argument("file", type=click.Path(dir_okay=False))
+@click.option("--force", is_flag=True, help="Replace FILE if it exists.")
 @pass_state
-def export_devices(state: CliState, file: str) -> None:
-    """Export every device record."""
+def export_devices(state: CliState, file: str, force: bool) -> None:
+    """Export every device record to FILE (`-`: standard output). FILE appears only when
+    complete; an existing FILE or a file of the open database is refused (--force replaces an
+    existing FILE, never the database)."""
     from partsdb.services import exchange
+    from partsdb.services.files import atomic_open, protected_files
 
-    with state.database().session() as session:
-        n = exchange.export_devices(session, file)
-    click.echo(f"exported {n} device(s) to {file}")
+    db = state.database()
+    with atomic_open(file, force=force, protect=protected_files(db),
+                     what="export devices") as handle, db.session() as session:
+        n = exchange.export_devices(session, handle)
+    click.echo(f"exported {n} device(s) to {'standard output' if file == '-' else file}",
+               err=file == "-")
 
 
 @export_group.command("stock")
-@click.argument("file", type=click.Path(dir_okay=False, writable=True))
+@click.argument("file", type=click.Path(dir_okay=False))
+@click.option("--force", is_flag=True, help="Replace FILE if it exists.")
 @pass_state
-def export_stock(state: CliState, file: str) -> None:
-    """Export every lot."""
+def export_stock(state: CliState, file: str, force: bool) -> None:
+    """Export every lot to FILE (`-`: standard output); written like `export devices`."""
     from partsdb.services import exchange
+    from partsdb.services.files import atomic_open, protected_files
 
-    with state.database().session() as session:
-        n = exchange.export_stock(session, file)
-    click.echo(f"exported {n} lot(s) to {file}")
+    db = state.database()
+    with atomic_open(file, force=force, protect=protected_files(db),
+                     what="export stock") as handle, db.session() as session:
+        n = exchange.export_stock(session, handle)
+    click.echo(f"exported {n} lot(s) to {'standard output' if file == '-' else file}",
+               err=file == "-")
 
 
 COMMANDS = (import_group, export_group)

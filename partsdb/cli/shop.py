@@ -32,9 +32,12 @@ def _print_report(report: object, verb: str) -> None:
               help="Database to copy into (created and brought to the newest schema if needed).")
 @click.option("--force", is_flag=True,
               help="Replace everything in a target that already holds data.")
+@click.option("--allow-empty", is_flag=True,
+              help="With --force: let an empty source empty a target that holds data.")
 @format_option("table", "json")
 @pass_state
-def copy(state: CliState, source: str, target: str, force: bool, fmt: str) -> None:
+def copy(state: CliState, source: str, target: str, force: bool, allow_empty: bool,
+         fmt: str) -> None:
     """Copy a whole shop (devices, places, lots, ledger, swap log) into another database,
     keeping ids, e.g. from a bench's SQLite file to the shop's PostgreSQL server:
 
@@ -43,19 +46,21 @@ def copy(state: CliState, source: str, target: str, force: bool, fmt: str) -> No
 
     The source is read in one consistent snapshot; the target is written in one transaction
     and committed only when row counts per table, every lot's quantity and the ledger sum
-    match the source. A target holding data is refused unless --force is given. Give
+    match the source. A target holding data is refused unless --force is given; an empty
+    source never empties it unless --allow-empty is given too. The source must exist and
+    hold a partsdb schema: it is opened read-only, never created or upgraded. Give
     passwords through PGPASSFILE or PGPASSWORD rather than in the URL; they are never printed.
     """
     from partsdb.services.shop import copy_database
     from partsdb.storage.database import open_database
 
     notify = _notice(state)
-    source_db = open_database(source, notify=notify)  # type: ignore[arg-type]
+    source_db = open_database(source, read_only=True, notify=notify)  # type: ignore[arg-type]
     try:
         target_db = open_database(target, read_only=state.read_only,
                                   notify=notify)  # type: ignore[arg-type]
         try:
-            report = copy_database(source_db, target_db, force=force)
+            report = copy_database(source_db, target_db, force=force, allow_empty=allow_empty)
         finally:
             target_db.dispose()
     finally:
@@ -96,16 +101,19 @@ def backup(state: CliState, dest: str, kind: str, force: bool) -> None:
 @click.argument("src", type=click.Path(exists=True, dir_okay=False))
 @click.option("--force", is_flag=True,
               help="Replace everything in a database that already holds data.")
+@click.option("--allow-empty", is_flag=True,
+              help="With --force: let a backup with no rows empty a database that holds data.")
 @pass_state
-def restore(state: CliState, src: str, force: bool) -> None:
+def restore(state: CliState, src: str, force: bool, allow_empty: bool) -> None:
     """Load the backup SRC (a zip or SQLite file from `partsdb backup`) into the database.
 
     A database holding data is refused unless --force is given; then its whole content is
     replaced in one transaction, committed only when the result matches the backup's counts.
+    Every row is checked like an import first; a tampered or damaged archive changes nothing.
     """
     from partsdb.services.shop import restore as load_backup
 
-    report = load_backup(state.database(), src, force=force)
+    report = load_backup(state.database(), src, force=force, allow_empty=allow_empty)
     _print_report(report, "restored")
 
 

@@ -94,10 +94,11 @@ _STRESS_NAMES = ", ".join(row.option for row in STRESS_FIELDS)
 @click.option("--output", type=click.Path(dir_okay=False, path_type=Path), default=None,
               help="Write the md/html job sheet to this file instead of the screen.")
 @click.option("--job", default=None, help="Job reference to print on the md/html job sheet.")
+@click.option("--force", is_flag=True, help="Replace the --output file if it exists.")
 @pass_state
 def substitute(state: CliState, designation: str | None, policy_name: str | None,
                show_rejected: bool, in_stock: bool, limit: int, fmt: str, output: Path | None,
-               job: str | None, **values: Any) -> None:
+               job: str | None, force: bool, **values: Any) -> None:
     """Rank substitutes for DESIGNATION (its stored record is the requirement) or for a spec.
 
     Give circuit stress ({stress}) to judge
@@ -131,10 +132,12 @@ def substitute(state: CliState, designation: str | None, policy_name: str | None
             render = render_markdown if fmt == "md" else render_html
             click.echo(render(result, job=job, date=date.today().isoformat()))
         else:
+            from partsdb.services.files import protected_files
             from partsdb.services.substitution import write_report
 
-            write_report(result, output, job=job, fmt=fmt)
-            click.echo(f"job sheet written to {output}", err=True)
+            written = write_report(result, output, job=job, fmt=fmt, force=force,
+                                   protect=protected_files(state.database()))
+            click.echo(f"job sheet written to {written}", err=True)
         return
     _print_result(result)
 

@@ -8,7 +8,7 @@ from __future__ import annotations
 import os
 from pathlib import Path
 
-from partsdb.errors import EnvironmentProblem
+from partsdb.errors import EnvironmentProblem, InvalidInput
 from partsdb.storage.database import Database, open_database
 
 SEED_PACKAGE = "partsdb_seed"
@@ -44,15 +44,81 @@ def default_demo_path() -> Path:
     return Path(user_data_dir("partsdb", appauthor=False)) / "partsdb-demo.sqlite"
 
 
+DEMO_APPLICATION_ID = 0x50444244
+"""Written in the SQLite header of a demo database (``PRAGMA application_id``, SQLite docs,
+"Database File Format" offset 68): how ``demo`` knows a file it may replace."""
+
+
+class DemoRefused(InvalidInput):
+    """The demo would replace a file it must not (exit 2); nothing was written."""
+
+
+def is_demo_database(path: Path) -> bool:
+    """Whether ``path`` is a SQLite file marked as a partsdb demo (read from its header)."""
+    try:
+        with path.open("rb") as handle:
+            header = handle.read(72)
+    except OSError:
+        return False
+    return (len(header) == 72 and header.startswith(b"SQLite format 3\x00")
+            and int.from_bytes(header[68:72], "big") == DEMO_APPLICATION_ID)
+
+
+def check_demo_target(target: str | os.PathLike[str], *, force: bool = False,
+                      read_only: bool = False,
+                      protect: tuple[str | os.PathLike[str] | None, ...] = ()) -> Path:
+    """Refuse a demo target that would lose data: under --read-only; the default database or
+    a database named in ``protect`` (always); an existing file that is not a demo database
+    (unless ``force``). Returns the resolved path."""
+    from partsdb.services.files import sqlite_files
+    from partsdb.storage.database import default_path
+
+    path = Path(target).expanduser().resolve()
+    if read_only:
+        raise DemoRefused("demo: refused under --read-only (building a demo writes a database); "
+                          "nothing was written")
+    guarded = set(sqlite_files(default_path()))
+    for other in protect:
+        guarded.update(sqlite_files(other))
+    if path in guarded:
+        raise DemoRefused(f"demo --path: {str(target)!r} is your working database; the demo "
+                          "never replaces it (choose another path)")
+    if path.is_dir():
+        raise DemoRefused(f"demo --path: {str(target)!r} is a folder; expected a file name")
+    if path.exists() and not is_demo_database(path) and not force:
+        raise DemoRefused(f"demo --path: {str(target)!r} exists and is not a partsdb demo "
+                          "database; nothing was written (use --force to replace it)")
+    return path
+
+
 def build_demo(target: str | os.PathLike[str]) -> Database:
-    """Replace ``target`` with a new demo database; returns it open."""
+    """Replace ``target`` with a new demo database; returns it open.
+
+    The demo is built under a temporary name beside ``target`` and renamed into place only
+    when complete, so a failed build leaves ``target`` as it was."""
+    from partsdb.services.files import atomic_path
+
+    path = Path(target).expanduser().resolve()
+    seeds = seed_dir()
+    if not path.parent.is_dir():
+        path.parent.mkdir(parents=True, exist_ok=True)
+    with atomic_path(path, force=True, what="demo") as tmp:
+        tmp.unlink()
+        db = open_database(tmp, notify=None)
+        try:
+            _fill(db, seeds)
+            with db.engine.begin() as conn:
+                conn.exec_driver_sql(f"PRAGMA application_id={DEMO_APPLICATION_ID}")
+        finally:
+            db.dispose()
+        for suffix in ("-wal", "-shm", "-journal"):
+            Path(str(path) + suffix).unlink(missing_ok=True)
+    return open_database(path, notify=None)
+
+
+def _fill(db: Database, seeds: Path) -> None:
     from partsdb.services import exchange, stock
 
-    seeds = seed_dir()
-    path = Path(target)
-    for suffix in ("", "-wal", "-shm", "-journal"):
-        Path(str(path) + suffix).unlink(missing_ok=True)
-    db = open_database(path, notify=None)
     with db.session() as session:
         exchange.import_devices(session, seeds / "devices.csv")
         exchange.import_stock(session, seeds / "stock.csv")
@@ -80,7 +146,6 @@ def build_demo(target: str | os.PathLike[str]) -> Database:
                     stock.count(session, designation, change, place, note=note)
                 else:
                     raise DemoError(f"movements.csv: reason {reason!r} is not replayable")
-    return db
 
 
 def demo_summary(db: Database) -> str:

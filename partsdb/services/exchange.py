@@ -21,7 +21,7 @@ import re
 from collections.abc import Iterator
 from dataclasses import dataclass, field, fields
 from pathlib import Path
-from typing import TYPE_CHECKING, Any
+from typing import IO, TYPE_CHECKING, Any
 
 from sqlalchemy import select, update
 from sqlalchemy.orm import Session
@@ -677,14 +677,23 @@ def stock_frame(session: Session) -> pd.DataFrame:
                          for v in lots], columns=list(STOCK_COLUMNS))
 
 
-def write_csv(frame: pd.DataFrame, path: str | Path, text_columns: list[str]) -> None:
-    """Write a frame as RFC 4180 CSV with formula injection neutralised in text columns."""
+def write_csv(frame: pd.DataFrame, path: str | Path | IO[str],
+              text_columns: list[str]) -> None:
+    """Write a frame as RFC 4180 CSV with formula injection neutralised in text columns, to an
+    open text handle or (atomically, replacing it) to a file name."""
     import csv
 
     safe = frame.copy()
     for col in text_columns:
         if col in safe:
             safe[col] = safe[col].map(neutralise)
+    if isinstance(path, str | Path):  # a file name: written through the one file writer
+        from partsdb.services.files import atomic_open
+
+        with atomic_open(path, force=True, what="export") as handle:
+            safe.to_csv(handle, index=False, quoting=csv.QUOTE_MINIMAL, lineterminator="\n",
+                        float_format="%.12g")
+        return
     safe.to_csv(path, index=False, quoting=csv.QUOTE_MINIMAL, lineterminator="\n",
                 float_format="%.12g")
 
@@ -693,13 +702,13 @@ DEVICE_TEXT_COLUMNS = [f.name for f in FIELDS if f.kind in ("text", "choice")]
 STOCK_TEXT_COLUMNS = ["designation", "location", "condition", "note"]
 
 
-def export_devices(session: Session, path: str | Path) -> int:
+def export_devices(session: Session, path: str | Path | IO[str]) -> int:
     frame = devices_frame(session)
     write_csv(frame, path, DEVICE_TEXT_COLUMNS)
     return len(frame)
 
 
-def export_stock(session: Session, path: str | Path) -> int:
+def export_stock(session: Session, path: str | Path | IO[str]) -> int:
     frame = stock_frame(session)
     write_csv(frame, path, STOCK_TEXT_COLUMNS)
     return len(frame)

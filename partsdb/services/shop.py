@@ -36,7 +36,7 @@ from datetime import UTC, datetime
 from pathlib import Path
 from typing import Any
 
-from sqlalchemy import Boolean, DateTime, Float, Integer, Table, bindparam, func, select, text, update
+from sqlalchemy import Table, bindparam, func, select, text, update
 from sqlalchemy.engine import URL, Connection
 from sqlalchemy.exc import IntegrityError, OperationalError
 
@@ -45,7 +45,6 @@ from partsdb.storage.database import (
     Database,
     DatabaseError,
     current_revision,
-    head_revision,
     make_engine,
     open_database,
 )
@@ -202,14 +201,14 @@ def _fix_sequences(conn: Connection) -> None:
 
 
 def _load(target: Database, batches: Iterable[tuple[Table, list[dict[str, Any]]]], force: bool,
-          expect: Callable[[], Tally], describe_target: str) -> Tally:
+          expect: Callable[[], Tally], describe_target: str, allow_empty: bool = False) -> Tally:
     """Write ``batches`` into ``target`` in one transaction and return its tally.
 
     ``expect`` gives the tally to match once every batch has been read; any mismatch rolls
     the whole load back, so the target is either the complete copy or unchanged.
     """
     try:
-        return _load_once(target, batches, force, expect, describe_target)
+        return _load_once(target, batches, force, expect, describe_target, allow_empty)
     except IntegrityError as err:
         raise BackupError(f"the data breaks a rule of {describe_target}, so nothing was changed: "
                           f"{str(err.orig).splitlines()[0]}") from err
@@ -220,10 +219,12 @@ def _load(target: Database, batches: Iterable[tuple[Table, list[dict[str, Any]]]
 
 
 def _load_once(target: Database, batches: Iterable[tuple[Table, list[dict[str, Any]]]],
-               force: bool, expect: Callable[[], Tally], describe_target: str) -> Tally:
+               force: bool, expect: Callable[[], Tally], describe_target: str,
+               allow_empty: bool = False) -> Tally:
     locations = Base.metadata.tables["locations"]
     with target.engine.begin() as conn:
-        if not is_empty(conn):
+        held_data = not is_empty(conn)
+        if held_data:
             if not force:
                 raise BackupError(f"{describe_target} already holds data; nothing was changed "
                                   "(use --force to replace everything in it)")
@@ -245,6 +246,9 @@ def _load_once(target: Database, batches: Iterable[tuple[Table, list[dict[str, A
         if problems:
             raise BackupError("the copy does not match its source, so nothing was changed: "
                               + "; ".join(problems))
+        if held_data and not any(after.rows.values()) and not allow_empty:
+            raise BackupError(f"the source is empty and would leave {describe_target} empty; "
+                              "nothing was changed (use --force --allow-empty to empty it)")
     return after
 
 
@@ -257,7 +261,8 @@ def _same_database(a: Database, b: Database) -> bool:
 
 # ---------------------------------------------------------------- copy
 
-def copy_database(source: Database, target: Database, force: bool = False) -> CopyReport:
+def copy_database(source: Database, target: Database, force: bool = False,
+                  allow_empty: bool = False) -> CopyReport:
     """Copy every table of ``source`` into ``target`` with ids kept, then verify the tallies."""
     if _same_database(source, target):
         raise BackupError(f"source and target are the same database ({source.describe()})")
@@ -267,7 +272,8 @@ def copy_database(source: Database, target: Database, force: bool = False) -> Co
                           "open both with this partsdb first so they are upgraded")
     with snapshot(source) as conn:
         before = tally(conn)
-        after = _load(target, _read_batches(conn), force, lambda: before, target.describe())
+        after = _load(target, _read_batches(conn), force, lambda: before, target.describe(),
+                      allow_empty)
     return CopyReport(source.describe(), target.describe(), before, after)
 
 
@@ -287,33 +293,16 @@ def _encode(value: Any) -> str:
     return str(value)
 
 
-def _decoder(column_type: Any) -> Callable[[str], Any]:
-    if isinstance(column_type, Boolean):
-        return lambda s: s == "1"
-    if isinstance(column_type, Integer):
-        return int
-    if isinstance(column_type, Float):
-        return float
-    if isinstance(column_type, DateTime):
-        return datetime.fromisoformat
-    return lambda s: s[1:] if s.startswith("\\") else s
-
-
-def _refuse_existing(dest: Path, force: bool) -> None:
-    if dest.is_dir():
-        raise BackupError(f"backup: {str(dest)!r} is a folder; expected a file name such as "
-                          "shop-backup.zip")
-    if dest.exists() and not force:
-        raise BackupError(f"backup: {str(dest)!r} exists; nothing was written "
-                          "(use --force to overwrite it)")
-
-
 def backup(db: Database, dest: str | os.PathLike[str], fmt: str = "auto",
            force: bool = False) -> BackupReport:
     """Write a consistent backup of ``db`` to ``dest`` (``fmt``: auto, sqlite or zip).
 
-    The file appears at ``dest`` only when complete (written beside it, then renamed).
+    Written through :func:`partsdb.services.files.atomic_path`: the file appears at ``dest``
+    only when complete; the database's own files are refused; hidden partial files left by a
+    killed earlier backup to the same ``dest`` are removed first.
     """
+    from partsdb.services.files import atomic_path, protected_files
+
     path = Path(dest)
     if fmt == "auto":
         fmt = "sqlite" if db.dialect == "sqlite" else "zip"
@@ -322,21 +311,11 @@ def backup(db: Database, dest: str | os.PathLike[str], fmt: str = "auto",
     if fmt == "sqlite" and db.dialect != "sqlite":
         raise BackupError(f"backup format sqlite needs a SQLite database, not {db.dialect}; "
                           "use the zip format")
-    _refuse_existing(path, force)
-    if db.dialect == "sqlite" and db.url.database and path.resolve() == Path(db.url.database).resolve():
-        raise BackupError(f"backup: {str(path)!r} is the database itself; choose another file")
-    path.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp_name = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
-    os.close(fd)
-    tmp = Path(tmp_name)
-    try:
+    with atomic_path(path, force=force, protect=protected_files(db), what="backup") as tmp:
         if fmt == "sqlite":
             revision, counted = _backup_sqlite(db, tmp)
         else:
             revision, counted = _backup_zip(db, tmp)
-        os.replace(tmp, path)
-    finally:
-        tmp.unlink(missing_ok=True)
     return BackupReport(path, fmt, revision, counted)
 
 
@@ -439,117 +418,132 @@ def backup_kind(src: str | os.PathLike[str]) -> str:
     raise BackupError(f"restore: {str(path)!r} is neither a partsdb zip backup nor a SQLite file")
 
 
-def restore(db: Database, src: str | os.PathLike[str], force: bool = False) -> CopyReport:
+def restore(db: Database, src: str | os.PathLike[str], force: bool = False,
+            allow_empty: bool = False) -> CopyReport:
     """Replace the content of ``db`` by the backup at ``src`` (refused if ``db`` holds data
-    and ``force`` is not given); verified against the backup's own tally."""
+    and ``force`` is not given, or if the backup would empty it and ``allow_empty`` is not
+    given); verified against the backup's own tally. Working copies left by a killed
+    earlier restore are removed first."""
+    remove_stale_restore_copies()
     kind = backup_kind(src)
     if kind == "sqlite":
-        return _restore_sqlite(db, Path(src), force)
-    return _restore_zip(db, Path(src), force)
+        return _restore_sqlite(db, Path(src), force, allow_empty)
+    return _restore_zip(db, Path(src), force, allow_empty)
 
 
-def _restore_sqlite(db: Database, src: Path, force: bool) -> CopyReport:
-    # Work on a copy: opening a backup upgrades its schema, and the backup itself stays as made.
-    with tempfile.TemporaryDirectory(prefix="partsdb-restore-") as folder:
-        work = Path(folder) / "backup.sqlite"
-        shutil.copyfile(src, work)
-        _require_partsdb_file(work, src)
+RESTORE_WORK_PREFIX = "partsdb-restore-"
+
+
+def remove_stale_restore_copies(folder: str | os.PathLike[str] | None = None) -> list[Path]:
+    """Remove working copies left in the temporary folder by a restore that was killed
+    (named ``partsdb-restore-PID-XXXX``; its process is gone)."""
+    from partsdb.services.files import _pid_alive
+
+    base = Path(folder or tempfile.gettempdir())
+    removed: list[Path] = []
+    with contextlib.suppress(OSError):
+        for entry in base.iterdir():
+            if not entry.name.startswith(RESTORE_WORK_PREFIX) or not entry.is_dir():
+                continue
+            pid = entry.name[len(RESTORE_WORK_PREFIX):].split("-", 1)[0]
+            if pid.isdigit() and _pid_alive(int(pid)):
+                continue
+            shutil.rmtree(entry, ignore_errors=True)
+            removed.append(entry)
+    return removed
+
+
+def _restore_sqlite(db: Database, src: Path, force: bool, allow_empty: bool) -> CopyReport:
+    from partsdb.storage.database import SCHEMA_HEAD, known_revisions
+
+    revision = _require_partsdb_file(src)
+    if revision == SCHEMA_HEAD:
+        # Read in place, read-only: the backup stays byte for byte as made.
+        source = open_database(src, read_only=True, notify=None)
         try:
-            source = open_database(work, notify=None)
-        except Exception as err:
-            raise BackupError(f"restore: {str(src)!r} is not a usable partsdb database ({err})") from err
-        try:
-            report = copy_database(source, db, force=force)
+            report = copy_database(source, db, force=force, allow_empty=allow_empty)
         finally:
             source.dispose()
+        report.source = str(src)
+        return report
+    if revision not in known_revisions():
+        raise BackupError(f"restore: {str(src)!r} has schema revision {revision!r}, which this "
+                          f"partsdb does not know (newest here: {SCHEMA_HEAD}); restore it with "
+                          "a newer partsdb")
+    # An older schema is upgraded on a working copy, so the backup itself stays as made. The
+    # copy's folder carries this process's id: the next restore removes it if this one is killed.
+    folder = tempfile.mkdtemp(prefix=f"{RESTORE_WORK_PREFIX}{os.getpid()}-")
+    try:
+        work = Path(folder) / "backup.sqlite"
+        shutil.copyfile(src, work)
+        try:
+            source = open_database(work, notify=None)
+        except DatabaseError as err:
+            raise BackupError(f"restore: {str(src)!r} is not a usable partsdb database "
+                              f"({err})") from err
+        try:
+            report = copy_database(source, db, force=force, allow_empty=allow_empty)
+        finally:
+            source.dispose()
+    finally:
+        shutil.rmtree(folder, ignore_errors=True)
     report.source = str(src)
     return report
 
 
-def _require_partsdb_file(work: Path, src: Path) -> None:
+def _require_partsdb_file(src: Path) -> str:
+    """The schema revision of the SQLite file ``src`` (read-only), or a BackupError."""
+    from urllib.parse import quote
+
     try:
-        with contextlib.closing(sqlite3.connect(work)) as conn:
-            conn.execute("SELECT version_num FROM alembic_version").fetchone()
+        with contextlib.closing(sqlite3.connect(f"file:{quote(str(src))}?mode=ro",
+                                                uri=True)) as conn:
+            row = conn.execute("SELECT version_num FROM alembic_version").fetchone()
+            check = conn.execute("PRAGMA quick_check").fetchone()
     except sqlite3.DatabaseError as err:
         raise BackupError(f"restore: {str(src)!r} is a SQLite file but not a partsdb database "
                           f"({err})") from err
+    if not row or not isinstance(row[0], str):
+        raise BackupError(f"restore: {str(src)!r} is a SQLite file without a partsdb schema "
+                          "revision")
+    if not check or check[0] != "ok":
+        detail = " ".join(str(check[0] if check else None).split())
+        raise BackupError(f"restore: {str(src)!r} is damaged (SQLite quick_check: "
+                          f"{detail[:120]})")
+    return row[0]
 
 
-def _read_manifest(archive: zipfile.ZipFile, src: Path) -> dict[str, Any]:
+def _restore_zip(db: Database, src: Path, force: bool, allow_empty: bool) -> CopyReport:
+    from partsdb.services import archive as checks
+    from partsdb.storage.database import known_revisions
+
+    where = repr(str(src))
+    tables = {t.name: t for t in shop_tables()}
     try:
-        manifest = json.loads(archive.read("manifest.json"))
-    except (KeyError, ValueError) as err:
-        raise BackupError(f"restore: {str(src)!r} has no readable manifest.json; "
-                          "expected a zip made by partsdb backup") from err
-    if manifest.get("format") != BACKUP_FORMAT:
-        raise BackupError(f"restore: {str(src)!r} is not a partsdb backup "
-                          f"(format {manifest.get('format')!r}, expected {BACKUP_FORMAT!r})")
-    if int(manifest.get("format_version", 0)) > BACKUP_FORMAT_VERSION:
-        raise BackupError(f"restore: {str(src)!r} uses backup format version "
-                          f"{manifest.get('format_version')}; this partsdb reads up to "
-                          f"{BACKUP_FORMAT_VERSION}")
-    return manifest
-
-
-def _known_revisions() -> list[str]:
-    from alembic.script import ScriptDirectory
-
-    from partsdb.storage.database import alembic_config
-
-    script = ScriptDirectory.from_config(alembic_config(None))
-    return [rev.revision for rev in script.walk_revisions()]
-
-
-def _restore_zip(db: Database, src: Path, force: bool) -> CopyReport:
-    with zipfile.ZipFile(src) as archive:
-        manifest = _read_manifest(archive, src)
-        revision = str(manifest.get("schema_revision") or "")
-        if revision not in _known_revisions():
-            raise BackupError(f"restore: the backup has schema revision {revision!r}, which this "
-                              f"partsdb does not know (newest here: {head_revision()}); "
-                              "restore it with a newer partsdb")
-        tables = {t.name: t for t in shop_tables()}
-        entries: dict[str, dict[str, Any]] = manifest.get("tables", {})
-        for name, entry in entries.items():
-            if name not in tables:
-                raise BackupError(f"restore: the backup holds a table {name!r} this partsdb "
-                                  "does not know; restore it with a newer partsdb")
-            unknown = set(entry.get("columns", [])) - set(tables[name].columns.keys())
-            if unknown:
-                raise BackupError(f"restore: table {name!r} in the backup has column(s) "
-                                  f"{', '.join(sorted(unknown))} this partsdb does not know")
-            data = archive.read(entry["file"])
-            if hashlib.sha256(data).hexdigest() != entry["sha256"]:
-                raise BackupError(f"restore: {entry['file']} in {str(src)!r} is damaged "
-                                  "(its SHA-256 differs from the manifest); nothing was changed")
+        archive = zipfile.ZipFile(src)
+    except (zipfile.BadZipFile, OSError, ValueError, EOFError) as err:
+        raise BackupError(f"restore: {where} is not a readable zip ({err})") from err
+    with archive:
+        members = checks.check_members(archive, where)
+        manifest = checks.read_manifest(archive, members, where, tables, BACKUP_FORMAT,
+                                        BACKUP_FORMAT_VERSION, known_revisions)
+        entries: dict[str, dict[str, Any]] = manifest["tables"]
+        for entry in entries.values():
+            checks.verify_checksum(archive, members[entry["file"]], entry["sha256"], where)
 
         def batches() -> Iterator[tuple[Table, list[dict[str, Any]]]]:
             for table in shop_tables():
                 entry = entries.get(table.name)
                 if entry is None:  # a table added by a later revision than the backup's
                     continue
-                with archive.open(entry["file"]) as raw:
-                    reader = csv.reader(io.TextIOWrapper(raw, encoding="utf-8", newline=""))
-                    header = next(reader)
-                    decoders = [_decoder(table.columns[c].type) for c in header]
-                    batch: list[dict[str, Any]] = []
-                    for line, cells in enumerate(reader, start=2):
-                        if len(cells) != len(header):
-                            raise BackupError(f"restore: {entry['file']} line {line} has "
-                                              f"{len(cells)} cells, expected {len(header)}")
-                        batch.append({c: None if v == NULL else d(v)
-                                      for c, d, v in zip(header, decoders, cells, strict=True)})
-                        if len(batch) >= BATCH:
-                            yield table, batch
-                            batch = []
-                    if batch:
-                        yield table, batch
+                for part in checks.rows(archive, table, entry, where, BATCH):
+                    yield table, part
 
         def expected() -> Tally:
-            rows = {t: int(entries.get(t, {}).get("rows", 0)) for t in TABLE_ORDER}
+            rows = {t: int(entries[t]["rows"]) if t in entries else 0 for t in TABLE_ORDER}
             return Tally(rows, int(manifest["stock_total"]), int(manifest["ledger_total"]))
 
-        after = _load(db, batches(), force, expected, db.describe())
+        after = _load(db, batches(), force, expected, db.describe(), allow_empty)
     before = expected()
     before.lot_quantities = dict(after.lot_quantities)
     return CopyReport(str(src), db.describe(), before, after)

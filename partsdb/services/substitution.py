@@ -16,10 +16,8 @@ stress inputs (:func:`parse_stress`), and writing the job sheet to a file (:func
 
 from __future__ import annotations
 
-import os
-import tempfile
 import threading
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from itertools import chain
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -30,7 +28,6 @@ from sqlalchemy.orm import Session
 
 from partsdb.derating import Policy
 from partsdb.designations import normalize
-from partsdb.errors import EnvironmentProblem
 from partsdb.ranking import (
     KINDS,
     MATERIALS,
@@ -369,21 +366,20 @@ def parse_stress(texts: Mapping[str, str]) -> Stress:
     return Stress.from_values(values)
 
 
-class ReportWriteError(EnvironmentProblem):
-    """A job sheet that could not be written (the path and the system's reason)."""
-
-
 REPORT_FORMATS: dict[str, str] = {".md": "md", ".html": "html", ".htm": "html"}
 
 
 def write_report(result: RankResult, path: str | Path, job: str | None = None,
-                 fmt: str | None = None, date: str | None = None) -> Path:
+                 fmt: str | None = None, date: str | None = None, *, force: bool = False,
+                 protect: Iterable[Path] = ()) -> Path:
     """Write the job sheet of ``result`` to ``path`` (Markdown or HTML, by ``fmt`` or by the
-    file's suffix). Written to a temporary name beside it and renamed, so a failure leaves any
-    existing file as it was. Returns the path written."""
+    file's suffix) through the one file writer (:mod:`partsdb.services.files`): an existing file
+    only with ``force``, never one of ``protect`` (the open database's files), written to a
+    temporary name beside it and renamed. Returns the path written."""
     from datetime import date as _date
 
     from partsdb.reports import render_html, render_markdown
+    from partsdb.services.files import write_text
 
     target = Path(path).expanduser()
     kind = fmt or REPORT_FORMATS.get(target.suffix.lower())
@@ -392,21 +388,8 @@ def write_report(result: RankResult, path: str | Path, job: str | None = None,
                         ".html")
     render = render_markdown if kind == "md" else render_html
     text = render(result, job=job, date=date or _date.today().isoformat())
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp",
-                                   dir=target.parent if str(target.parent) else ".")
-    except OSError as err:
-        raise ReportWriteError(f"file: {str(path)!r} cannot be written ({err.strerror})") \
-            from err
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8") as out:
-            out.write(text)
-        os.replace(tmp, target)
-    except OSError as err:
-        Path(tmp).unlink(missing_ok=True)
-        raise ReportWriteError(f"file: {str(path)!r} cannot be written ({err.strerror})") \
-            from err
-    return target
+    write_text(target, text, force=force, protect=protect, what="report")
+    return target.resolve()
 
 
 def _session_of(target: Session | Database) -> Any:

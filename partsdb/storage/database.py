@@ -18,7 +18,7 @@ from typing import Any, TypeVar
 
 from sqlalchemy import create_engine, event, inspect
 from sqlalchemy.engine import URL, Engine, make_url
-from sqlalchemy.exc import OperationalError
+from sqlalchemy.exc import DBAPIError, OperationalError
 from sqlalchemy.orm import Session, sessionmaker
 
 from partsdb.errors import EXIT_INVALID, EnvironmentProblem
@@ -45,25 +45,102 @@ def default_path() -> Path:
     return Path(user_data_dir("partsdb", appauthor=False)) / "partsdb.sqlite"
 
 
+SUPPORTED = {"sqlite": ("pysqlite",), "postgresql": ("psycopg",)}
+"""Backends and the drivers partsdb is built and tested with."""
+
+_SECRETS: set[str] = set()
+"""Passwords of every URL resolved in this process; :func:`mask_url` blanks them in any text."""
+
+
+def _split_netloc(text: str) -> URL | None:
+    """A URL whose password holds an unescaped ``@`` (``user:p@ss@host``), parsed the way its
+    author meant: everything up to the last ``@`` before the host is user and password."""
+    scheme, _, rest = text.partition("://")
+    netloc, slash, path = rest.partition("/")
+    if netloc.count("@") < 2:
+        return None
+    creds, _, hostport = netloc.rpartition("@")
+    user, _, password = creds.partition(":")
+    from urllib.parse import quote
+
+    return make_url(f"{scheme}://{quote(user, safe='')}:{quote(password, safe='')}@{hostport}"
+                    f"{slash}{path}")
+
+
 def resolve_url(target: str | os.PathLike[str] | None) -> URL:
-    """A SQLAlchemy URL from a path, a URL, ``$PARTSDB_DB`` or the per-user default."""
+    """A SQLAlchemy URL from a path, a URL, ``$PARTSDB_DB`` or the per-user default.
+
+    Only SQLite and PostgreSQL (driver psycopg) are accepted; ``postgresql://`` means
+    ``postgresql+psycopg://``. Anything else is a one-line :class:`DatabaseError`."""
     if target is None:
         target = os.environ.get(ENV_VAR) or default_path()
     text = os.fspath(target)
     if "://" in text:
+        _remember_secrets(text)
         try:
-            return make_url(text)
+            url = _split_netloc(text) or make_url(text)
         except Exception as err:
-            raise DatabaseError(f"--db: {mask_url(text)!r} is not a database URL ({err})") from err
+            raise DatabaseError(f"--db: {mask_url(text)!r} is not a database URL; expected a "
+                                "file path, sqlite:///PATH or postgresql+psycopg://USER@HOST/DB"
+                                ) from err
+        if url.password:
+            _SECRETS.add(str(url.password))
+        return _supported(url)
     path = Path(text).expanduser().resolve()
     return URL.create("sqlite", database=str(path))
 
 
+def _remember_secrets(text: str) -> None:
+    netloc = text.partition("://")[2].split("/", 1)[0]
+    creds = netloc.rpartition("@")[0]
+    password = creds.partition(":")[2]
+    if password:
+        from urllib.parse import unquote
+
+        _SECRETS.update({password, unquote(password)})
+
+
+def _supported(url: URL) -> URL:
+    backend, _, driver = url.drivername.partition("+")
+    if backend == "postgresql" and not driver:
+        url = url.set(drivername="postgresql+psycopg")
+        driver = "psycopg"
+    if backend == "sqlite" and not driver:
+        driver = "pysqlite"
+    if backend not in SUPPORTED:
+        raise DatabaseError(f"--db: {mask_url(url)!r}: {backend!r} is not a database partsdb "
+                            "supports; expected a SQLite file or postgresql+psycopg://...")
+    if driver not in SUPPORTED[backend]:
+        raise DatabaseError(f"--db: {mask_url(url)!r}: driver {driver!r} is not supported; use "
+                            + ("postgresql+psycopg://..." if backend == "postgresql"
+                               else "a file path or sqlite:///PATH"))
+    if backend == "postgresql":
+        from importlib.util import find_spec
+
+        if find_spec("psycopg") is None:
+            raise DatabaseError("--db: PostgreSQL needs the psycopg driver, which is not "
+                                "installed; install the postgres extra: "
+                                "pip install 'partsdb[postgres]'")
+    return url
+
+
 def mask_url(url: str | URL) -> str:
-    """The URL with any password replaced by ***, for messages and logs."""
+    """The URL (or any message text) with every password replaced by ***.
+
+    Passwords of URLs resolved in this process are blanked wherever they appear (a driver may
+    quote them in its own error text); ``scheme://user:secret@`` forms are masked up to the
+    last ``@`` of the address, so a password holding an unescaped ``@`` is hidden whole."""
     if isinstance(url, URL):
         return url.render_as_string(hide_password=True)
-    return re.sub(r"(://[^:/@]+:)[^@]*@", r"\1***@", url)
+    text = re.sub(r"(://[^:/@\s'\"]*:)[^\s'\"/]*@", r"\1***@", url)
+    text = re.sub(r"(password\s*=\s*)('[^']*'|\S+)", r"\1***", text, flags=re.IGNORECASE)
+    for secret in sorted(_SECRETS, key=len, reverse=True):
+        if len(secret) >= 2:
+            from urllib.parse import quote
+
+            for form in {secret, quote(secret, safe=""), quote(secret)}:
+                text = text.replace(form, "***")
+    return text
 
 
 def _sqlite_pragmas(dbapi_connection: Any, _record: Any) -> None:
@@ -77,17 +154,77 @@ def _sqlite_pragmas(dbapi_connection: Any, _record: Any) -> None:
     cursor.close()
 
 
-def make_engine(url: URL) -> Engine:
+def _sqlite_read_only_pragmas(dbapi_connection: Any, _record: Any) -> None:
+    # The journal mode is left as the file has it (a DELETE-journal backup stays one), and
+    # query_only refuses every change at the engine level (SQLite docs, "PRAGMA query_only").
+    cursor = dbapi_connection.cursor()
+    cursor.execute("PRAGMA foreign_keys=ON")
+    cursor.execute(f"PRAGMA busy_timeout={SQLITE_BUSY_TIMEOUT_MS}")
+    cursor.execute("PRAGMA query_only=ON")
+    cursor.close()
+
+
+def _on_read_only_mount(path: Path) -> bool:
+    try:
+        return bool(os.statvfs(path.parent).f_flag & os.ST_RDONLY)
+    except (OSError, AttributeError):  # no statvfs (Windows)
+        return False
+
+
+def make_engine(url: URL, read_only: bool = False) -> Engine:
+    """An engine for ``url``. ``read_only`` opens SQLite with ``mode=ro`` (the file must exist;
+    nothing is created) and runs every PostgreSQL transaction READ ONLY."""
     if url.get_backend_name() == "sqlite":
+        timeout = SQLITE_BUSY_TIMEOUT_MS / 1000
+        if read_only and url.database and url.database != ":memory:":
+            import sqlite3
+            from urllib.parse import quote
+
+            path = Path(url.database)
+            if not path.is_file():
+                raise DatabaseError(f"the database {str(path)!r} does not exist; nothing was "
+                                    "created (opened read-only)")
+            uri = f"file:{quote(str(path))}?mode=ro"
+
+            def connect() -> sqlite3.Connection:
+                conn = sqlite3.connect(uri, uri=True, timeout=timeout, check_same_thread=False)
+                try:
+                    conn.execute("PRAGMA schema_version").fetchone()
+                except sqlite3.OperationalError:
+                    if not _on_read_only_mount(path):
+                        raise
+                    # A WAL database on a read-only mount: its -shm cannot be made, but nothing
+                    # can change the file either, so it is read as immutable (SQLite docs, "URI
+                    # Filenames", immutable=1).
+                    conn.close()
+                    conn = sqlite3.connect(f"{uri}&immutable=1", uri=True, timeout=timeout,
+                                           check_same_thread=False)
+                return conn
+
+            engine = create_engine(url, creator=connect)
+            event.listen(engine, "connect", _sqlite_read_only_pragmas)
+            return engine
         if url.database and url.database != ":memory:":
-            Path(url.database).parent.mkdir(parents=True, exist_ok=True)
+            try:
+                Path(url.database).parent.mkdir(parents=True, exist_ok=True)
+            except OSError as err:
+                raise DatabaseError(f"cannot create the folder of the database "
+                                    f"{url.database!r}: {err.strerror}") from err
         # Python's sqlite3 opens a transaction before the first write; every stock change is
         # one guarded UPDATE (see services/stock.py), so it needs nothing stronger. The
         # timeout is the busy wait for another writer's lock.
-        engine = create_engine(url, connect_args={"timeout": SQLITE_BUSY_TIMEOUT_MS / 1000})
+        engine = create_engine(url, connect_args={"timeout": timeout})
         event.listen(engine, "connect", _sqlite_pragmas)
         return engine
-    return create_engine(url, pool_pre_ping=True)
+    connect_args: dict[str, Any] = {}
+    if read_only and url.get_backend_name() == "postgresql":
+        # Every transaction READ ONLY (PostgreSQL docs, "default_transaction_read_only").
+        connect_args["options"] = "-c default_transaction_read_only=on"
+    try:
+        return create_engine(url, pool_pre_ping=True, connect_args=connect_args)
+    except Exception as err:  # a missing driver module, a bad option in the URL
+        raise DatabaseError(f"cannot use database {mask_url(url)}: "
+                            f"{mask_url(str(err)).splitlines()[0]}") from err
 
 
 def alembic_config(connection: Any) -> Any:
@@ -205,35 +342,74 @@ def _refuse_writes(conn: Any, cursor: Any, statement: str, *args: Any) -> None:
 
 def _friendly(err: OperationalError, db: Database) -> DatabaseError:
     text = str(err.orig) if err.orig is not None else str(err)
+    if db.read_only and "readonly" in text.replace("-", "").replace(" ", ""):
+        return ReadOnlyError("this database is open read-only (--read-only): nothing was changed")
     if "locked" in text or "busy" in text:
         return DatabaseError(
             f"the database is busy (another partsdb is writing) and stayed locked for "
             f"{SQLITE_BUSY_TIMEOUT_MS / 1000:.0f} s; nothing was changed, try again")
-    return DatabaseError(f"database error on {db.describe()}: {text.splitlines()[0]}")
+    return DatabaseError(f"database error on {db.describe()}: "
+                         f"{mask_url(text).splitlines()[0] if text else type(err).__name__}")
+
+
+def known_revisions() -> list[str]:
+    """Every schema revision this partsdb has a migration for (slow: imports Alembic)."""
+    from alembic.script import ScriptDirectory
+
+    script = ScriptDirectory.from_config(alembic_config(None))
+    return [rev.revision for rev in script.walk_revisions()]
 
 
 def open_database(target: str | os.PathLike[str] | None = None, *, read_only: bool = False,
                   upgrade_schema: bool = True,
                   notify: Callable[[str], None] | None = None) -> Database:
-    """Open (creating if needed) a database and bring its schema to the newest revision."""
+    """Open a database and bring its schema to the newest revision.
+
+    Without ``read_only`` a missing SQLite file is created. With ``read_only`` nothing is
+    ever written: a missing file, an empty database or an older schema is refused with a
+    message saying which command creates or upgrades it. A schema newer than this partsdb is
+    refused either way (exit 3)."""
     url = resolve_url(target)
-    engine = make_engine(url)
+    engine = make_engine(url, read_only=read_only)
     try:
-        if upgrade_schema:
+        if upgrade_schema or read_only:
             current = current_revision(engine)
             head = SCHEMA_HEAD
             if current != head:
+                if current is not None and current not in known_revisions():
+                    raise DatabaseError(
+                        f"the database {mask_url(url)} has schema revision {current}, newer "
+                        f"than this partsdb knows (newest here: {head}); use a newer partsdb")
                 if read_only:
+                    what = ("holds no partsdb schema" if current is None else
+                            f"has an older schema ({current}; this partsdb uses {head})")
                     raise ReadOnlyError(
-                        f"the database {mask_url(url)} needs a schema upgrade "
-                        f"({current or 'empty'} -> {head}); open it once without --read-only")
-                fresh = current is None and not inspect(engine).get_table_names()
-                upgrade(engine)
-                if notify is not None:
-                    notify(f"partsdb: created database {mask_url(url)}" if fresh else
-                           f"partsdb: upgraded database schema {current} -> {head}")
-    except OperationalError as err:
+                        f"the database {mask_url(url)} {what}; nothing was changed "
+                        f"(opened read-only); `partsdb --db PATH init` without --read-only "
+                        + ("creates" if current is None else "upgrades") + " it")
+                if upgrade_schema:
+                    fresh = current is None and not inspect(engine).get_table_names()
+                    try:
+                        upgrade(engine)
+                    except OperationalError:
+                        raise
+                    except Exception as err:  # alembic CommandError and the like
+                        raise DatabaseError(f"cannot upgrade the schema of {mask_url(url)}: "
+                                            f"{mask_url(str(err)).splitlines()[0]}") from err
+                    if notify is not None:
+                        notify(f"partsdb: created database {mask_url(url)}" if fresh else
+                               f"partsdb: upgraded database schema {current} -> {head}")
+    except (OperationalError, DBAPIError) as err:
         engine.dispose()
+        text = str(getattr(err, "orig", None) or err)
+        hint = ""
+        if (url.get_backend_name() == "sqlite" and url.database and not read_only
+                and _on_read_only_mount(Path(url.database))):
+            hint = " (it is on a read-only file system: add --read-only to look things up)"
         raise DatabaseError(f"cannot open database {mask_url(url)}: "
-                            f"{str(err.orig).splitlines()[0]}") from err
+                            f"{mask_url(text).splitlines()[0] if text else type(err).__name__}"
+                            f"{hint}") from err
+    except BaseException:
+        engine.dispose()
+        raise
     return Database(engine, read_only=read_only)

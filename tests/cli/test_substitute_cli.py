@@ -163,7 +163,7 @@ def test_job_sheet_files(url: str, tmp_path: Path) -> None:
     bad = run(url, "substitute", "QZ100", "--format", "md", "--output",
               str(tmp_path / "no-such-dir" / "sheet.md"))
     assert bad.exit_code == 3
-    assert "sheet.md" in bad.output and "cannot be written" in bad.output
+    assert "sheet.md" in bad.output and "cannot write" in bad.output
     assert "Traceback" not in bad.output and len(bad.output.strip().splitlines()) == 1
 
 

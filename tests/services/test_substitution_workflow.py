@@ -10,11 +10,12 @@ from typing import Any
 
 import pytest
 
+from partsdb.errors import PartsdbError
 from partsdb.ranking import SpecError, Stress
 from partsdb.services import catalog, swaplog
 from partsdb.services.catalog import NotFound
+from partsdb.services.files import FileProblem
 from partsdb.services.substitution import (
-    ReportWriteError,
     clear_cache,
     parse_spec,
     parse_stress,
@@ -114,17 +115,21 @@ def test_write_report_refuses_and_keeps_existing_files(shop: Any, tmp_path: Path
     assert write_report(result, out / "sheet.html").read_text().startswith("<!DOCTYPE html>")
     with pytest.raises(SpecError, match=r"expected a name ending in \.md or \.html"):
         write_report(result, out / "sheet.txt")
-    with pytest.raises(ReportWriteError, match="cannot be written"):
+    with pytest.raises(FileProblem, match="cannot write"):
         write_report(result, out / "missing-dir" / "sheet.md")
+    # An existing file is replaced only when asked (issue 14 item 1).
+    with pytest.raises(PartsdbError, match=r"--force|exists"):
+        write_report(result, out / "sheet.md", job="J-9b")
+    assert target.read_text(encoding="utf-8") == text
 
     # A write that fails at the last step leaves the file that was there unchanged, and no
     # temporary file behind.
     def refuse(src: str, dst: str) -> None:
         raise OSError(28, "No space left on device")
 
-    monkeypatch.setattr("partsdb.services.substitution.os.replace", refuse)
-    with pytest.raises(ReportWriteError, match="No space left"):
-        write_report(result, out / "sheet.md", job="J-10")
+    monkeypatch.setattr("partsdb.services.files.os.replace", refuse)
+    with pytest.raises(FileProblem, match="No space left"):
+        write_report(result, out / "sheet.md", job="J-10", force=True)
     assert (out / "sheet.md").read_text(encoding="utf-8") == text
     assert sorted(p.name for p in out.iterdir()) == ["sheet.html", "sheet.md"]
 

@@ -82,7 +82,7 @@ def test_backup_refuses_to_overwrite_without_force(tmp_path: Path) -> None:
     assert _cli("--db", url, "backup", "--force", str(dest)).exit_code == 0
     assert dest.read_bytes().startswith(b"SQLite format 3\x00")
     itself = _cli("--db", url, "backup", "--force", str(tmp_path / "shop.sqlite"))
-    assert itself.exit_code == 2 and "the database itself" in itself.output
+    assert itself.exit_code == 2 and "a file of the open database" in itself.output
 
 
 def test_backup_while_moves_run_is_consistent(db_url: str, tmp_path: Path) -> None:

@@ -92,6 +92,7 @@ def test_copy_refuses_a_target_holding_data(bench: tuple[str, dict], db_url: str
 
 def test_copy_refuses_the_same_database(tmp_path: Path) -> None:
     url = f"sqlite:///{tmp_path / 'one.sqlite'}"
+    assert _cli("--db", url, "init").exit_code == 0  # copy never creates its source
     result = _cli("copy", "--from", url, "--to", str(tmp_path / "one.sqlite"))
     assert result.exit_code == 2
     assert "same database" in result.output

@@ -70,7 +70,7 @@ def fill_shop(db: Any) -> None:
         for ident, note in zip(ids, TRICKY_TEXT, strict=False):
             session.execute(update(DeviceRow).where(DeviceRow.id == ident).values(notes=note))
         session.execute(update(DeviceRow).where(DeviceRow.id == ids[-1])
-                        .values(icbo=0.1 + 0.2, hfe_ic=3.3e-12))
+                        .values(icbo=(0.1 + 0.2) * 1e-6, hfe_ic=0.1 + 0.2))
         session.add(SwapRow(original="OC372", original_key="OC372", substitute="ZT101",
                             substitute_key="ZT101", job="R-7", outcome="worked", vce_peak=12.5,
                             power=0.125, note="\\N"))

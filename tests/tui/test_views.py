@@ -535,3 +535,30 @@ async def test_substitute_offers_every_stress_the_cli_offers(shop_db: Any) -> No
         # The frequency sets the fT need by gain-bandwidth (hFE min x f).
         ft = view.result.candidates[0].check("ft")
         assert ft.need == pytest.approx(view.result.requirement.hfe_min * 2e4)
+
+
+async def test_log_swap_under_read_only_is_a_message_not_a_crash(shop_db: Any,
+                                                                 tmp_path: Any) -> None:
+    """Issue 14 item 12: `w` (log swap) on a read-only database says so and the app runs on;
+    the swap log stays empty (checked through the service afterwards)."""
+    from partsdb.services import swaplog
+    from partsdb.storage.database import open_database
+
+    path = shop_db.url.database
+    shop_db.dispose()
+    ro = open_database(path, read_only=True, notify=None)
+    app = build_app(ro, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.press("f4")
+        await pilot.pause()
+        await type_text(pilot, "qx3301")
+        await pilot.press("enter")
+        await pilot.pause()
+        await pilot.press("w")
+        await pilot.pause()
+        assert app.is_running
+        notes = [n.message for n in app._notifications]
+        assert any("read-only" in m for m in notes), notes
+    with ro.session() as session:
+        assert swaplog.list_swaps(session) == []
+    ro.dispose()
