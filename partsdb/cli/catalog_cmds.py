@@ -31,25 +31,36 @@ def init(state: CliState) -> None:
 @click.command()
 @click.option("--no-ui", is_flag=True, help="Build the demo and print a summary instead of "
                                            "opening the terminal UI.")
-@click.option("--path", "path", type=click.Path(dir_okay=False), default=None,
-              help="Where to build the demo database (default: partsdb-demo.sqlite in your user "
-                   "data directory). Replaced if it exists.")
+@click.option("--db", "--path", "path", type=click.Path(dir_okay=False), default=None,
+              metavar="PATH",
+              help="Where to build the demo database, a SQLite file (default: the global --db "
+                   "when given, else partsdb-demo.sqlite in your user data directory). Replaced "
+                   "if it exists.")
 @click.pass_context
 def demo(ctx: click.Context, no_ui: bool, path: str | None) -> None:
     """Build a fresh demo workshop database (invented parts and drawers) and open it.
 
-    The demo database is separate from your own: it never touches the default database.
+    The demo database is separate from your own: without --db it never touches the default
+    database. `partsdb --db X demo` and `partsdb demo --db X` both build it in X.
     """
-    from partsdb.services.demo import build_demo, default_demo_path, demo_summary
+    import shlex
+
+    from partsdb.services.demo import build_demo, demo_summary, demo_target
 
     state: CliState = ctx.obj
-    target = path or str(default_demo_path())
+    parent = ctx.parent
+    # Only a --db typed on the command line names the demo's file: $PARTSDB_DB usually points
+    # at the user's own database, which the demo must never replace.
+    given = (state.db_url if parent is not None and
+             parent.get_parameter_source("db_url") is click.core.ParameterSource.COMMANDLINE
+             else None)
+    target = demo_target(path or given)
     db = build_demo(target)
     click.echo(f"demo database: {target}", err=no_ui is False)
     if no_ui:
-        click.echo(demo_summary(db))
+        click.echo(demo_summary(db, command=f"partsdb --db {shlex.quote(str(target))}"))
         return
-    state.db_url = target
+    state.db_url = str(target)
     state._db = db
     from partsdb.cli.common import launch_tui
 

@@ -44,6 +44,28 @@ def default_demo_path() -> Path:
     return Path(user_data_dir("partsdb", appauthor=False)) / "partsdb-demo.sqlite"
 
 
+def demo_target(given: str | os.PathLike[str] | None) -> Path:
+    """Where to build the demo: ``given`` (a SQLite file path), else the default demo file.
+
+    Refuses a server URL (the demo replaces a whole database, which is only done to a file)
+    and the user's own default database.
+    """
+    from partsdb.errors import InvalidInput
+    from partsdb.storage.database import default_path
+
+    if given is None:
+        return default_demo_path()
+    text = os.fspath(given)
+    if "://" in text:
+        raise InvalidInput(f"--db: {text.split('://')[0]}:// URL given; the demo is built in a "
+                           "SQLite file, expected a file path")
+    path = Path(text).expanduser()
+    if path.resolve() == default_path().resolve():
+        raise InvalidInput(f"--db: {text!r} is your own default database; the demo replaces "
+                           "its file, expected another path")
+    return path
+
+
 def build_demo(target: str | os.PathLike[str]) -> Database:
     """Replace ``target`` with a new demo database; returns it open."""
     from partsdb.services import exchange, stock
@@ -83,8 +105,11 @@ def build_demo(target: str | os.PathLike[str]) -> Database:
     return db
 
 
-def demo_summary(db: Database) -> str:
-    """A few lines on what the demo holds, plus one worked substitution when available."""
+def demo_summary(db: Database, command: str = "partsdb") -> str:
+    """A few lines on what the demo holds, plus one worked substitution when available.
+
+    ``command`` starts the command lines shown (``partsdb --db FILE`` names the demo's file).
+    """
     from sqlalchemy import func, select
 
     from partsdb.services import stock
@@ -108,7 +133,7 @@ def demo_summary(db: Database) -> str:
         worked_example = None
     if worked_example is not None:
         lines.append("")
-        lines.append(worked_example(db))
+        lines.append(worked_example(db, command))
     from partsdb.cautions import SHORT_CAUTION
 
     lines += ["", SHORT_CAUTION]
