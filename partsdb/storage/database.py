@@ -1,8 +1,13 @@
 """Opening a database: where it lives, engine settings, schema upgrades, sessions, read-only.
 
 The default is a SQLite file in the per-user data directory (platformdirs); ``--db`` (a path or
-any SQLAlchemy URL) and the ``PARTSDB_DB`` environment variable override it. Opening a database
-brings its schema to the newest Alembic revision, with a one-line notice when it changed.
+any SQLAlchemy URL) and the ``PARTSDB_DB`` environment variable override it.
+
+Schema upgrades: opening an empty database creates the newest schema. An older SQLite file (one
+bench, one host) is upgraded on open with a one-line notice. A PostgreSQL database is shared by
+benches that may run different partsdb versions, so ordinary commands never upgrade it: they
+stop with one line asking for ``partsdb upgrade``, which upgrades explicitly. A database whose
+schema is newer than this partsdb knows is refused in one line (update partsdb).
 """
 
 from __future__ import annotations
@@ -31,6 +36,10 @@ MIGRATIONS = Path(__file__).with_name("migrations")
 
 class DatabaseError(EnvironmentProblem):
     """A database problem worth a clear one-line message (never a traceback)."""
+
+
+class SchemaMismatch(DatabaseError):
+    """The database's schema is not the one this partsdb works with (exit 3); nothing changed."""
 
 
 class ReadOnlyError(DatabaseError):
@@ -103,6 +112,12 @@ SCHEMA_HEAD = "0003"
 """The newest migration revision. Opening a database compares its ``alembic_version`` with
 this by plain SQL, so Alembic (about 0.2 s to import) loads only when an upgrade is due; a test
 checks that it equals Alembic's own head."""
+
+
+def known_revisions() -> tuple[str, ...]:
+    """The revisions this partsdb's migration scripts hold, oldest first (from file names such as
+    ``0002_swap_log.py``, without importing Alembic)."""
+    return tuple(sorted(p.name.split("_", 1)[0] for p in (MIGRATIONS / "versions").glob("*.py")))
 
 
 def head_revision() -> str:
@@ -213,27 +228,56 @@ def _friendly(err: OperationalError, db: Database) -> DatabaseError:
 
 
 def open_database(target: str | os.PathLike[str] | None = None, *, read_only: bool = False,
-                  upgrade_schema: bool = True,
+                  upgrade_schema: bool | None = None,
                   notify: Callable[[str], None] | None = None) -> Database:
-    """Open (creating if needed) a database and bring its schema to the newest revision."""
+    """Open (creating if needed) a database, checking its schema revision.
+
+    ``upgrade_schema``: None (ordinary commands) upgrades an older SQLite file but refuses an
+    older server database with :class:`SchemaMismatch`; True upgrades either (``partsdb
+    upgrade``); False skips the check. A schema newer than this partsdb is always refused.
+    """
     url = resolve_url(target)
     engine = make_engine(url)
     try:
-        if upgrade_schema:
-            current = current_revision(engine)
-            head = SCHEMA_HEAD
-            if current != head:
-                if read_only:
-                    raise ReadOnlyError(
-                        f"the database {mask_url(url)} needs a schema upgrade "
-                        f"({current or 'empty'} -> {head}); open it once without --read-only")
-                fresh = current is None and not inspect(engine).get_table_names()
-                upgrade(engine)
-                if notify is not None:
-                    notify(f"partsdb: created database {mask_url(url)}" if fresh else
-                           f"partsdb: upgraded database schema {current} -> {head}")
+        if upgrade_schema is not False:
+            _check_schema(engine, url, read_only, upgrade_schema, notify)
     except OperationalError as err:
         engine.dispose()
         raise DatabaseError(f"cannot open database {mask_url(url)}: "
                             f"{str(err.orig).splitlines()[0]}") from err
+    except BaseException:
+        engine.dispose()
+        raise
     return Database(engine, read_only=read_only)
+
+
+def _check_schema(engine: Engine, url: URL, read_only: bool, upgrade_schema: bool | None,
+                  notify: Callable[[str], None] | None) -> None:
+    current = current_revision(engine)
+    head = SCHEMA_HEAD
+    if current == head:
+        return
+    if current is not None and current not in known_revisions():
+        raise SchemaMismatch(
+            f"the database {mask_url(url)} has schema {current}, newer than this partsdb "
+            f"{_version()} knows ({head}); update partsdb on this machine")
+    fresh = current is None and not inspect(engine).get_table_names()
+    if read_only:
+        raise ReadOnlyError(
+            f"the database {mask_url(url)} needs a schema upgrade "
+            f"({current or 'empty'} -> {head}); open it once without --read-only")
+    if not fresh and upgrade_schema is None and url.get_backend_name() != "sqlite":
+        raise SchemaMismatch(
+            f"the database {mask_url(url)} has schema {current or 'none'}, older than this "
+            f"partsdb's {head}; run `partsdb upgrade` once (after a backup), then every bench "
+            "needs this version")
+    upgrade(engine)
+    if notify is not None:
+        notify(f"partsdb: created database {mask_url(url)}" if fresh else
+               f"partsdb: upgraded database schema {current} -> {head}")
+
+
+def _version() -> str:
+    from partsdb import __version__
+
+    return __version__

@@ -10,7 +10,7 @@ from typing import Any
 
 import pytest
 
-from partsdb.ranking import SpecError, Stress
+from partsdb.ranking import Stress
 from partsdb.services import catalog, stock, swaplog
 from partsdb.services.catalog import NotFound
 from partsdb.services.substitution import (
