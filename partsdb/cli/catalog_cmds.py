@@ -144,7 +144,7 @@ def device_json(device: Device) -> dict[str, Any]:
 
 @device.command("show")
 @click.argument("designation")
-@format_option("table", "json", "csv")
+@format_option("table", "json", "csv", "tsv")
 @pass_state
 def device_show(state: CliState, designation: str, fmt: str) -> None:
     """Show one device: every parameter, its stock and any consistency warning."""
@@ -159,7 +159,7 @@ def device_show(state: CliState, designation: str, fmt: str) -> None:
         data["locations"] = [v.location for v in lots if v.quantity > 0]
         emit_json(data)
         return
-    if fmt == "csv":
+    if fmt in ("csv", "tsv"):
         emit_csv([f.name for f in FIELDS], [[found.to_dict()[f.name] for f in FIELDS]])
         return
     rows = [(spec.label, found.display(spec.name)) for spec in FIELDS
@@ -182,7 +182,7 @@ def device_show(state: CliState, designation: str, fmt: str) -> None:
 @click.option("--suspect", is_flag=True, help="Only records whose fields contradict their "
                                                "designation.")
 @click.option("--limit", type=click.IntRange(min=1), default=None, help="At most this many.")
-@format_option("table", "json", "csv")
+@format_option("table", "json", "csv", "tsv")
 @pass_state
 def device_list(state: CliState, polarity: str | None, material: str | None, kind: str | None,
                 package: str | None, obsolete: bool | None, suspect: bool, limit: int | None,
@@ -199,7 +199,7 @@ def device_list(state: CliState, polarity: str | None, material: str | None, kin
     if fmt == "json":
         emit_json([device_json(d) for d in devices])
         return
-    if fmt == "csv":
+    if fmt in ("csv", "tsv"):
         emit_csv([f.name for f in FIELDS], [[d.to_dict()[f.name] for f in FIELDS] for d in devices])
         return
     columns = ["Designation", "Type", "Vceo", "Ic max", "Ptot", "hFE", "fT", "Package", "Stock"]
