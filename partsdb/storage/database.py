@@ -23,7 +23,7 @@ from typing import Any, TypeVar
 
 from sqlalchemy import create_engine, event, inspect
 from sqlalchemy.engine import URL, Engine, make_url
-from sqlalchemy.exc import OperationalError
+from sqlalchemy.exc import DBAPIError, OperationalError
 from sqlalchemy.orm import Session, sessionmaker
 
 from partsdb.errors import EXIT_INVALID, EnvironmentProblem
@@ -173,6 +173,13 @@ class Database:
         except OperationalError as err:
             session.rollback()
             raise _friendly(err, self) from err
+        except DBAPIError as err:
+            session.rollback()
+            if _sqlstate(err) == INSUFFICIENT_PRIVILEGE:
+                raise PermissionRefused(
+                    f"the server refused: {_first_line(err)} (the role in use may only read); "
+                    "nothing was changed") from err
+            raise
         except BaseException:
             session.rollback()
             raise
@@ -202,6 +209,24 @@ class Database:
 
 TRANSIENT_SQLSTATES = frozenset({"40001", "40P01"})
 """serialization_failure, deadlock_detected: the transaction may simply be run again."""
+
+
+INSUFFICIENT_PRIVILEGE = "42501"
+"""PostgreSQL SQLSTATE for a statement the role has no privilege for (Appendix A)."""
+
+
+class PermissionRefused(DatabaseError):
+    """The server refused a change the role may not make (a read-only role): exit 2."""
+
+    exit_code = EXIT_INVALID
+
+
+def _sqlstate(err: BaseException | None) -> str | None:
+    return getattr(getattr(err, "orig", err), "sqlstate", None)
+
+
+def _first_line(err: DBAPIError) -> str:
+    return (str(err.orig) if err.orig is not None else str(err)).strip().splitlines()[0]
 
 
 def is_transient(err: BaseException | None) -> bool:
