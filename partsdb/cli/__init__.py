@@ -92,8 +92,50 @@ def _register() -> None:
     for command in (*catalog_cmds.COMMANDS, *exchange_cmds.COMMANDS, *stock_cmds.COMMANDS,
                     designations.decode, designations.find, circuit.check, circuit.bias,
                     circuit.spice, substitute.substitute, substitute.swaplog, substitute.policies,
-                    shop.copy, shop.backup, shop.restore, bench.bench, ui.tui):
+                    shop.copy, shop.backup, shop.restore, shop.upgrade, bench.bench, ui.tui):
         main.add_command(command)
+    _add_completion(main)
+
+
+DESIGNATION_PARAMS = frozenset({"designation", "original", "substitute_part", "device_name",
+                                "substitute"})
+"""Parameters naming a stored device, completed from the database (``device add`` excepted:
+it names a new one)."""
+PLACE_PARAMS = frozenset({"to", "from_", "at", "location"})
+"""Options of the ``stock`` commands naming a place (``copy --from/--to`` name databases)."""
+
+
+def _complete_designation(ctx: click.Context, param: click.Parameter,
+                          incomplete: str) -> list[str]:
+    from partsdb.services.completion import complete_designations
+
+    return complete_designations(ctx.find_root().params.get("db_url"), incomplete)
+
+
+def _complete_place(ctx: click.Context, param: click.Parameter, incomplete: str) -> list[str]:
+    from partsdb.services.completion import complete_places
+
+    return complete_places(ctx.find_root().params.get("db_url"), incomplete)
+
+
+def _add_completion(group: click.Group, path: tuple[str, ...] = ()) -> None:
+    """Give designation and place parameters completion from the database (bash, zsh, fish
+    through click's ``_PARTSDB_COMPLETE``; docs/shell.md). Set here, by parameter name, rather
+    than on each of the thirty-odd parameters."""
+    for name, command in group.commands.items():
+        where = (*path, name)
+        if isinstance(command, click.Group):
+            _add_completion(command, where)
+            continue
+        for param in command.params:
+            if param.name in DESIGNATION_PARAMS and where != ("device", "add") and \
+                    isinstance(param, click.Argument | click.Option) and not \
+                    (isinstance(param, click.Option) and param.is_flag):
+                if param.opts == ["--new-designation"]:
+                    continue
+                param._custom_shell_complete = _complete_designation  # click's hook (8.0+)
+            elif param.name in PLACE_PARAMS and where[0] == "stock":
+                param._custom_shell_complete = _complete_place
 
 
 _register()

@@ -31,37 +31,48 @@ def init(state: CliState) -> None:
 @click.command()
 @click.option("--no-ui", is_flag=True, help="Build the demo and print a summary instead of "
                                            "opening the terminal UI.")
-@click.option("--path", "path", type=click.Path(dir_okay=False), default=None,
-              help="Where to build the demo database (default: partsdb-demo.sqlite in your user "
-                   "data directory). An earlier demo there is replaced; any other file is "
-                   "refused unless --force is given.")
+@click.option("--db", "--path", "path", type=click.Path(dir_okay=False), default=None,
+              metavar="PATH",
+              help="Where to build the demo database, a SQLite file (default: the global --db "
+                   "when given, else partsdb-demo.sqlite in your user data directory). An "
+                   "earlier demo there is replaced; any other file is refused unless --force.")
 @click.option("--force", is_flag=True,
-              help="Replace an existing file at --path that is not a demo database (never your "
-                   "working database).")
+              help="Replace an existing file that is not a demo database (never your working "
+                   "database).")
 @click.pass_context
 def demo(ctx: click.Context, no_ui: bool, path: str | None, force: bool) -> None:
     """Build a fresh demo workshop database (invented parts and drawers) and open it.
 
-    The demo database is separate from your own: it never replaces the default database or
-    the one named by --db, and is refused under --read-only.
+    The demo database is separate from your own: it never replaces the default database,
+    and is refused under --read-only. `partsdb --db X demo` and `partsdb demo --db X` both
+    build it in X (an existing X that is not a demo only with --force).
     """
+    import shlex
+
     from partsdb.services.demo import (
         build_demo,
         check_demo_target,
-        default_demo_path,
         demo_summary,
+        demo_target,
     )
 
     state: CliState = ctx.obj
-    target = path or str(default_demo_path())
-    working = state.db_url if state.db_url and "://" not in state.db_url else None
+    parent = ctx.parent
+    # Only a --db typed on the command line names the demo's file: $PARTSDB_DB usually points
+    # at the user's own database, which the demo must never replace.
+    given = (state.db_url if parent is not None and
+             parent.get_parameter_source("db_url") is click.core.ParameterSource.COMMANDLINE
+             else None)
+    target = demo_target(path or given)
+    working = (state.db_url if given is None and state.db_url and "://" not in state.db_url
+               else None)
     check_demo_target(target, force=force, read_only=state.read_only, protect=(working,))
     db = build_demo(target)
     click.echo(f"demo database: {target}", err=no_ui is False)
     if no_ui:
-        click.echo(demo_summary(db))
+        click.echo(demo_summary(db, command=f"partsdb --db {shlex.quote(str(target))}"))
         return
-    state.db_url = target
+    state.db_url = str(target)
     state._db = db
     from partsdb.cli.common import launch_tui
 
@@ -145,7 +156,7 @@ def device_json(device: Device) -> dict[str, Any]:
 
 @device.command("show")
 @click.argument("designation")
-@format_option("table", "json", "csv")
+@format_option("table", "json", "csv", "tsv")
 @pass_state
 def device_show(state: CliState, designation: str, fmt: str) -> None:
     """Show one device: every parameter, its stock and any consistency warning."""
@@ -160,7 +171,7 @@ def device_show(state: CliState, designation: str, fmt: str) -> None:
         data["locations"] = [v.location for v in lots if v.quantity > 0]
         emit_json(data)
         return
-    if fmt == "csv":
+    if fmt in ("csv", "tsv"):
         emit_csv([f.name for f in FIELDS], [[found.to_dict()[f.name] for f in FIELDS]])
         return
     rows = [(spec.label, found.display(spec.name)) for spec in FIELDS
@@ -183,7 +194,7 @@ def device_show(state: CliState, designation: str, fmt: str) -> None:
 @click.option("--suspect", is_flag=True, help="Only records whose fields contradict their "
                                                "designation.")
 @click.option("--limit", type=click.IntRange(min=1), default=None, help="At most this many.")
-@format_option("table", "json", "csv")
+@format_option("table", "json", "csv", "tsv")
 @pass_state
 def device_list(state: CliState, polarity: str | None, material: str | None, kind: str | None,
                 package: str | None, obsolete: bool | None, suspect: bool, limit: int | None,
@@ -200,7 +211,7 @@ def device_list(state: CliState, polarity: str | None, material: str | None, kin
     if fmt == "json":
         emit_json([device_json(d) for d in devices])
         return
-    if fmt == "csv":
+    if fmt in ("csv", "tsv"):
         emit_csv([f.name for f in FIELDS], [[d.to_dict()[f.name] for f in FIELDS] for d in devices])
         return
     columns = ["Designation", "Type", "Vceo", "Ic max", "Ptot", "hFE", "fT", "Package", "Stock"]

@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import json
 import math
+import re
 import sys
 from collections.abc import Callable, Iterable, Sequence
 from dataclasses import dataclass, field
@@ -158,8 +159,16 @@ def emit_json(data: Any) -> None:
 
 
 def emit_csv(columns: Sequence[str], rows: Iterable[Sequence[Any]]) -> None:
+    """CSV on stdout, or TSV when the command was given ``--format tsv``: one line per row,
+    tab-separated, tabs and line breaks inside a value turned into spaces (for cut/awk/sort)."""
     import csv
 
+    ctx = click.get_current_context(silent=True)
+    if ctx is not None and ctx.params.get("fmt") == "tsv":
+        for line in (columns, *rows):
+            cells = ("" if v is None else str(v) for v in line)
+            click.echo("\t".join(re.sub(r"[\t\r\n]+", " ", c) for c in cells))
+        return
     writer = csv.writer(sys.stdout, lineterminator="\n")
     writer.writerow(columns)
     for row in rows:
@@ -177,7 +186,13 @@ def print_table(title: str | None, columns: Sequence[str], rows: Iterable[Sequen
         table.add_column(col)
     for row in rows:
         table.add_row(*["—" if v is None else str(v) for v in row])
-    Console().print(table)
+    # Written to a pipe or file, a table has no screen to fit: rich would cut it to 80 columns
+    # with "…", so it gets all the width its cells need.
+    Console(width=None if sys.stdout.isatty() else WIDE).print(table)
+
+
+WIDE = 10_000
+"""Width given to tables written to a pipe or file (they are as wide as their cells need)."""
 
 
 def load_device(state: CliState, designation: str) -> Device:

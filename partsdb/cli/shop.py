@@ -1,4 +1,4 @@
-"""CLI: ``copy`` a whole shop between databases, ``backup`` it, ``restore`` it.
+"""CLI: ``copy`` a whole shop between databases, ``backup`` it, ``restore`` it, ``upgrade`` it.
 
 Each command is one call into :mod:`partsdb.services.shop`; refusals (a non-empty target, an
 existing backup file, a damaged archive) exit 2 with a message, and nothing is changed.
@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import click
 
-from partsdb.cli.common import CliState, emit_json, format_option, pass_state
+from partsdb.cli.common import CliState, emit_json, fail, format_option, pass_state
 
 
 def _notice(state: CliState) -> object:
@@ -117,4 +117,29 @@ def restore(state: CliState, src: str, force: bool, allow_empty: bool) -> None:
     _print_report(report, "restored")
 
 
-COMMANDS = (copy, backup, restore)
+@click.command("upgrade")
+@pass_state
+def upgrade(state: CliState) -> None:
+    """Bring the database's schema to the one this partsdb uses (after a backup).
+
+    A shared PostgreSQL database is never upgraded by ordinary commands, since benches with an
+    older partsdb could no longer open it: back it up, update partsdb on every bench, then run
+    this once. A SQLite file is upgraded when any command opens it; this does it explicitly.
+    """
+    from partsdb.storage.database import SCHEMA_HEAD, current_revision, open_database
+
+    if state.read_only:
+        fail("--read-only: an upgrade changes the database; run it without --read-only")
+    notices: list[str] = []
+    db = open_database(state.db_url, upgrade_schema=True, notify=notices.append)
+    try:
+        for notice in notices:
+            click.echo(notice.removeprefix("partsdb: "))
+        if not notices:
+            click.echo(f"schema {current_revision(db.engine)} of {db.describe()} is current "
+                       f"({SCHEMA_HEAD}); nothing to do")
+    finally:
+        db.dispose()
+
+
+COMMANDS = (copy, backup, restore, upgrade)

@@ -130,7 +130,7 @@ def count(state: CliState, designation: str, qty: int, at: str, condition: str |
 
 @stock.command("where")
 @click.argument("designation")
-@format_option("table", "json", "csv")
+@format_option("table", "json", "csv", "tsv")
 @pass_state
 def where(state: CliState, designation: str, fmt: str) -> None:
     """Where a device is kept and how many are in each place."""
@@ -140,7 +140,7 @@ def where(state: CliState, designation: str, fmt: str) -> None:
         lots = svc.where(session, designation)
     if fmt == "json":
         emit_json([v.to_json() for v in lots])
-    elif fmt == "csv":
+    elif fmt in ("csv", "tsv"):
         emit_csv(["designation", "location", "quantity", "condition", "note"],
                  [[v.designation, v.location, v.quantity, v.condition, v.note] for v in lots])
     else:
@@ -150,7 +150,7 @@ def where(state: CliState, designation: str, fmt: str) -> None:
 
 
 @stock.command("low")
-@format_option("table", "json", "csv")
+@format_option("table", "json", "csv", "tsv")
 @pass_state
 def low(state: CliState, fmt: str) -> None:
     """Devices whose stock is below their low-stock mark."""
@@ -162,7 +162,7 @@ def low(state: CliState, fmt: str) -> None:
     if fmt == "json":
         emit_json([{"designation": i.designation, "quantity": i.quantity,
                     "low_stock": i.threshold, "locations": i.locations} for i in items])
-    elif fmt == "csv":
+    elif fmt in ("csv", "tsv"):
         emit_csv(["designation", "quantity", "low_stock", "locations"], rows)
     else:
         print_table("Below the low-stock mark", ["Designation", "Qty", "Mark", "Where"], rows)
@@ -186,7 +186,7 @@ def _date(text: str | None, name: str) -> datetime | None:
 @click.option("--since", metavar="DATE", help="From this date (YYYY-MM-DD).")
 @click.option("--until", metavar="DATE", help="Up to this date.")
 @click.option("--limit", type=click.IntRange(min=1), default=50, show_default=True)
-@format_option("table", "json", "csv")
+@format_option("table", "json", "csv", "tsv")
 @pass_state
 def ledger(state: CliState, designation: str | None, location: str | None, job: str | None,
            since: str | None, until: str | None, limit: int, fmt: str) -> None:
@@ -201,7 +201,7 @@ def ledger(state: CliState, designation: str | None, location: str | None, job: 
         return
     rows = [[e.at.strftime("%Y-%m-%d %H:%M"), e.designation, e.location, e.condition,
              f"{e.change:+d}", e.reason, e.job, e.note] for e in entries]
-    if fmt == "csv":
+    if fmt in ("csv", "tsv"):
         emit_csv(["at", "designation", "location", "condition", "change", "reason", "job",
                   "note"], rows)
     else:

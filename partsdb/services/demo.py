@@ -91,6 +91,27 @@ def check_demo_target(target: str | os.PathLike[str], *, force: bool = False,
     return path
 
 
+def demo_target(given: str | os.PathLike[str] | None) -> Path:
+    """Where to build the demo: ``given`` (a SQLite file path), else the default demo file.
+
+    Refuses a server URL (the demo replaces a whole database, which is only done to a file)
+    and the user's own default database.
+    """
+    from partsdb.storage.database import default_path
+
+    if given is None:
+        return default_demo_path()
+    text = os.fspath(given)
+    if "://" in text:
+        raise InvalidInput(f"--db: {text.split('://')[0]}:// URL given; the demo is built in a "
+                           "SQLite file, expected a file path")
+    path = Path(text).expanduser()
+    if path.resolve() == default_path().resolve():
+        raise InvalidInput(f"--db: {text!r} is your own default database; the demo replaces "
+                           "its file, expected another path")
+    return path
+
+
 def build_demo(target: str | os.PathLike[str]) -> Database:
     """Replace ``target`` with a new demo database; returns it open.
 
@@ -148,8 +169,11 @@ def _fill(db: Database, seeds: Path) -> None:
                     raise DemoError(f"movements.csv: reason {reason!r} is not replayable")
 
 
-def demo_summary(db: Database) -> str:
-    """A few lines on what the demo holds, plus one worked substitution when available."""
+def demo_summary(db: Database, command: str = "partsdb") -> str:
+    """A few lines on what the demo holds, plus one worked substitution when available.
+
+    ``command`` starts the command lines shown (``partsdb --db FILE`` names the demo's file).
+    """
     from sqlalchemy import func, select
 
     from partsdb.services import stock
@@ -167,13 +191,9 @@ def demo_summary(db: Database) -> str:
         f"{devices} device types ({obsolete} obsolete), {parts} parts in {lots} lots across "
         f"{places} places, {moves} ledger entries, {len(low)} below their low-stock mark.",
     ]
-    try:
-        from partsdb.services.substitution import worked_example
-    except ImportError:
-        worked_example = None
-    if worked_example is not None:
-        lines.append("")
-        lines.append(worked_example(db))
+    from partsdb.services.substitution import worked_example
+
+    lines += ["", worked_example(db, command)]
     from partsdb.cautions import SHORT_CAUTION
 
     lines += ["", SHORT_CAUTION]

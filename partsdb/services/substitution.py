@@ -285,7 +285,8 @@ def build_requirement(session: Session, designation: str | None,
                       given: Mapping[str, Any] | None = None) -> Requirement:
     """The original's stored record with ``given`` values on top, or the given spec alone.
 
-    Raises :class:`SpecError` when the original is not stored and no polarity was given.
+    Raises :class:`catalog.NotFound` when the named original is not stored and no polarity
+    was given (exit 1, like every not-found), :class:`SpecError` for an unusable spec.
     """
     given = {k: v for k, v in (given or {}).items() if v is not None}
     unknown = sorted(set(given) - set(SPEC_FIELDS))
@@ -298,9 +299,9 @@ def build_requirement(session: Session, designation: str | None,
     if "polarity" not in given:
         if designation:
             hint = catalog_service.did_you_mean(session, designation)
-            raise SpecError(f"no stored device {designation!r} and no --polarity/--kind spec "
-                            f"given{hint}; give the spec, such as --polarity pnp --vceo 30V "
-                            "--ic 0.5A")
+            raise catalog_service.NotFound(
+                f"no stored device {designation!r} and no --polarity/--kind spec "
+                f"given{hint}; give the spec, such as --polarity pnp --vceo 30V --ic 0.5A")
         raise SpecError("no original designation and no --polarity/--kind spec given; name a "
                         "stored device or give the spec, such as --polarity npn --vceo 30V")
     if "ptot" in given and "ptot_ref" not in given:
@@ -427,11 +428,12 @@ def rank_substitutes(target: Session | Database, designation: str | None = None,
                 show_rejected=show_rejected, considered=considered)
 
 
-def worked_example(db: Database) -> str:
+def worked_example(db: Database, command: str = "partsdb") -> str:
     """A short text of one substitution on the database (the demo shows it after building).
 
     Takes the first obsolete device with none in stock (by designation) for which some part in
-    the drawers is a suitable or marginal substitute, and summarises the best one.
+    the drawers is a suitable or marginal substitute, and summarises the best one. ``command``
+    starts the command line it shows (e.g. ``partsdb --db demo.sqlite``).
     """
     from sqlalchemy import select as _select
 
@@ -459,7 +461,7 @@ def worked_example(db: Database) -> str:
                 f"Worked example: a substitute for {original} ({r.polarity.upper()} {r.material}, "
                 f"Vceo {format_quantity(r.vceo, 'V')}, Ic {format_quantity(r.ic_max, 'A')}, "
                 f"Ptot {format_quantity(r.ptot, 'W')}), none left in the drawers.",
-                f"  partsdb substitute {original} --in-stock   ({result.policy.name} policy)",
+                f"  {command} substitute {original} --in-stock   ({result.policy.name} policy)",
                 f"  best in stock: {best.designation}, score {best.score:.0f}, {best.verdict}, "
                 f"{best.in_stock} in {', '.join(best.locations) or '—'}",
             ]

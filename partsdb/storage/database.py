@@ -1,8 +1,13 @@
 """Opening a database: where it lives, engine settings, schema upgrades, sessions, read-only.
 
 The default is a SQLite file in the per-user data directory (platformdirs); ``--db`` (a path or
-any SQLAlchemy URL) and the ``PARTSDB_DB`` environment variable override it. Opening a database
-brings its schema to the newest Alembic revision, with a one-line notice when it changed.
+any SQLAlchemy URL) and the ``PARTSDB_DB`` environment variable override it.
+
+Schema upgrades: opening an empty database creates the newest schema. An older SQLite file (one
+bench, one host) is upgraded on open with a one-line notice. A PostgreSQL database is shared by
+benches that may run different partsdb versions, so ordinary commands never upgrade it: they
+stop with one line asking for ``partsdb upgrade``, which upgrades explicitly. A database whose
+schema is newer than this partsdb knows is refused in one line (update partsdb).
 """
 
 from __future__ import annotations
@@ -31,6 +36,10 @@ MIGRATIONS = Path(__file__).with_name("migrations")
 
 class DatabaseError(EnvironmentProblem):
     """A database problem worth a clear one-line message (never a traceback)."""
+
+
+class SchemaMismatch(DatabaseError):
+    """The database's schema is not the one this partsdb works with (exit 3); nothing changed."""
 
 
 class ReadOnlyError(DatabaseError):
@@ -242,6 +251,12 @@ this by plain SQL, so Alembic (about 0.2 s to import) loads only when an upgrade
 checks that it equals Alembic's own head."""
 
 
+def known_revisions() -> tuple[str, ...]:
+    """The revisions this partsdb's migration scripts hold, oldest first (from file names such as
+    ``0002_swap_log.py``, without importing Alembic)."""
+    return tuple(sorted(p.name.split("_", 1)[0] for p in (MIGRATIONS / "versions").glob("*.py")))
+
+
 def head_revision() -> str:
     """The newest revision according to Alembic's scripts (slow: imports Alembic)."""
     from alembic.script import ScriptDirectory
@@ -295,6 +310,13 @@ class Database:
         except OperationalError as err:
             session.rollback()
             raise _friendly(err, self) from err
+        except DBAPIError as err:
+            session.rollback()
+            if _sqlstate(err) == INSUFFICIENT_PRIVILEGE:
+                raise PermissionRefused(
+                    f"the server refused: {_first_line(err)} (the role in use may only read); "
+                    "nothing was changed") from err
+            raise
         except BaseException:
             session.rollback()
             raise
@@ -324,6 +346,24 @@ class Database:
 
 TRANSIENT_SQLSTATES = frozenset({"40001", "40P01"})
 """serialization_failure, deadlock_detected: the transaction may simply be run again."""
+
+
+INSUFFICIENT_PRIVILEGE = "42501"
+"""PostgreSQL SQLSTATE for a statement the role has no privilege for (Appendix A)."""
+
+
+class PermissionRefused(DatabaseError):
+    """The server refused a change the role may not make (a read-only role): exit 2."""
+
+    exit_code = EXIT_INVALID
+
+
+def _sqlstate(err: BaseException | None) -> str | None:
+    return getattr(getattr(err, "orig", err), "sqlstate", None)
+
+
+def _first_line(err: DBAPIError) -> str:
+    return (str(err.orig) if err.orig is not None else str(err)).strip().splitlines()[0]
 
 
 def is_transient(err: BaseException | None) -> bool:
@@ -361,44 +401,22 @@ def known_revisions() -> list[str]:
 
 
 def open_database(target: str | os.PathLike[str] | None = None, *, read_only: bool = False,
-                  upgrade_schema: bool = True,
+                  upgrade_schema: bool | None = None,
                   notify: Callable[[str], None] | None = None) -> Database:
-    """Open a database and bring its schema to the newest revision.
+    """Open a database, checking its schema revision.
 
-    Without ``read_only`` a missing SQLite file is created. With ``read_only`` nothing is
-    ever written: a missing file, an empty database or an older schema is refused with a
-    message saying which command creates or upgrades it. A schema newer than this partsdb is
-    refused either way (exit 3)."""
+    Without ``read_only`` a missing SQLite file is created. With ``read_only`` nothing is ever
+    written: a missing file, an empty database or an older schema is refused with a message
+    saying which command creates or upgrades it. ``upgrade_schema``: None (ordinary commands)
+    upgrades an older SQLite file but refuses an older server database with
+    :class:`SchemaMismatch`; True upgrades either (``partsdb upgrade``); False skips the check.
+    A schema newer than this partsdb is always refused (exit 3).
+    """
     url = resolve_url(target)
     engine = make_engine(url, read_only=read_only)
     try:
-        if upgrade_schema or read_only:
-            current = current_revision(engine)
-            head = SCHEMA_HEAD
-            if current != head:
-                if current is not None and current not in known_revisions():
-                    raise DatabaseError(
-                        f"the database {mask_url(url)} has schema revision {current}, newer "
-                        f"than this partsdb knows (newest here: {head}); use a newer partsdb")
-                if read_only:
-                    what = ("holds no partsdb schema" if current is None else
-                            f"has an older schema ({current}; this partsdb uses {head})")
-                    raise ReadOnlyError(
-                        f"the database {mask_url(url)} {what}; nothing was changed "
-                        f"(opened read-only); `partsdb --db PATH init` without --read-only "
-                        + ("creates" if current is None else "upgrades") + " it")
-                if upgrade_schema:
-                    fresh = current is None and not inspect(engine).get_table_names()
-                    try:
-                        upgrade(engine)
-                    except OperationalError:
-                        raise
-                    except Exception as err:  # alembic CommandError and the like
-                        raise DatabaseError(f"cannot upgrade the schema of {mask_url(url)}: "
-                                            f"{mask_url(str(err)).splitlines()[0]}") from err
-                    if notify is not None:
-                        notify(f"partsdb: created database {mask_url(url)}" if fresh else
-                               f"partsdb: upgraded database schema {current} -> {head}")
+        if upgrade_schema is not False or read_only:
+            _check_schema(engine, url, read_only, upgrade_schema, notify)
     except (OperationalError, DBAPIError) as err:
         engine.dispose()
         text = str(getattr(err, "orig", None) or err)
@@ -413,3 +431,45 @@ def open_database(target: str | os.PathLike[str] | None = None, *, read_only: bo
         engine.dispose()
         raise
     return Database(engine, read_only=read_only)
+
+
+def _check_schema(engine: Engine, url: URL, read_only: bool, upgrade_schema: bool | None,
+                  notify: Callable[[str], None] | None) -> None:
+    current = current_revision(engine)
+    head = SCHEMA_HEAD
+    if current == head:
+        return
+    if current is not None and current not in known_revisions():
+        raise SchemaMismatch(
+            f"the database {mask_url(url)} has schema {current}, newer than this partsdb "
+            f"{_version()} knows ({head}); update partsdb on this machine")
+    if read_only:
+        what = ("holds no partsdb schema" if current is None else
+                f"has an older schema ({current}; this partsdb uses {head})")
+        command = "init" if current is None else "upgrade"
+        raise ReadOnlyError(
+            f"the database {mask_url(url)} {what}; nothing was changed (opened read-only); "
+            f"`partsdb --db PATH {command}` without --read-only "
+            + ("creates" if current is None else "upgrades") + " it")
+    fresh = current is None and not inspect(engine).get_table_names()
+    if not fresh and upgrade_schema is None and url.get_backend_name() != "sqlite":
+        raise SchemaMismatch(
+            f"the database {mask_url(url)} has schema {current or 'none'}, older than this "
+            f"partsdb's {head}; run `partsdb upgrade` once (after a backup), then every bench "
+            "needs this version")
+    try:
+        upgrade(engine)
+    except OperationalError:
+        raise
+    except Exception as err:  # alembic CommandError and the like
+        raise DatabaseError(f"cannot upgrade the schema of {mask_url(url)}: "
+                            f"{mask_url(str(err)).splitlines()[0]}") from err
+    if notify is not None:
+        notify(f"partsdb: created database {mask_url(url)}" if fresh else
+               f"partsdb: upgraded database schema {current} -> {head}")
+
+
+def _version() -> str:
+    from partsdb import __version__
+
+    return __version__

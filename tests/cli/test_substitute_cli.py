@@ -133,7 +133,6 @@ def test_table_output_shows_verdicts_stock_and_cautions(url: str) -> None:
 
 
 @pytest.mark.parametrize(("args", "words"), [
-    (("substitute", "NOPE1"), "no stored device 'NOPE1'"),
     (("substitute", "X1", "--polarity", "pnp", "--hfe", "200..50"), "hfe"),
     (("substitute", "QZ100", "--ambient", "hot"), "ambient"),
     (("substitute", "QZ100", "--policy", "nonesuch"), "nonesuch"),
@@ -143,6 +142,13 @@ def test_bad_input_exits_2(url: str, args: tuple[str, ...], words: str) -> None:
     result = run(url, *args)
     assert result.exit_code == 2
     assert words in result.output
+
+
+def test_unknown_original_exits_1_like_every_not_found(url: str) -> None:
+    # The demo's hint run on an empty database used to exit 2 (errors.py: 1 is not found).
+    result = run(url, "substitute", "NOPE1", "--in-stock")
+    assert result.exit_code == 1
+    assert "no stored device 'NOPE1'" in result.output
 
 
 def test_negative_ambient_is_accepted(url: str) -> None:

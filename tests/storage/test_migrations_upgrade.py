@@ -1,4 +1,5 @@
-"""Schema evolution: a database made by an older partsdb is upgraded on open, data intact.
+"""Schema evolution: a database made by an older partsdb is upgraded, data intact: a SQLite file
+on open, a shared PostgreSQL database only by an explicit ``partsdb upgrade``.
 
 The database is built at revision 0001 with Alembic itself, filled with rows written by plain
 SQL (not by the current services), then opened with ``open_database``. The reference for the
@@ -11,11 +12,14 @@ from __future__ import annotations
 from datetime import datetime
 
 import pytest
-from sqlalchemy import insert, inspect, select
+from click.testing import CliRunner
+from sqlalchemy import insert, inspect, select, text
 
+from partsdb.cli import main
 from partsdb.services import stock
 from partsdb.storage.database import (
     ReadOnlyError,
+    SchemaMismatch,
     current_revision,
     head_revision,
     make_engine,
@@ -62,7 +66,16 @@ def _old_database(url: str) -> dict[str, list[tuple[object, ...]]]:
 def test_old_database_is_upgraded_on_open_with_data_intact(db_url: str) -> None:
     old_rows = _old_database(db_url)
     notices: list[str] = []
-    db = open_database(db_url, notify=notices.append)
+    if db_url.startswith("postgresql"):
+        # Shared: ordinary opens refuse, in one line naming the command, and change nothing.
+        with pytest.raises(SchemaMismatch, match=r"schema 0001, older .*run `partsdb upgrade`"):
+            open_database(db_url, notify=notices.append)
+        engine = make_engine(resolve_url(db_url))
+        assert current_revision(engine) == "0001"
+        engine.dispose()
+        db = open_database(db_url, upgrade_schema=True, notify=notices.append)
+    else:
+        db = open_database(db_url, notify=notices.append)
     assert current_revision(db.engine) == head_revision() != "0001"
     assert notices == [f"partsdb: upgraded database schema 0001 -> {head_revision()}"]
     now = dump(db)
@@ -99,3 +112,30 @@ def test_migrations_build_exactly_the_models(db_url: str) -> None:
         differences = compare_metadata(context, Base.metadata)
     db.dispose()
     assert differences == []
+
+
+def test_cli_upgrade_command_and_the_refusals_it_answers(db_url: str) -> None:
+    _old_database(db_url)
+    shared = db_url.startswith("postgresql")
+    look = CliRunner().invoke(main, ["--db", db_url, "stock", "where", "ZT303"])
+    if shared:  # errors.py: 3 is database trouble; one line, nothing changed
+        assert look.exit_code == 3
+        assert len(look.stderr.splitlines()) == 1 and "partsdb upgrade" in look.stderr
+    else:
+        assert look.exit_code == 0, look.output
+    result = CliRunner().invoke(main, ["--db", db_url, "upgrade"])
+    assert result.exit_code == 0, result.output
+    assert (f"upgraded database schema 0001 -> {head_revision()}" in result.output) is shared
+    assert CliRunner().invoke(main, ["--db", db_url, "stock", "where", "ZT303"]).exit_code == 0
+
+
+def test_a_schema_newer_than_this_partsdb_is_refused_in_one_line(db_url: str) -> None:
+    db = open_database(db_url, notify=None)
+    with db.engine.begin() as conn:  # as a later partsdb with revision 9999 would leave it
+        conn.execute(text("UPDATE alembic_version SET version_num = '9999'"))
+    db.dispose()
+    for args in (["device", "list"], ["upgrade"]):
+        result = CliRunner().invoke(main, ["--db", db_url, *args])
+        assert result.exit_code == 3
+        lines = result.stderr.splitlines()
+        assert len(lines) == 1 and "schema 9999, newer than this partsdb" in lines[0]

@@ -10,7 +10,7 @@ from typing import Any
 
 import pytest
 
-from partsdb.ranking import SpecError, Stress
+from partsdb.ranking import Stress
 from partsdb.services import catalog, stock, swaplog
 from partsdb.services.catalog import NotFound
 from partsdb.services.substitution import (
@@ -122,7 +122,7 @@ def test_requirement_sources_and_errors(shop: Any) -> None:
         assert build_requirement(session, "QW1", {"vceo": 10.0}).source == "mixed"
         given = build_requirement(session, "GONE", {"polarity": "pnp", "ptot": 1.0})
         assert (given.source, given.ptot_ref) == ("given", "ambient")
-        with pytest.raises(SpecError, match=r"no stored device 'QW9'.*QW"):
+        with pytest.raises(NotFound, match=r"no stored device 'QW9'.*QW"):
             build_requirement(session, "QW9")
 
 
