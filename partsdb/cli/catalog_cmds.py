@@ -64,7 +64,10 @@ def demo(ctx: click.Context, no_ui: bool, path: str | None, force: bool) -> None
              parent.get_parameter_source("db_url") is click.core.ParameterSource.COMMANDLINE
              else None)
     target = demo_target(path or given)
-    working = (state.db_url if given is None and state.db_url and "://" not in state.db_url
+    # The working database (global --db or $PARTSDB_DB) is protected whenever the demo's file is
+    # named on `demo` itself; `partsdb --db X demo` names X as the demo's file on purpose.
+    named_here = path is not None or given is None
+    working = (state.db_url if named_here and state.db_url and "://" not in state.db_url
                else None)
     check_demo_target(target, force=force, read_only=state.read_only, protect=(working,))
     db = build_demo(target)

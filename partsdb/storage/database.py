@@ -392,14 +392,6 @@ def _friendly(err: OperationalError, db: Database) -> DatabaseError:
                          f"{mask_url(text).splitlines()[0] if text else type(err).__name__}")
 
 
-def known_revisions() -> list[str]:
-    """Every schema revision this partsdb has a migration for (slow: imports Alembic)."""
-    from alembic.script import ScriptDirectory
-
-    script = ScriptDirectory.from_config(alembic_config(None))
-    return [rev.revision for rev in script.walk_revisions()]
-
-
 def open_database(target: str | os.PathLike[str] | None = None, *, read_only: bool = False,
                   upgrade_schema: bool | None = None,
                   notify: Callable[[str], None] | None = None) -> Database:

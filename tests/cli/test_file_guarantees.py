@@ -327,7 +327,7 @@ def test_copy_never_creates_or_upgrades_its_source(db_url: str, tmp_path: Path) 
     _old_database(f"sqlite:///{old}")
     digest = hashlib.sha256(old.read_bytes()).hexdigest()
     older = _cli("copy", "--from", str(old), "--to", db_url)
-    assert older.exit_code == 2 and "init" in older.output  # type: ignore[attr-defined]
+    assert older.exit_code == 2 and "partsdb --db PATH upgrade" in older.output  # type: ignore[attr-defined]
     assert hashlib.sha256(old.read_bytes()).hexdigest() == digest
 
 
@@ -420,7 +420,7 @@ def test_read_only_never_upgrades(tmp_path: Path) -> None:
     digest = hashlib.sha256(old.read_bytes()).hexdigest()
     result = _cli("--read-only", "--db", str(old), "device", "list")
     assert result.exit_code == 2 and "older schema" in result.output  # type: ignore[attr-defined]
-    assert "init" in result.output  # type: ignore[attr-defined]
+    assert "partsdb --db PATH upgrade" in result.output  # type: ignore[attr-defined]
     assert hashlib.sha256(old.read_bytes()).hexdigest() == digest
 
 

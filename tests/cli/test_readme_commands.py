@@ -86,9 +86,16 @@ def test_every_readme_command_runs_as_written(readme_shop: Path, request: pytest
         args = shlex.split(command)[1:]
         args = [a.replace(SERVER, server or SERVER).replace(BENCH_FILE, str(readme_shop))
                 for a in args]
+        redirect = None
+        if ">" in args:  # `command > FILE`: standard output into FILE, as the shell would
+            at = args.index(">")
+            args, redirect = args[:at], args[at + 1]
         result = CliRunner().invoke(main, args)
         assert result.exit_code == 0, f"{command}\n{result.output}"
         assert result.exception is None or isinstance(result.exception, SystemExit), command
+        if redirect is not None:
+            assert result.stdout, command
+            Path(redirect).write_text(result.stdout, encoding="utf-8")
     if skipped:
         print(f"skipped without PARTSDB_TEST_PG: {len(skipped)} server commands")
 

@@ -95,7 +95,7 @@ def test_old_database_is_upgraded_on_open_with_data_intact(db_url: str) -> None:
 
 def test_old_database_is_not_upgraded_read_only(db_url: str) -> None:
     _old_database(db_url)
-    with pytest.raises(ReadOnlyError, match=r"older schema \(0001.*init.* upgrades it"):
+    with pytest.raises(ReadOnlyError, match=r"older schema \(0001.*partsdb --db PATH upgrade.* upgrades it"):
         open_database(db_url, read_only=True, notify=None)
     engine = make_engine(resolve_url(db_url))
     assert current_revision(engine) == "0001"
