@@ -33,7 +33,7 @@ import zlib
 from collections.abc import Callable, Iterator
 from datetime import datetime
 from pathlib import PurePosixPath
-from typing import Any
+from typing import Any, TypeGuard
 
 from sqlalchemy import BigInteger, Boolean, DateTime, Float, Integer, String, Table
 
@@ -58,7 +58,7 @@ class ArchiveError(InvalidInput):
     """A zip backup refused: damaged, tampered or not a partsdb backup (exit 2)."""
 
 
-def _is_int(value: Any) -> bool:
+def _is_int(value: Any) -> TypeGuard[int]:
     return isinstance(value, int) and not isinstance(value, bool)
 
 

@@ -61,9 +61,9 @@ def protected_files(db: Any) -> list[Path]:
     return sqlite_files(db.url.database)
 
 
-def _oserror(what: str, path: Path | str, err: OSError) -> FileProblem:
+def _oserror(what: str, path: str | os.PathLike[str], err: OSError) -> FileProblem:
     reason = err.strerror or type(err).__name__
-    return FileProblem(f"{what}: cannot write {str(path)!r}: {reason}; nothing was written")
+    return FileProblem(f"{what}: cannot write {os.fspath(path)!r}: {reason}; nothing was written")
 
 
 def _is_stream(path: Path) -> bool:
