@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import math
 import re
+import unicodedata
 from collections.abc import Iterator
 from dataclasses import dataclass, field, fields
 from pathlib import Path
@@ -335,6 +336,10 @@ def _parse_chunk(frame: pd.DataFrame) -> tuple[dict[str, Any], dict[int, list[st
             columns[spec.name] = _parse_bool_column(spec.name, cells, problems)
         else:
             columns[spec.name] = _text_column(cells)
+    if "designation" in columns:  # stored NFKC-folded (designations.clean_designation)
+        columns["designation"] = [
+            v if v is None or v.isascii() else unicodedata.normalize("NFKC", v).strip()
+            for v in columns["designation"]]
     if "pinout" in columns:
         # A catalog has a handful of distinct pinouts: each is normalised once.
         pinouts = {v: normalize_pinout(v) for v in set(columns["pinout"])}
@@ -626,7 +631,7 @@ def import_stock(session: Session, path: str | Path | None = None,
             location = stock.normalize_path(location)
         except stock.StockError as err:
             msgs.append(str(err))
-        place = (normalize(designation), location.lower(), condition)
+        place = (normalize(designation), location.lower(), condition)  # as stock.place_key
         if place in seen and not msgs:
             msgs.append(f"the lot {designation} at {location} ({condition}) repeats line "
                         f"{seen[place]}")
