@@ -54,18 +54,28 @@ def check_quantity(value: object, field: str = "quantity", *, allow_zero: bool =
     Accepts an int or the text of one (digits only, so ``inf``, ``1e309`` and ``-3`` are
     refused); raises :class:`LimitError` naming the field, the value and the range.
     """
-    low = 0 if allow_zero else 1
-    expected = f"a whole number from {low} to {MAX_MOVEMENT:,}"
+    return check_whole(value, field, 0 if allow_zero else 1, MAX_MOVEMENT)
+
+
+MAX_ROWS_SHOWN = 1_000_000
+"""Largest ``--limit`` of a listing."""
+
+
+def check_whole(value: object, field: str, low: int, high: int) -> int:
+    """A whole number from ``low`` to ``high``, given as an int or as its digits."""
+    expected = f"a whole number from {low:,} to {high:,}"
     if isinstance(value, bool):
         raise LimitError(f"{field}: {value!r} is not valid; expected {expected}")
     if isinstance(value, str):
         text = value.strip()
-        if not (text.isascii() and text.isdigit()) or len(text) > 12:
+        if not (text.isascii() and text.isdigit()):
             raise LimitError(f"{field}: {_show(value)} is not valid; expected {expected}")
+        if len(text) > 12:
+            raise LimitError(f"{field}: {_show(value)} is outside the limit; expected {expected}")
         value = int(text)
     if not isinstance(value, int):
         raise LimitError(f"{field}: {_show(value)} is not valid; expected {expected}")
-    if not low <= value <= MAX_MOVEMENT:
+    if not low <= value <= high:
         raise LimitError(f"{field}: {value} is outside the limit; expected {expected}")
     return value
 
@@ -102,9 +112,9 @@ def bad_character(text: str, multiline: bool = False) -> str | None:
     for ch in text:
         if multiline and ch in "\n\t":
             continue
-        # Cc control, Cf format (bidi overrides, zero-width), Cs surrogate, Co private use,
+        # Cc control, Cf format (bidi overrides, zero-width), Cs surrogate,
         # Zl/Zp line and paragraph separators (Unicode Standard, ch. 4 "General Category").
-        if unicodedata.category(ch) in ("Cc", "Cf", "Cs", "Co", "Cn", "Zl", "Zp"):
+        if unicodedata.category(ch) in ("Cc", "Cf", "Cs", "Zl", "Zp"):
             return char_name(ch)
     return None
 

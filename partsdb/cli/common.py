@@ -140,10 +140,13 @@ def emit_json(data: Any) -> None:
 def emit_csv(columns: Sequence[str], rows: Iterable[Sequence[Any]]) -> None:
     import csv
 
+    from partsdb.csvsafe import guard
+
+    # Every CSV partsdb writes goes through the one formula guard (as export does).
     writer = csv.writer(sys.stdout, lineterminator="\n")
-    writer.writerow(columns)
+    writer.writerow([guard(c) for c in columns])
     for row in rows:
-        writer.writerow(["" if v is None else v for v in row])
+        writer.writerow(["" if v is None else guard(v) for v in row])
 
 
 def print_table(title: str | None, columns: Sequence[str], rows: Iterable[Sequence[Any]],
