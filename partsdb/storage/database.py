@@ -18,7 +18,7 @@ from typing import Any, TypeVar
 
 from sqlalchemy import create_engine, event, inspect
 from sqlalchemy.engine import URL, Engine, make_url
-from sqlalchemy.exc import OperationalError
+from sqlalchemy.exc import DBAPIError, OperationalError
 from sqlalchemy.orm import Session, sessionmaker
 
 from partsdb.errors import EXIT_INVALID, EnvironmentProblem
@@ -158,6 +158,12 @@ class Database:
         except OperationalError as err:
             session.rollback()
             raise _friendly(err, self) from err
+        except DBAPIError as err:
+            # A rule of the database that the input checks (limits.py) did not catch first:
+            # one line of the driver's message, never the SQL, the parameters or a link.
+            session.rollback()
+            raise DatabaseError(f"the database refused the change, nothing was changed: "
+                                f"{_first_line(err)}") from err
         except BaseException:
             session.rollback()
             raise
@@ -201,6 +207,11 @@ _WRITE = re.compile(r"^\s*(INSERT|UPDATE|DELETE|CREATE|DROP|ALTER|REPLACE)\b", r
 def _refuse_writes(conn: Any, cursor: Any, statement: str, *args: Any) -> None:
     if _WRITE.match(statement):
         raise ReadOnlyError("this database is open read-only (--read-only): nothing was changed")
+
+
+def _first_line(err: DBAPIError) -> str:
+    text = str(err.orig) if err.orig is not None else str(err)
+    return (text.strip().splitlines() or ["(no message)"])[0]
 
 
 def _friendly(err: OperationalError, db: Database) -> DatabaseError:
