@@ -180,8 +180,9 @@ def _apply(session: Session, lot: LotRow, delta: int, reason: str, job: str | No
     the same statement, so the refusal is the same on SQLite and PostgreSQL."""
     result = session.execute(
         update(LotRow)
-        .where(LotRow.id == lot.id, LotRow.quantity + delta >= 0,
-               LotRow.quantity + delta <= MAX_LOT)
+        # Written so no intermediate overflows PostgreSQL's int4 (quantity + delta could).
+        .where(LotRow.id == lot.id, LotRow.quantity >= -delta,
+               LotRow.quantity <= MAX_LOT - delta)
         .values(quantity=LotRow.quantity + delta)
         .execution_options(synchronize_session=False))
     if result.rowcount != 1:  # type: ignore[attr-defined]
