@@ -178,11 +178,12 @@ def _apply(session: Session, lot: LotRow, delta: int, reason: str, job: str | No
 
     The lot stays within 0 and :data:`~partsdb.limits.MAX_LOT` (the int32 column), checked in
     the same statement, so the refusal is the same on SQLite and PostgreSQL."""
+    # Bounds written so that no value in the statement leaves PostgreSQL's int4 (quantity +
+    # delta could): a decrease needs enough there, an increase room below MAX_LOT.
+    bound = LotRow.quantity >= -delta if delta < 0 else LotRow.quantity <= MAX_LOT - delta
     result = session.execute(
         update(LotRow)
-        # Written so no intermediate overflows PostgreSQL's int4 (quantity + delta could).
-        .where(LotRow.id == lot.id, LotRow.quantity >= -delta,
-               LotRow.quantity <= MAX_LOT - delta)
+        .where(LotRow.id == lot.id, bound)
         .values(quantity=LotRow.quantity + delta)
         .execution_options(synchronize_session=False))
     if result.rowcount != 1:  # type: ignore[attr-defined]
