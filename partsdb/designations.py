@@ -12,8 +12,11 @@ detail recalled from memory) is listed in ``inferred``; a name no scheme explain
 from __future__ import annotations
 
 import re
+import unicodedata
 from dataclasses import asdict, dataclass, field
 from typing import Any
+
+from partsdb.limits import LimitError, char_name, text_problem
 
 _FOLD = re.compile(r"[\s\-._/]+")
 
@@ -22,9 +25,35 @@ def normalize(designation: str) -> str:
     """Case-folded, with spaces, dashes, dots, underscores and slashes removed.
 
     "bc 547-b" -> "BC547B"; "2sc 1815" -> "2SC1815". Upper case because that is how parts are
-    marked and listed (common practice).
+    marked and listed (common practice). Unicode compatibility forms are folded first (NFKC,
+    Unicode Standard Annex #15), so a fullwidth "ＢＣ５４７" is the same key as "BC547".
     """
+    if not designation.isascii():
+        designation = unicodedata.normalize("NFKC", designation)
     return _FOLD.sub("", designation).upper()
+
+
+def clean_designation(designation: str) -> str:
+    """The designation as it is stored: NFKC-folded, checked, surrounding space removed.
+
+    Refused (:class:`LimitError`, naming the character by its Unicode name): control and format
+    characters (NUL, line breaks, bidi overrides such as U+202E, zero-width characters), and
+    every letter outside Latin, so a Cyrillic or Greek look-alike ("ВС547" with a Cyrillic VE)
+    never becomes a second device beside the Latin one. Fullwidth forms fold to Latin through
+    NFKC. Longer than the designation column (64 characters) is refused too.
+    """
+    text = unicodedata.normalize("NFKC", designation).strip() if not designation.isascii() \
+        else designation.strip()
+    problem = text_problem("designation", text)
+    if problem is not None:
+        raise LimitError(problem)
+    if not text.isascii():
+        odd = next(ch for ch in text if not ch.isascii())
+        kind = ("a look-alike of a Latin letter" if odd.isalpha()
+                else "not a Latin letter, digit or ASCII sign")
+        raise LimitError(f"designation: {text[:40]!r} holds {char_name(odd)}, {kind}; "
+                         "expected Latin letters, digits and signs such as - . /")
+    return text
 
 
 # --------------------------------------------------------------------------- letter tables

@@ -14,8 +14,9 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, Literal
 
-from partsdb.designations import normalize
+from partsdb.designations import clean_designation, normalize
 from partsdb.errors import InvalidInput
+from partsdb.limits import MAX_LENGTH, LimitError, check_text, text_problem
 from partsdb.units import UnitError, format_quantity, parse_quantity
 
 if TYPE_CHECKING:
@@ -83,6 +84,7 @@ FIELDS: tuple[FieldSpec, ...] = (
 FIELD_BY_NAME: dict[str, FieldSpec] = {f.name: f for f in FIELDS}
 FIELD_NAMES: tuple[str, ...] = tuple(f.name for f in FIELDS)
 QUANTITY_FIELDS: tuple[str, ...] = tuple(f.name for f in FIELDS if f.kind == "quantity")
+TEXT_FIELDS: tuple[FieldSpec, ...] = tuple(f for f in FIELDS if f.kind == "text")
 
 # Junction temperature assumed when a record has none (common practice: germanium parts were
 # rated 75-90 °C, silicon 150 °C or more). Reported as assumed wherever it is used.
@@ -199,7 +201,8 @@ def parse_field(name: str, value: object) -> Any:
             raise UnitError(name, value, "a value (this field is required)")
         return None
     if spec.kind == "text":
-        return str(value).strip()
+        text = str(value).strip()
+        return clean_designation(text) if name == "designation" else check_text(name, text)
     if spec.kind == "choice":
         text = str(value).strip().lower()
         aliases = {"germanium": "ge", "silicon": "si", "darl": "darlington", "free-air": "ambient",
@@ -289,6 +292,23 @@ def check_columns(columns: Mapping[str, Any], n: int) -> dict[int, list[tuple[st
         names = columns["designation"]
         flag(np.array([not normalize(str(v or "")) for v in names], dtype=bool), "designation",
              lambda i: "designation: empty; expected the part number")
+    # Lengths and characters of the text fields (limits.py), the same on both backends.
+    for spec in TEXT_FIELDS:
+        if spec.name not in columns:
+            continue
+        limit = MAX_LENGTH[spec.name]
+        for pos, text in enumerate(columns[spec.name]):
+            if text and (len(text) > limit or not (text.isascii() and text.isprintable())):
+                try:
+                    if spec.name == "designation":
+                        clean_designation(text)
+                        problem = None
+                    else:
+                        problem = text_problem(spec.name, text)
+                except LimitError as err:
+                    problem = str(err)
+                if problem is not None:
+                    problems.setdefault(pos, []).append((spec.name, problem))
     return problems
 
 

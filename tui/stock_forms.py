@@ -39,15 +39,12 @@ class StockRequest:
 
 
 def parse_count(text: str, allow_zero: bool) -> int:
-    """A whole number of parts from the form, or ValueError naming what was expected."""
-    stripped = text.strip()
-    expected = "a whole number " + ("0 or more" if allow_zero else "above 0")
-    if not stripped.isdigit():
-        raise ValueError(f"quantity: {text!r} is not valid; expected {expected}")
-    value = int(stripped)
-    if value == 0 and not allow_zero:
-        raise ValueError(f"quantity: {text!r} is not valid; expected {expected}")
-    return value
+    """A whole number of parts from the form within the one quantity limit (limits.py), or
+    LimitError (a ValueError) naming what was expected: "inf" or 20 digits are refused, never
+    raised past the form."""
+    from partsdb.limits import check_quantity
+
+    return check_quantity(text, allow_zero=allow_zero)
 
 
 class StockForm(ModalScreen[str | None]):
@@ -113,10 +110,9 @@ class StockForm(ModalScreen[str | None]):
         try:
             result = self._perform()
         except Exception as err:  # the service's refusal, shown as is: nothing was changed
-            from partsdb.storage.database import DatabaseError
-            from partsdb.units import UnitError
+            from partsdb.errors import PartsdbError
 
-            if not isinstance(err, ValueError | LookupError | UnitError | DatabaseError):
+            if not isinstance(err, ValueError | LookupError | PartsdbError):
                 raise
             text = str(err.args[0]) if isinstance(err, KeyError) and err.args else str(err)
             message.update(f"REFUSED: {text}")

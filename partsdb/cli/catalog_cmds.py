@@ -97,7 +97,10 @@ def _field_options(for_edit: bool) -> Callable[[Callable[..., Any]], Callable[..
             help_text = f"{spec.label}{unit}{choices}" + (f": {spec.help}" if spec.help else "")
             if spec.kind == "bool":
                 help_text += " (yes/no)"
-            func = click.option(flag, spec.name, default=None, metavar="TEXT",
+            # The new designation gets a parameter name of its own: sharing "designation" with
+            # the argument made click warn and let the argument's value win.
+            param = "new_designation" if spec.name == "designation" else spec.name
+            func = click.option(flag, param, default=None, metavar="TEXT",
                                 help=help_text)(func)
         return func
 
@@ -137,7 +140,8 @@ def device_edit(state: CliState, designation: str, **fields: str | None) -> None
     """Change fields of a device; the whole record is checked again. Give "" to clear a field."""
     from partsdb.services import catalog
 
-    changes = {k: v for k, v in fields.items() if v is not None}
+    changes = {("designation" if k == "new_designation" else k): v
+               for k, v in fields.items() if v is not None}
     if not changes:
         fail("nothing to change: give at least one field option (see --help)")
     with state.database().session() as session:
@@ -196,20 +200,22 @@ def device_show(state: CliState, designation: str, fmt: str) -> None:
 @click.option("--obsolete/--current", default=None, help="Only obsolete / only current parts.")
 @click.option("--suspect", is_flag=True, help="Only records whose fields contradict their "
                                                "designation.")
-@click.option("--limit", type=click.IntRange(min=1), default=None, help="At most this many.")
+@click.option("--limit", default=None, metavar="N", help="At most this many (1 to 1,000,000).")
 @format_option("table", "json", "csv", "tsv")
 @pass_state
 def device_list(state: CliState, polarity: str | None, material: str | None, kind: str | None,
-                package: str | None, obsolete: bool | None, suspect: bool, limit: int | None,
+                package: str | None, obsolete: bool | None, suspect: bool, limit: str | None,
                 fmt: str) -> None:
     """List devices, with filters."""
+    from partsdb.limits import MAX_ROWS_SHOWN, check_whole
     from partsdb.services import catalog, stock
 
+    wanted = None if limit is None else check_whole(limit, "--limit", 1, MAX_ROWS_SHOWN)
     filters = catalog.DeviceFilter(polarity=polarity, material=material, kind=kind,
                                    package=package, obsolete=obsolete,
                                    suspect=True if suspect else None)
     with state.database().session() as session:
-        devices = catalog.list_devices(session, filters, limit=limit)
+        devices = catalog.list_devices(session, filters, limit=wanted)
         summary = stock.stock_summary(session)
     if fmt == "json":
         emit_json([device_json(d) for d in devices])

@@ -163,16 +163,20 @@ def emit_csv(columns: Sequence[str], rows: Iterable[Sequence[Any]]) -> None:
     tab-separated, tabs and line breaks inside a value turned into spaces (for cut/awk/sort)."""
     import csv
 
+    from partsdb.csvsafe import guard
+
+    # Every CSV or TSV partsdb writes goes through the one formula guard (as export does): a
+    # spreadsheet opens either.
     ctx = click.get_current_context(silent=True)
     if ctx is not None and ctx.params.get("fmt") == "tsv":
         for line in (columns, *rows):
-            cells = ("" if v is None else str(v) for v in line)
+            cells = ("" if v is None else str(guard(v)) for v in line)
             click.echo("\t".join(re.sub(r"[\t\r\n]+", " ", c) for c in cells))
         return
     writer = csv.writer(sys.stdout, lineterminator="\n")
-    writer.writerow(columns)
+    writer.writerow([guard(c) for c in columns])
     for row in rows:
-        writer.writerow(["" if v is None else v for v in row])
+        writer.writerow(["" if v is None else guard(v) for v in row])
 
 
 def print_table(title: str | None, columns: Sequence[str], rows: Iterable[Sequence[Any]],

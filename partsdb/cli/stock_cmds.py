@@ -15,7 +15,8 @@ from partsdb.cli.common import (
     print_table,
 )
 
-QTY = click.IntRange(min=1)
+QTY = click.STRING
+"""Quantities are read by limits.check_quantity (one refusal line, exit 2, for any text)."""
 CONDITION = click.Choice(["new", "used", "pulled", "tested"], case_sensitive=False)
 
 
@@ -26,6 +27,12 @@ def stock() -> None:
     Changes run through Database.transact, so a shared server's serialization failure or
     deadlock is retried rather than reported.
     """
+
+
+def _quantity(text: str | int, allow_zero: bool = False) -> int:
+    from partsdb.limits import check_quantity
+
+    return check_quantity(text, allow_zero=allow_zero)
 
 
 def _said(verb: str, view: object) -> None:
@@ -45,9 +52,10 @@ def _said(verb: str, view: object) -> None:
 @click.option("--job", metavar="REF", help="Job or order reference.")
 @click.option("--note")
 @pass_state
-def receive(state: CliState, designation: str, qty: int, to: str, condition: str,
+def receive(state: CliState, designation: str, qty: str | int, to: str, condition: str,
             job: str | None, note: str | None) -> None:
     """Parts arrive (bought, salvaged) into a drawer."""
+    qty = _quantity(qty)
     from partsdb.services import stock as svc
 
     view = state.database().transact(
@@ -63,9 +71,10 @@ def receive(state: CliState, designation: str, qty: int, to: str, condition: str
 @click.option("--job", metavar="REF", help="Job the parts go to.")
 @click.option("--note")
 @pass_state
-def take(state: CliState, designation: str, qty: int, from_: str, condition: str | None,
+def take(state: CliState, designation: str, qty: str | int, from_: str, condition: str | None,
          job: str | None, note: str | None) -> None:
     """Take parts out of a drawer (refused, changing nothing, if fewer are there)."""
+    qty = _quantity(qty)
     from partsdb.services import stock as svc
 
     view = state.database().transact(
@@ -82,9 +91,10 @@ def take(state: CliState, designation: str, qty: int, from_: str, condition: str
 @click.option("--job", metavar="REF")
 @click.option("--note")
 @pass_state
-def return_(state: CliState, designation: str, qty: int, to: str, condition: str | None,
+def return_(state: CliState, designation: str, qty: str | int, to: str, condition: str | None,
             job: str | None, note: str | None) -> None:
     """Put unused parts back from a job."""
+    qty = _quantity(qty)
     from partsdb.services import stock as svc
 
     view = state.database().transact(
@@ -100,9 +110,10 @@ def return_(state: CliState, designation: str, qty: int, to: str, condition: str
 @click.option("--condition", type=CONDITION, help="Which lot, when the place holds several.")
 @click.option("--note")
 @pass_state
-def move(state: CliState, designation: str, qty: int, from_: str, to: str,
+def move(state: CliState, designation: str, qty: str | int, from_: str, to: str,
          condition: str | None, note: str | None) -> None:
     """Move parts from one place to another."""
+    qty = _quantity(qty)
     from partsdb.services import stock as svc
 
     source, target = state.database().transact(
@@ -113,14 +124,15 @@ def move(state: CliState, designation: str, qty: int, from_: str, to: str,
 
 @stock.command("count")
 @click.argument("designation")
-@click.argument("qty", type=click.IntRange(min=0))
+@click.argument("qty", type=QTY)
 @click.option("--at", "at", required=True, metavar="LOC")
 @click.option("--condition", type=CONDITION)
 @click.option("--note")
 @pass_state
-def count(state: CliState, designation: str, qty: int, at: str, condition: str | None,
+def count(state: CliState, designation: str, qty: str | int, at: str, condition: str | None,
           note: str | None) -> None:
     """Record a stock-take: set the counted quantity; the ledger keeps the difference."""
+    qty = _quantity(qty, allow_zero=True)
     from partsdb.services import stock as svc
 
     view, diff = state.database().transact(
@@ -185,25 +197,29 @@ def _date(text: str | None, name: str) -> datetime | None:
 @click.option("--job", metavar="REF", help="Only this job.")
 @click.option("--since", metavar="DATE", help="From this date (YYYY-MM-DD).")
 @click.option("--until", metavar="DATE", help="Up to this date.")
-@click.option("--limit", type=click.IntRange(min=1), default=50, show_default=True)
+@click.option("--limit", default="50", show_default=True, metavar="N",
+              help="At most this many entries (1 to 1,000,000).")
 @format_option("table", "json", "csv", "tsv")
 @pass_state
 def ledger(state: CliState, designation: str | None, location: str | None, job: str | None,
-           since: str | None, until: str | None, limit: int, fmt: str) -> None:
+           since: str | None, until: str | None, limit: str, fmt: str) -> None:
     """The movement ledger, newest first."""
+    from partsdb.limits import MAX_ROWS_SHOWN, check_whole
     from partsdb.services import stock as svc
 
+    rows_wanted = check_whole(limit, "--limit", 1, MAX_ROWS_SHOWN)
     with state.database().session() as session:
         entries = svc.ledger(session, designation, location, job, _date(since, "--since"),
-                             _date(until, "--until"), limit)
+                             _date(until, "--until"), rows_wanted)
     if fmt == "json":
         emit_json([e.to_json() for e in entries])
         return
     rows = [[e.at.strftime("%Y-%m-%d %H:%M"), e.designation, e.location, e.condition,
              f"{e.change:+d}", e.reason, e.job, e.note] for e in entries]
-    if fmt in ("csv", "tsv"):
+    if fmt in ("csv", "tsv"):  # the change as a number, so the formula guard leaves it alone
         emit_csv(["at", "designation", "location", "condition", "change", "reason", "job",
-                  "note"], rows)
+                  "note"], [[*row[:4], e.change, *row[5:]] for row, e in zip(rows, entries,
+                                                                          strict=True)])
     else:
         print_table("Ledger", ["When (UTC)", "Device", "Place", "Cond.", "Change", "Reason",
                                "Job", "Note"], rows)

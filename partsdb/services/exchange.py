@@ -18,6 +18,7 @@ from __future__ import annotations
 
 import math
 import re
+import unicodedata
 from collections.abc import Iterator
 from dataclasses import dataclass, field, fields
 from pathlib import Path
@@ -26,6 +27,7 @@ from typing import IO, TYPE_CHECKING, Any
 from sqlalchemy import select, update
 from sqlalchemy.orm import Session
 
+from partsdb.csvsafe import GUARDED_PATTERN, guard
 from partsdb.designations import normalize
 from partsdb.device import (
     FALSE_WORDS,
@@ -40,6 +42,7 @@ from partsdb.device import (
     parse_field,
 )
 from partsdb.errors import InvalidInput
+from partsdb.limits import LimitError, check_quantity, text_problem
 from partsdb.services import catalog
 from partsdb.storage.models import DeviceRow
 from partsdb.units import UnitError
@@ -50,7 +53,6 @@ if TYPE_CHECKING:
 
 STOCK_COLUMNS: tuple[str, ...] = ("designation", "location", "quantity", "condition", "note")
 REQUIRED_DEVICE_COLUMNS = ("designation", "kind", "polarity", "material")
-_INJECTION_START = ("=", "+", "-", "@", "\t", "\r", "\n")
 
 
 class ImportRejected(InvalidInput):
@@ -108,16 +110,64 @@ def _tidy(frame: pd.DataFrame) -> pd.DataFrame:
         cells = frame[col]
         if len(cells) == 0 or "\x00'" not in "\x00" + "\x00".join(cells.astype(str).tolist()):
             continue
-        guarded = cells.str.match(r"^'[=+\-@\t\r\n]")
+        guarded = cells.str.match(GUARDED_PATTERN)
         if guarded.any():
             frame[col] = cells.where(~guarded, cells.str[1:])
     return frame
+
+
+def check_shape(path: str | Path) -> None:
+    """Refuse a file whose header names a column twice (in any case) or whose rows do not have
+    as many cells as the header, listing every such row by its line number.
+
+    pandas would shift a row with one cell too many (the first cell becomes the index) and fill
+    a short row with blanks, silently; so the file is read once with the standard csv module
+    (RFC 4180 quoting, so a quoted line break stays in its cell) before pandas reads it.
+    """
+    import csv
+
+    problems: list[tuple[int, str]] = []
+    try:
+        with open(path, encoding="utf-8-sig", newline="") as handle:
+            reader = csv.reader(handle)
+            header: list[str] | None = None
+            start = 1
+            for row in reader:
+                line, start = start, reader.line_num + 1
+                if not row:
+                    continue  # a blank line (pandas skips these too)
+                if header is None:
+                    header = row
+                    _check_header_names(header)
+                    continue
+                if len(row) != len(header):
+                    problems.append((line, f"{len(row)} cell(s) where the header has "
+                                           f"{len(header)}; expected one cell per column "
+                                           "(quote a cell that holds a comma)"))
+                    if len(problems) > 200:
+                        break
+    except (OSError, UnicodeDecodeError, csv.Error):
+        return  # pandas reads the file next and reports the problem in its own words
+    if problems:
+        raise ImportRejected(problems)
+
+
+def _check_header_names(header: list[str]) -> None:
+    seen: dict[str, str] = {}
+    for name in header:
+        key = name.strip().lower()
+        if key in seen:
+            raise ImportRejected([(1, f"column {key!r} appears twice in the header "
+                                      f"({seen[key]!r} and {name!r}); expected each column "
+                                      "once (names are compared without regard to case)")])
+        seen[key] = name
 
 
 def read_csv(path: str | Path) -> pd.DataFrame:
     """Read a CSV as text cells (nothing guessed), blank cells as empty strings."""
     import pandas as pd
 
+    check_shape(path)
     try:
         frame = pd.read_csv(path, dtype=str, keep_default_na=False, skipinitialspace=True,
                             encoding="utf-8-sig")
@@ -131,6 +181,7 @@ def read_csv_chunks(path: str | Path, rows: int | None = None) -> Iterator[pd.Da
     gives one empty frame."""
     import pandas as pd
 
+    check_shape(path)
     try:
         reader = pd.read_csv(path, dtype=str, keep_default_na=False, skipinitialspace=True,
                              encoding="utf-8-sig", chunksize=rows or CHUNK_ROWS)
@@ -335,6 +386,10 @@ def _parse_chunk(frame: pd.DataFrame) -> tuple[dict[str, Any], dict[int, list[st
             columns[spec.name] = _parse_bool_column(spec.name, cells, problems)
         else:
             columns[spec.name] = _text_column(cells)
+    if "designation" in columns:  # stored NFKC-folded (designations.clean_designation)
+        columns["designation"] = [
+            v if v is None or v.isascii() else unicodedata.normalize("NFKC", v).strip()
+            for v in columns["designation"]]
     if "pinout" in columns:
         # A catalog has a handful of distinct pinouts: each is normalised once.
         pinouts = {v: normalize_pinout(v) for v in set(columns["pinout"])}
@@ -609,13 +664,12 @@ def import_stock(session: Session, path: str | Path | None = None,
         if normalize(designation) not in known:
             msgs.append(f"designation: {designation!r} is not in the catalog; import devices first")
         qty_text = str(rec.get("quantity", "")).strip()
+        if qty_text.endswith(".0") and qty_text[:-2].isdigit():
+            qty_text = qty_text[:-2]  # "12.0", as a spreadsheet may write a whole number
         try:
-            qty_f = float(qty_text)
-            if qty_f < 0 or qty_f != int(qty_f):
-                raise ValueError
-            qty = int(qty_f)
-        except ValueError:
-            msgs.append(f"quantity: {qty_text!r} is not valid; expected a whole number, 0 or more")
+            qty = check_quantity(qty_text, allow_zero=True)  # a row sets a lot: 0 allowed
+        except LimitError as err:
+            msgs.append(str(err))
             qty = 0
         condition = (str(rec.get("condition", "") or "new").strip().lower() or "new")
         if condition not in stock.CONDITIONS:
@@ -626,12 +680,16 @@ def import_stock(session: Session, path: str | Path | None = None,
             location = stock.normalize_path(location)
         except stock.StockError as err:
             msgs.append(str(err))
-        place = (normalize(designation), location.lower(), condition)
+        place = (normalize(designation), location.lower(), condition)  # as stock.place_key
         if place in seen and not msgs:
             msgs.append(f"the lot {designation} at {location} ({condition}) repeats line "
                         f"{seen[place]}")
         seen.setdefault(place, line)
         note = str(rec.get("note", "") or "").strip() or None
+        for name, text in (("designation", designation), ("note", note)):
+            problem = text_problem(name, text) if text else None
+            if problem is not None:
+                msgs.append(problem)
         if msgs:
             problems.append((line, "; ".join(msgs)))
         else:
@@ -648,10 +706,9 @@ def import_stock(session: Session, path: str | Path | None = None,
 # ---------------------------------------------------------------- export
 
 def neutralise(cell: Any) -> Any:
-    """Prefix a text cell that a spreadsheet would run as a formula with an apostrophe."""
-    if isinstance(cell, str) and cell.startswith(_INJECTION_START):
-        return "'" + cell
-    return cell
+    """Prefix a text cell that a spreadsheet would run as a formula with an apostrophe
+    (:func:`partsdb.csvsafe.guard`, the guard of every CSV partsdb writes)."""
+    return guard(cell)
 
 
 def devices_frame(session: Session) -> pd.DataFrame:

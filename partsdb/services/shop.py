@@ -235,7 +235,9 @@ def _load_once(target: Database, batches: Iterable[tuple[Table, list[dict[str, A
                 # Insert the tree flat and link it afterwards: no parent-before-child order needed.
                 parents += [{"_id": r["id"], "_parent": r["parent_id"]}
                             for r in rows if r["parent_id"] is not None]
-                rows = [{**r, "parent_id": None} for r in rows]
+                # An archive from before schema 0004 has no place key: derive it as 0004 does.
+                rows = [{**r, "parent_id": None, "key": r.get("key") or str(r["path"]).lower()}
+                        for r in rows]
             conn.execute(table.insert(), rows)
         if parents:
             conn.execute(update(locations).where(locations.c.id == bindparam("_id"))

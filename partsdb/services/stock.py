@@ -17,8 +17,10 @@ from datetime import datetime
 from sqlalchemy import func, select, update
 from sqlalchemy.exc import IntegrityError
 from sqlalchemy.orm import Session
+from sqlalchemy.sql.elements import ColumnElement
 
 from partsdb.errors import InvalidInput
+from partsdb.limits import MAX_LENGTH, MAX_LOT, LimitError, check_lot_total, check_quantity, check_text
 from partsdb.services.catalog import NotFound, require_row
 from partsdb.storage.models import DeviceRow, LocationRow, LotRow, MovementRow
 
@@ -79,26 +81,52 @@ class LedgerEntry:
 # ---------------------------------------------------------------- places
 
 def normalize_path(path: str) -> str:
-    """"c2 / d14/" -> "c2/d14"; each segment checked. Paths compare without regard to case."""
+    """"c2 / d14/" -> "c2/d14"; each segment checked. Paths compare by :func:`place_key`."""
     segments = [s.strip() for s in str(path).replace("\\", "/").split("/")]
     segments = [s for s in segments if s]
     if not segments:
         raise StockError(f"location: {path!r} is empty; expected a path such as C2/D14")
     for seg in segments:
         if not _SEGMENT.match(seg):
-            raise StockError(f"location: segment {seg!r} of {path!r} is not valid; expected "
-                             "letters, digits, spaces or . _ # + - (such as C2/D14/B3)")
-    return "/".join(segments)
+            raise StockError(f"location: segment {seg[:70]!r} of {path[:70]!r} is not valid; "
+                             "expected 1 to 64 letters, digits, spaces or . _ # + - "
+                             "(such as C2/D14/B3)")
+    joined = "/".join(segments)
+    if len(joined) > MAX_LENGTH["location"]:
+        raise StockError(f"location: {joined[:40]!r}... is {len(joined)} characters long; "
+                         f"expected at most {MAX_LENGTH['location']}")
+    return joined
+
+
+def place_key(path: str) -> str:
+    """The key that makes a place unique (``locations.key``): the checked path, case-folded.
+
+    The one definition of "the same place": every look-up and every new place goes through it.
+    A rule such as "D2 is D02" is added here (with a migration recomputing the stored keys).
+    """
+    return normalize_path(path).lower()
 
 
 def find_location(session: Session, path: str) -> LocationRow | None:
-    canonical = normalize_path(path)
-    return session.scalars(
-        select(LocationRow).where(func.lower(LocationRow.path) == canonical.lower())).first()
+    return session.scalars(select(LocationRow).where(LocationRow.key == place_key(path))).first()
+
+
+def _insert_place(session: Session, name: str, path: str, parent_id: int | None) -> None:
+    """INSERT ... ON CONFLICT (key) DO NOTHING: a place made meanwhile by another bench is
+    simply used (PostgreSQL docs, "INSERT ... ON CONFLICT"; SQLite "UPSERT")."""
+    dialect = session.get_bind().dialect.name
+    if dialect == "postgresql":
+        from sqlalchemy.dialects.postgresql import insert
+    else:
+        from sqlalchemy.dialects.sqlite import insert
+    session.execute(insert(LocationRow).values(name=name, path=path, key=place_key(path),
+                                               parent_id=parent_id)
+                    .on_conflict_do_nothing(index_elements=["key"]))
 
 
 def ensure_location(session: Session, path: str) -> LocationRow:
-    """The location at ``path``, creating it and any missing parents."""
+    """The location at ``path``, creating it and any missing parents (an upsert, so two
+    benches receiving into the same new place at once both succeed)."""
     canonical = normalize_path(path)
     parent: LocationRow | None = None
     so_far: list[str] = []
@@ -106,10 +134,10 @@ def ensure_location(session: Session, path: str) -> LocationRow:
         so_far.append(seg)
         here = find_location(session, "/".join(so_far))
         if here is None:
-            here = LocationRow(name=seg, path="/".join(so_far),
-                               parent_id=None if parent is None else parent.id)
-            session.add(here)
-            session.flush()
+            _insert_place(session, seg, "/".join(so_far), None if parent is None else parent.id)
+            here = find_location(session, "/".join(so_far))
+            if here is None:  # pragma: no cover - the row exists (inserted or conflicting)
+                raise StockError(f"location: {canonical!r} could not be created; try again")
         parent = here
     assert parent is not None
     return parent
@@ -129,24 +157,42 @@ def location_paths(session: Session) -> list[str]:
 # ---------------------------------------------------------------- the atomic change
 
 def _check_quantity(qty: int, allow_zero: bool = False) -> int:
-    if isinstance(qty, bool) or not isinstance(qty, int):
-        raise StockError(f"quantity: {qty!r} is not valid; expected a whole number")
-    if qty < 0 or (qty == 0 and not allow_zero):
-        raise StockError(f"quantity: {qty} is not valid; expected a whole number "
-                         f"{'0 or more' if allow_zero else 'above 0'}")
-    return qty
+    """Every quantity a service is given, checked against the one limit (limits.py)."""
+    try:
+        return check_quantity(qty, allow_zero=allow_zero)
+    except LimitError as err:
+        raise StockError(str(err)) from None
+
+
+def _check_texts(job: str | None, note: str | None) -> None:
+    try:
+        check_text("job", job)
+        check_text("note", note)
+    except LimitError as err:
+        raise StockError(str(err)) from None
 
 
 def _apply(session: Session, lot: LotRow, delta: int, reason: str, job: str | None,
            note: str | None, refusal: str) -> None:
-    """Change a lot by ``delta`` atomically and write its ledger entry, or raise StockError."""
+    """Change a lot by ``delta`` atomically and write its ledger entry, or raise StockError.
+
+    The lot stays within 0 and :data:`~partsdb.limits.MAX_LOT` (the int32 column), checked in
+    the same statement, so the refusal is the same on SQLite and PostgreSQL."""
+    # Bounds written so that no value in the statement leaves PostgreSQL's int4 (quantity +
+    # delta could): a decrease needs enough there, an increase room below MAX_LOT.
+    bound = LotRow.quantity >= -delta if delta < 0 else LotRow.quantity <= MAX_LOT - delta
     result = session.execute(
         update(LotRow)
-        .where(LotRow.id == lot.id, LotRow.quantity + delta >= 0)
+        .where(LotRow.id == lot.id, bound)
         .values(quantity=LotRow.quantity + delta)
         .execution_options(synchronize_session=False))
     if result.rowcount != 1:  # type: ignore[attr-defined]
         session.expire(lot, ["quantity"])
+        if lot.quantity + delta > MAX_LOT:
+            try:
+                check_lot_total(lot.quantity + delta)
+            except LimitError as err:
+                raise StockError(f"{err}; nothing was changed") from None
         raise StockError(refusal.format(have=lot.quantity))
     session.add(MovementRow(lot_id=lot.id, change=delta, reason=reason, job=job, note=note))
     session.flush()
@@ -214,6 +260,7 @@ def receive(session: Session, designation: str, qty: int, to: str, condition: st
             job: str | None = None, note: str | None = None) -> LotView:
     """Parts arrive (bought, salvaged): add to the lot at ``to`` in ``condition``."""
     _check_quantity(qty)
+    _check_texts(job, note)
     device = require_row(session, designation)
     lot = _get_or_create_lot(session, device, ensure_location(session, to),
                              _check_condition(condition))
@@ -225,6 +272,7 @@ def take(session: Session, designation: str, qty: int, from_: str, condition: st
          job: str | None = None, note: str | None = None) -> LotView:
     """Parts leave the drawer (for a job); refused if the lot holds fewer than ``qty``."""
     _check_quantity(qty)
+    _check_texts(job, note)
     device = require_row(session, designation)
     lot = _pick_lot(session, device, require_location(session, from_), condition, "take")
     _apply(session, lot, -qty, "take", job, note,
@@ -238,6 +286,7 @@ def return_parts(session: Session, designation: str, qty: int, to: str,
                  note: str | None = None) -> LotView:
     """Unused parts come back from a job into the drawer (the lot there, or a new ``used``)."""
     _check_quantity(qty)
+    _check_texts(job, note)
     device = require_row(session, designation)
     location = ensure_location(session, to)
     if condition is None:
@@ -259,6 +308,7 @@ def move(session: Session, designation: str, qty: int, from_: str, to: str,
          note: str | None = None) -> tuple[LotView, LotView]:
     """Move parts between places: two ledger entries (out and in) in one transaction."""
     _check_quantity(qty)
+    _check_texts(job, note)
     device = require_row(session, designation)
     source = _pick_lot(session, device, require_location(session, from_), condition, "move")
     target_place = ensure_location(session, to)
@@ -279,6 +329,7 @@ def count(session: Session, designation: str, qty: int, at: str, condition: str 
           job: str | None = None, note: str | None = None) -> tuple[LotView, int]:
     """A stock-take: set the lot to the counted ``qty``; the ledger records the difference."""
     _check_quantity(qty, allow_zero=True)
+    _check_texts(job, note)
     device = require_row(session, designation)
     location = ensure_location(session, at)
     lots = session.scalars(select(LotRow).where(
@@ -328,14 +379,21 @@ def lots_at(session: Session, path: str | None, include_children: bool = True) -
              .join(DeviceRow, LotRow.device_id == DeviceRow.id)
              .join(LocationRow, LotRow.location_id == LocationRow.id))
     if path is not None:
-        canonical = normalize_path(path).lower()
-        cond = func.lower(LocationRow.path) == canonical
-        if include_children:
-            cond = cond | func.lower(LocationRow.path).like(canonical + "/%")
-        query = query.where(cond)
+        query = query.where(_at_place(path, include_children))
     rows = session.execute(query.order_by(LocationRow.path, DeviceRow.key)).all()
     return [LotView(d.designation, loc.path, lot.condition, lot.quantity, lot.note,
                     d.low_stock, totals.get(d.id, 0)) for lot, d, loc in rows]
+
+
+def _at_place(path: str, include_children: bool = True) -> ColumnElement[bool]:
+    """The place at ``path`` (and the places in it): by key, with LIKE's ``%`` and ``_`` escaped,
+    since ``_`` is allowed in a place name ("C_" must not match "C1")."""
+    key = place_key(path)
+    cond = LocationRow.key == key
+    if include_children:
+        escaped = key.replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_")
+        cond = cond | LocationRow.key.like(escaped + "/%", escape="\\")
+    return cond
 
 
 def _device_totals(session: Session) -> dict[int, int]:
@@ -392,9 +450,7 @@ def ledger(session: Session, designation: str | None = None, location: str | Non
     if designation:
         query = query.where(DeviceRow.id == require_row(session, designation).id)
     if location:
-        canonical = normalize_path(location).lower()
-        query = query.where((func.lower(LocationRow.path) == canonical)
-                            | func.lower(LocationRow.path).like(canonical + "/%"))
+        query = query.where(_at_place(location))
     if job:
         query = query.where(MovementRow.job == job)
     if since:

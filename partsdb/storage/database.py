@@ -245,7 +245,7 @@ def alembic_config(connection: Any) -> Any:
     return config
 
 
-SCHEMA_HEAD = "0003"
+SCHEMA_HEAD = "0004"
 """The newest migration revision. Opening a database compares its ``alembic_version`` with
 this by plain SQL, so Alembic (about 0.2 s to import) loads only when an upgrade is due; a test
 checks that it equals Alembic's own head."""
@@ -316,7 +316,10 @@ class Database:
                 raise PermissionRefused(
                     f"the server refused: {_first_line(err)} (the role in use may only read); "
                     "nothing was changed") from err
-            raise
+            # A rule of the database that the input checks (limits.py) did not catch first:
+            # one line of the driver's message, never the SQL, the parameters or a link.
+            raise DatabaseError(f"the database refused the change, nothing was changed: "
+                                f"{_first_line(err)}") from err
         except BaseException:
             session.rollback()
             raise
@@ -362,10 +365,6 @@ def _sqlstate(err: BaseException | None) -> str | None:
     return getattr(getattr(err, "orig", err), "sqlstate", None)
 
 
-def _first_line(err: DBAPIError) -> str:
-    return (str(err.orig) if err.orig is not None else str(err)).strip().splitlines()[0]
-
-
 def is_transient(err: BaseException | None) -> bool:
     """Whether a database error means "run the same transaction again" (see TRANSIENT_SQLSTATES)."""
     orig = getattr(err, "orig", err)
@@ -378,6 +377,11 @@ _WRITE = re.compile(r"^\s*(INSERT|UPDATE|DELETE|CREATE|DROP|ALTER|REPLACE)\b", r
 def _refuse_writes(conn: Any, cursor: Any, statement: str, *args: Any) -> None:
     if _WRITE.match(statement):
         raise ReadOnlyError("this database is open read-only (--read-only): nothing was changed")
+
+
+def _first_line(err: DBAPIError) -> str:
+    text = str(err.orig) if err.orig is not None else str(err)
+    return mask_url((text.strip().splitlines() or ["(no message)"])[0])
 
 
 def _friendly(err: OperationalError, db: Database) -> DatabaseError:

@@ -79,7 +79,11 @@ class DeviceRow(Base):
 
 
 class LocationRow(Base):
-    """A place in the cabinet / drawer / bin tree, addressed by its full path ("C2/D14")."""
+    """A place in the cabinet / drawer / bin tree, addressed by its full path ("C2/D14").
+
+    ``path`` is kept as first written, for display; ``key`` is the normalised path
+    (``services.stock.place_key``) and is what makes a place unique, so "case0" and "CASE0"
+    are one place."""
 
     __tablename__ = "locations"
 
@@ -87,6 +91,9 @@ class LocationRow(Base):
     parent_id: Mapped[int | None] = mapped_column(ForeignKey("locations.id", ondelete="RESTRICT"))
     name: Mapped[str] = mapped_column(String(64))
     path: Mapped[str] = mapped_column(String(255), unique=True)
+    key: Mapped[str] = mapped_column(String(255), server_default="")
+
+    __table_args__ = (Index("uq_locations_key", "key", unique=True),)
 
 
 class LotRow(Base):

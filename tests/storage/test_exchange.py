@@ -142,7 +142,9 @@ def test_export_escapes_text_keeps_numbers_and_round_trips(empty_db, tmp_path: P
     assert report.unchanged == 1  # the apostrophe is undone on import: an exact round trip
 
 
-text_cell = st.text(alphabet=st.characters(blacklist_categories=("Cs", "Cc")), max_size=20)
+# Control and format characters are refused on input (limits.py), so they are not drawn here.
+text_cell = st.text(alphabet=st.characters(blacklist_categories=("Cs", "Cc", "Cf", "Zl", "Zp")),
+                    max_size=20)
 
 
 @settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])

@@ -562,3 +562,22 @@ async def test_log_swap_under_read_only_is_a_message_not_a_crash(shop_db: Any,
     with ro.session() as session:
         assert swaplog.list_swaps(session) == []
     ro.dispose()
+
+
+async def test_hostile_quantities_in_the_stock_form_are_refused_and_the_app_keeps_running(
+        shop_db: Any) -> None:
+    """issue 14 item 4: "inf", "1e309" and 20 digits once ended the TUI with a traceback."""
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await _open_lot(app, pilot, "QX3302")
+        before, entries = quantity_at(shop_db, "QX3302", "C1/D2"), ledger_size(shop_db)
+        form = await _submit(app, pilot, "r", {"quantity": "inf"})
+        for bad in ("inf", "1e309", "99999999999999999999", "9223372036854775808", "1000001"):
+            form.query_one("#sf-quantity").value = bad
+            await pilot.press("enter")
+            await pilot.pause()
+            assert app.screen is form and app.is_running
+            message = static_text(form.query_one("#form-message", Static))
+            assert "REFUSED" in message and "1,000,000" in message
+    assert quantity_at(shop_db, "QX3302", "C1/D2") == before
+    assert ledger_size(shop_db) == entries

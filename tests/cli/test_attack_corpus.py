@@ -1,0 +1,87 @@
+"""The attack corpus (tests/attack_corpus/inputs): hostile CSV files, designations and quantities.
+
+Each case is refused with its documented exit code (the file or JSON entry gives it; 2 = invalid
+input, errors.py), with an error line and no traceback, and the database is unchanged: every row
+of every table is dumped before and after and compared. Run once per backend, so SQLite and
+PostgreSQL refuse the same input in the same words.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+from typing import Any
+
+import pytest
+from click.testing import CliRunner, Result
+
+from partsdb.cli import main
+from partsdb.services import catalog, stock
+from partsdb.storage.database import open_database
+from tests.storage.workers import dump
+
+CORPUS = Path(__file__).resolve().parent.parent / "attack_corpus" / "inputs"
+
+
+def _load(name: str) -> list[dict[str, Any]]:
+    return list(json.loads((CORPUS / name).read_text(encoding="utf-8")))
+
+
+def _workshop(url: str) -> Any:
+    db = open_database(url, notify=None)
+    with db.session() as session:
+        catalog.add_device(session, {"designation": "QA1", "kind": "bjt", "polarity": "npn",
+                                     "material": "si", "vceo": "40V", "notes": "kept"})
+        stock.receive(session, "QA1", 5, "C1/D01", job="J-1", note="first")
+    return db
+
+
+def _refused(result: Result, code: int, one_line: bool, case: str) -> None:
+    assert result.exit_code == code, f"{case}: exit {result.exit_code}: {result.output}"
+    assert result.exception is None or isinstance(result.exception, SystemExit), case
+    err = result.stderr.strip()
+    assert err.startswith(("error:", "Error:")), f"{case}: {err[:200]}"
+    assert "Traceback" not in result.output and "[SQL:" not in err and "sqlalche.me" not in err
+    if one_line:
+        assert len(err.splitlines()) == 1, f"{case}: {err[:300]}"
+
+
+def test_every_csv_case_is_refused_and_writes_nothing(db_url: str) -> None:
+    db = _workshop(db_url)
+    before = dump(db)
+    cases = _load("csv_cases.json")
+    assert len(cases) == len(list(CORPUS.glob("*.csv")))  # every file in the corpus has a case
+    for case in cases:
+        result = CliRunner().invoke(main, ["--db", db_url, *case["command"],
+                                           str(CORPUS / case["file"])])
+        _refused(result, case["exit"], one_line=False, case=case["file"])
+        assert dump(db) == before, case["file"]
+    db.dispose()
+
+
+def test_every_hostile_designation_is_refused_and_writes_nothing(db_url: str) -> None:
+    db = _workshop(db_url)
+    before = dump(db)
+    for case in _load("hostile_designations.json"):
+        result = CliRunner().invoke(main, ["--db", db_url, "device", "add", case["value"],
+                                           "--kind", "bjt", "--polarity", "npn",
+                                           "--material", "si"])
+        _refused(result, case["exit"], one_line=True, case=case["why"])
+        assert dump(db) == before, case["why"]
+    db.dispose()
+
+
+@pytest.mark.parametrize("verb", ["receive", "take", "count"])
+def test_every_hostile_quantity_is_refused_and_writes_nothing(db_url: str, verb: str) -> None:
+    db = _workshop(db_url)
+    before = dump(db)
+    place = {"receive": "--to", "take": "--from", "count": "--at"}[verb]
+    for case in _load("hostile_quantities.json"):
+        if verb == "count" and case["value"] == "0":
+            continue  # a stock-take of 0 is a valid count
+        result = CliRunner().invoke(main, ["--db", db_url, "stock", verb, "QA1", place,
+                                           "C1/D01", "--", case["value"]])
+        _refused(result, case["exit"], one_line=True, case=f"{verb} {case['value']!r}")
+        assert "quantity" in result.stderr
+        assert dump(db) == before, case["value"]
+    db.dispose()
