@@ -38,7 +38,7 @@ def labels(state: CliState, places: tuple[str, ...], output: str, paper: str | N
 
     \b
     partsdb labels --output labels.pdf
-    partsdb labels C1 C2/D14 --paper letter --rows 10 --columns 3 --output c1.pdf
+    partsdb labels C1 C2/D05 --paper letter --rows 10 --columns 3 --output c1.pdf
     partsdb labels C1/D01 --no-code --output d01.svg
     """
     from partsdb.services import labels as svc
