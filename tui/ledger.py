@@ -71,6 +71,15 @@ class LedgerView(Vertical):
             self._loaded = True
         self.refresh_entries()
 
+    def refresh_data(self, visible: bool) -> None:
+        """The database changed: re-read the movements now if shown (load() re-reads anyway)."""
+        if visible and self._loaded:
+            table = self.query_one("#ledger-table", DataTable)
+            row = table.cursor_row
+            self.refresh_entries()
+            if self._entries:
+                table.move_cursor(row=min(row, len(self._entries) - 1))
+
     @on(Input.Submitted)
     @on(Input.Changed)
     def _filters_changed(self, event: Input.Changed | Input.Submitted) -> None:
