@@ -42,6 +42,8 @@ class DrawersView(Horizontal):
         self.place: str | None = None
         self.lots: list[LotView] = []
         self.lots_shown: list[LotView] = []
+        self.low_devices = 0
+        """Devices below their low-stock mark in the title's count (tests read it)."""
         self._loaded = False
         self._paths: list[str] | None = None
         self._restoring: str | None = None
@@ -141,10 +143,17 @@ class DrawersView(Horizontal):
                          == (before.designation, before.location, before.condition)), None)
             table.move_cursor(row=same if same is not None else min(row, len(self.lots) - 1))
         total = sum(lot.quantity for lot in self.lots)
-        low = sum(1 for lot in self.lots if lot.low)
+        # Devices, not lots (as `partsdb stock low`): a device is low when its stock summed
+        # over every place is below its mark, however many lots it has here.
+        if place is None:
+            with self.db.session() as session:
+                low = len(stock.low_stock(session))
+        else:
+            low = len({lot.designation for lot in self.lots if lot.low})
         self.query_one("#lots-title", Static).update(
             f"{place or ALL_PLACES}: {len(self.lots)} lots, {total} parts"
-            + (f", {low} LOW" if low else ""))
+            + (f", {low} device{'s' if low != 1 else ''} LOW" if low else ""))
+        self.low_devices = low
 
     @on(Tree.NodeHighlighted, "#drawer-tree")
     def _place_highlighted(self, event: Tree.NodeHighlighted[str | None]) -> None:
