@@ -207,7 +207,7 @@ def ledger(state: CliState, designation: str | None, location: str | None, job: 
     if fmt == "json":
         emit_json([e.to_json() for e in entries])
         return
-    from partsdb.clock import show, zone_name
+    from partsdb.clock import show
 
     if fmt == "csv":  # machine-readable: the stored UTC time, offset written out
         emit_csv(["at", "designation", "location", "condition", "change", "reason", "job",
@@ -217,7 +217,7 @@ def ledger(state: CliState, designation: str | None, location: str | None, job: 
         return
     rows = [[show(e.at), e.designation, e.location, e.condition, f"{e.change:+d}", e.reason,
              e.job, e.note] for e in entries]
-    print_table("Ledger", [f"When ({zone_name()})", "Device", "Place", "Cond.", "Change",
+    print_table("Ledger", ["When (local)", "Device", "Place", "Cond.", "Change",
                            "Reason", "Job", "Note"], rows,
                 caption="Local time (stored in UTC).")
 

@@ -56,6 +56,7 @@ def test_ledger_table_names_the_local_zone(run) -> None:  # type: ignore[no-unty
     from partsdb.clock import zone_name
 
     table = run("stock", "ledger").output
-    assert f"When ({zone_name()})" in table and "stored in UTC" in table
+    assert "When (local)" in table and "stored in UTC" in table
+    assert f" {zone_name()} " in table  # each time carries its zone
     entry = json.loads(run("stock", "ledger", "--format", "json", "--limit", "1").output)[0]
     assert entry["at"].endswith("+00:00")

@@ -10,7 +10,6 @@ import time
 from typing import Any
 
 from partsdb.services import catalog, stock
-from partsdb.services.changes import ChangeWatch
 from partsdb.storage.database import open_database
 from tui.app import build_app
 
@@ -24,21 +23,6 @@ async def _wait_for(pilot: Any, condition: Any, seconds: float = 3.0) -> float:
         assert time.monotonic() - start < seconds, "the change did not show in time"
         await pilot.pause(0.05)
     return time.monotonic() - start
-
-
-def test_watch_sees_other_connections_only_after_a_change(shop_db: Any) -> None:
-    watch = ChangeWatch(shop_db)
-    assert watch.changed() is False  # the first call takes the mark
-    assert watch.changed() is False  # nothing happened
-    other = open_database(shop_db.url.render_as_string(hide_password=False), notify=None)
-    try:
-        with other.session() as session:
-            stock.take(session, "QX3301", 1, "C1/D1")
-        assert watch.changed() is True
-        assert watch.changed() is False  # reported once
-    finally:
-        other.dispose()
-        watch.close()
 
 
 async def test_outside_change_shows_on_the_selected_place_and_lot(shop_db: Any) -> None:
