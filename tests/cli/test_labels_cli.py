@@ -154,3 +154,20 @@ def test_config_labels_table_sets_the_defaults(run, tmp_path: Path, monkeypatch)
     config.write_text("[labels]\nrows = \"many\"\n")
     result = run("labels", "--output", str(tmp_path / "d.pdf"))
     assert result.exit_code == 2 and "labels.rows = 'many'; expected a number" in result.stderr
+
+
+def test_missing_print_extra_is_one_line_and_exit_3(run, tmp_path: Path, monkeypatch) -> None:  # type: ignore[no-untyped-def]
+    import importlib.util
+
+    real = importlib.util.find_spec
+    monkeypatch.setattr(importlib.util, "find_spec",
+                        lambda name, *a: None if name in ("fpdf", "segno") else real(name, *a))
+    out = tmp_path / "labels.pdf"
+    result = run("labels", "--output", str(out))
+    assert result.exit_code == 3
+    assert result.stderr.strip().splitlines() == [
+        "error: labels: PDF output needs the optional packages fpdf2 and segno; install them "
+        "with pip install 'partsdb[print]'"]
+    assert not out.exists()
+    # An SVG without codes needs neither package.
+    assert run("labels", "--no-code", "--output", str(tmp_path / "plain.svg")).exit_code == 0
