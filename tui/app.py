@@ -141,6 +141,12 @@ class PartsdbApp(App[None]):
         if changed:
             self.call_from_thread(self.refresh_data, "changed elsewhere")
 
+    def absorb_own_change(self) -> None:
+        """This app just wrote (a form was saved): take a new mark, so the next poll does not
+        report the app's own change as one made elsewhere."""
+        if self._watch is not None:
+            self._watch.changed()
+
     def action_refresh_data(self) -> None:
         self.refresh_data("refreshed")
 

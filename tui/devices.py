@@ -475,6 +475,7 @@ class DevicesView(Vertical):
         if device is None:
             return
         self.notify(f"Saved {device.designation}.")
+        self.shell.absorb_own_change()
         self._load_stock()
         self.shell.catalog_changed()  # the only rebuild of the index
         # Show the saved record: the search runs once the keys pause and the index is ready.

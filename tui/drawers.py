@@ -185,6 +185,9 @@ class DrawersView(Horizontal):
     def _after(self, result: str | None) -> None:
         if result is None:
             return
+        absorb = getattr(self.app, "absorb_own_change", None)
+        if absorb is not None:
+            absorb()
         self.reload()
         self.query_one("#lot-status", Static).update(result)
         self.notify(result)

@@ -14,6 +14,7 @@ so a change of any quantity shows; a device added, edited or removed changes the
 
 from __future__ import annotations
 
+import threading
 from typing import TYPE_CHECKING, Any
 
 from sqlalchemy import func, select
@@ -54,6 +55,7 @@ class ChangeWatch:
         self.sqlite = db.dialect == "sqlite"
         self._conn: Connection | None = None
         self._last: Any = _UNSET
+        self._lock = threading.Lock()  # polled from a worker thread, absorbed from the UI's
 
     def _mark(self) -> Any:
         if self.sqlite:
@@ -67,11 +69,16 @@ class ChangeWatch:
             return _stock_fingerprint(conn)
 
     def changed(self) -> bool:
-        mark = self._mark()
-        previous, self._last = self._last, mark
+        with self._lock:
+            mark = self._mark()
+            previous, self._last = self._last, mark
         return previous is not _UNSET and mark != previous
 
     def close(self) -> None:
+        with self._lock:
+            self._close()
+
+    def _close(self) -> None:
         if self._conn is not None:
             self._conn.close()
             self._conn = None

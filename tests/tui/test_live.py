@@ -105,3 +105,24 @@ def _walk(node: Any) -> Any:
     yield node
     for child in node.children:
         yield from _walk(child)
+
+
+async def test_own_change_is_not_reported_as_made_elsewhere(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False, poll_seconds=60)  # the timer never fires here
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        view = app.view("drawers")
+        view.query_one("#lots-table").focus()
+        await pilot.press("t")
+        await pilot.pause()
+        app.screen.query_one("#sf-quantity").value = "1"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert app._watch.changed() is False  # the form's own save was absorbed
+        other = open_database(shop_db.url.render_as_string(hide_password=False), notify=None)
+        try:
+            with other.session() as session:
+                stock.take(session, "QX3301", 1, "C1/D1")
+        finally:
+            other.dispose()
+        assert app._watch.changed() is True  # while a real outside change is not
