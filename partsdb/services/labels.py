@@ -185,7 +185,8 @@ def render_svg(sheet: Sheet) -> bytes:
            f'<svg xmlns="http://www.w3.org/2000/svg" width="{w:g}mm" height="{h:g}mm" '
            f'viewBox="0 0 {w:g} {h:g}">',
            '<rect x="0" y="0" width="100%" height="100%" fill="white"/>',
-           '<g font-family="Helvetica, Arial, sans-serif" fill="black" stroke-linecap="butt">']
+           '<g font-family="Helvetica, Arial, sans-serif" fill="black" stroke-linecap="butt" '
+           'xml:space="preserve">']
     for mark in sheet.marks:
         if isinstance(mark, Text):
             weight = ' font-weight="bold"' if mark.bold else ""
