@@ -138,5 +138,11 @@ class DeviceForm(ModalScreen[Device | None]):
         except (UnitError, ValueError, LookupError, DatabaseError) as err:
             # CatalogError (duplicate designation), NotFound, ReadOnlyError: nothing written.
             message.update(f"Not saved: {err}")
+            field = next((spec.name for spec in FIELDS
+                          if str(err).lower().startswith(spec.name)), None)
+            if field is None and "designation" in str(err).lower():
+                field = "designation"
+            if field is not None:
+                select_field(self.query_one(f"#fd-{field}", Input))
             return
         self.dismiss(saved)

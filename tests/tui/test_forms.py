@@ -124,3 +124,20 @@ async def test_low_count_in_the_title_is_the_cli_count_of_devices(shop_db: Any) 
 def _ledger_size(db: Any) -> int:
     with db.session() as session:
         return len(stock.ledger(session))
+
+
+async def test_duplicate_designation_selects_the_designation(shop_db: Any) -> None:
+    app = build_app(shop_db, cursor_blink=False, poll_seconds=0, start="devices")
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        app.view("devices").action_add()
+        await pilot.pause()
+        form = app.screen
+        assert isinstance(form, DeviceForm)
+        form.query_one("#fd-designation", Input).value = "QX3301"  # already stored
+        form.query_one("#fd-notes", Input).focus()
+        await pilot.press("ctrl+s")
+        await pilot.pause()
+        assert app.screen is form
+        field = form.query_one("#fd-designation", Input)
+        assert app.focused is field and field.selected_text == "QX3301"
