@@ -44,6 +44,7 @@ def test_tsv_one_line_per_row_tabs_only_between_cells(shop: str) -> None:
     rows = [dict(zip(header, line.split("\t"), strict=True)) for line in lines[1:]]
     assert len(rows) == 2
     assert {r["note"] for r in rows} == {LONG_NOTE, "box B2 left"}
-    assert {(r["location"], r["change"]) for r in rows} == {("K1/D2", "3"), ("K1/D3", "2")}  # a number, as in CSV
+    # The change is a number, as in CSV.
+    assert {(r["location"], r["change"]) for r in rows} == {("K1/D2", "3"), ("K1/D3", "2")}
     low = CliRunner().invoke(main, ["--db", shop, "stock", "low", "--format", "tsv"])
     assert low.output.splitlines()[1].split("\t")[:3] == ["ZT101", "5", "10"]
