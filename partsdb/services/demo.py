@@ -102,13 +102,9 @@ def demo_summary(db: Database) -> str:
         f"{devices} device types ({obsolete} obsolete), {parts} parts in {lots} lots across "
         f"{places} places, {moves} ledger entries, {len(low)} below their low-stock mark.",
     ]
-    try:
-        from partsdb.services.substitution import worked_example
-    except ImportError:
-        worked_example = None
-    if worked_example is not None:
-        lines.append("")
-        lines.append(worked_example(db))
+    from partsdb.services.substitution import worked_example
+
+    lines += ["", worked_example(db)]
     from partsdb.cautions import SHORT_CAUTION
 
     lines += ["", SHORT_CAUTION]

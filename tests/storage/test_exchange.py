@@ -217,7 +217,7 @@ def test_chunked_import_matches_the_one_record_parser(empty_db, tmp_path: Path, 
                                                       monkeypatch: pytest.MonkeyPatch) -> None:
     from partsdb.consistency import consistency_warnings
     from partsdb.device import FIELD_NAMES, parse_device
-    from partsdb.services.synthetic import synthetic_frame
+    from partsdb.perf.synthetic import synthetic_frame
 
     frame = synthetic_frame(1200, seed=5)  # invented rows: the input, not the oracle
     path = tmp_path / "s.csv"
