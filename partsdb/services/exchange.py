@@ -17,7 +17,6 @@ with = + - @ TAB or CR gets a leading apostrophe (OWASP "CSV Injection"), while 
 from __future__ import annotations
 
 import math
-import re
 from collections.abc import Iterator
 from dataclasses import dataclass, field, fields
 from pathlib import Path
@@ -42,7 +41,7 @@ from partsdb.device import (
 from partsdb.errors import InvalidInput
 from partsdb.services import catalog
 from partsdb.storage.models import DeviceRow
-from partsdb.units import UnitError
+from partsdb.units import UnitError, parse_quantities
 
 if TYPE_CHECKING:
     import numpy as np
@@ -168,107 +167,27 @@ def _stripped(cells: pd.Series) -> list[str]:
     return [cell.strip() for cell in cells.tolist()]
 
 
-# Cells made only of these characters are numbers exactly when Python's float() reads them, and
-# then float() and units.parse_quantity read them alike (its number pattern is the decimal
-# float syntax); anything else (units, R-notation, "inf", "1_000", junk) goes to the slower paths.
-_NUMBER_CHARS = "0123456789.+-eE"
-
-
 def _parse_quantity_column(name: str, cells: pd.Series, problems: dict[int, list[str]]
                            ) -> np.ndarray:
-    """Column-wise parse: plain numbers vectorised, only unit-bearing cells one by one."""
+    """A quantity or count column read by :func:`partsdb.units.parse_quantities`, then held to
+    the field's own rules (positive; a count whole and 0 or more) as parse_field holds a cell."""
     import numpy as np
 
-    text = _stripped(cells)
-    n = len(text)
-    raw = np.empty(n, dtype=object)
-    raw[:] = text
-    blank = (raw == "") | (raw == "—")
-    plain = np.array([not cell.strip(_NUMBER_CHARS) for cell in text], dtype=bool) & ~blank
-    numbers = np.full(n, np.nan)
-    if plain.any():
-        try:
-            numbers[plain] = raw[plain].astype(float)
-        except ValueError:  # a stray "." or "1-2": read those one by one below
-            numbers[plain] = [_float_or_nan(cell) for cell in raw[plain].tolist()]
-    pending = ~blank & np.isnan(numbers)
     spec = FIELD_BY_NAME[name]
-    if pending.any() and spec.kind == "quantity":
-        # The common written form "40V", "300 MHz", "200mA" in one pass; anything else
-        # (R-notation, junk) falls through to the per-cell parser and its messages.
-        numbers, pending = _scale_plain(raw, numbers, pending, spec.unit)
-    slow = np.flatnonzero(pending)
-    for pos in slow:
-        try:
-            numbers[pos] = parse_field(name, raw[pos])
-        except UnitError as err:
-            problems.setdefault(int(pos), []).append(str(err))
-    fast = ~blank
-    fast[slow] = False
-    if name == "low_stock":
-        bad = fast & ~((numbers >= 0) & (numbers == np.floor(numbers)))
+    text = _stripped(cells)
+    numbers, errors = parse_quantities(text, spec.unit if spec.kind == "quantity" else "", name)
+    for pos, err in errors.items():
+        problems.setdefault(pos, []).append(str(err))
+    if spec.kind == "count":
+        bad = ~np.isnan(numbers) & ~((numbers >= 0) & (numbers == np.floor(numbers)))
     else:
-        bad = fast & ~(numbers > 0)
-    for pos in np.flatnonzero(bad):
+        bad = ~np.isnan(numbers) & ~(numbers > 0)
+    for pos in np.flatnonzero(bad).tolist():
         try:
-            parse_field(name, float(numbers[pos]))
+            parse_field(name, text[pos])
         except UnitError as err:
-            problems.setdefault(int(pos), []).append(str(err))
+            problems.setdefault(pos, []).append(str(err))
     return numbers
-
-
-def _float_or_nan(cell: str) -> float:
-    try:
-        return float(cell)
-    except ValueError:
-        return math.nan
-
-
-_PLAIN_WITH_UNIT = r"^([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([TGMkKmuµμnpf]?)\s*({unit})$"
-_UNIT_PATTERNS: dict[str, Any] = {}
-
-
-def _unit_pattern(unit: str) -> Any:
-    from partsdb.units import UNIT_SPELLINGS
-
-    if unit not in _UNIT_PATTERNS:
-        spellings = [re.escape(u) for u in UNIT_SPELLINGS.get(unit, ()) if u]
-        _UNIT_PATTERNS[unit] = (re.compile(_PLAIN_WITH_UNIT.format(unit="|".join(spellings)),
-                                           re.IGNORECASE) if spellings else None)
-    return _UNIT_PATTERNS[unit]
-
-
-def _scale_plain(raw: np.ndarray, numbers: np.ndarray, pending: np.ndarray, unit: str
-                 ) -> tuple[np.ndarray, np.ndarray]:
-    """Parse "number [prefix] unit" cells with the same prefix table as units.py.
-
-    Only the pending cells (about a third of a hand-kept column) are matched, with one compiled
-    pattern; pandas' ``str.extract`` builds a frame per call and cost several times more.
-    """
-    import numpy as np
-
-    from partsdb.units import PREFIXES
-
-    pattern = _unit_pattern(unit)
-    if pattern is None:
-        return numbers, pending
-    positions = np.flatnonzero(pending)
-    done = []
-    values = []
-    match = pattern.match
-    for pos, cell in zip(positions.tolist(), raw[positions].tolist(), strict=True):
-        m = match(cell)
-        # A case-insensitive match must not turn "m" (milli) into "M" (mega): the prefix is
-        # taken exactly as written; a letter the case-folded match took for a prefix ("U", "t")
-        # is left to the per-cell parser.
-        if m is not None and (factor := PREFIXES.get(m.group(2))) is not None:
-            done.append(pos)
-            values.append(float(m.group(1)) * factor)
-    if done:
-        numbers[done] = values
-        pending = pending.copy()
-        pending[done] = False
-    return numbers, pending
 
 
 def _parse_words(name: str, cells: list[str], wanted: list[bool], table: dict[str, Any],
