@@ -16,13 +16,12 @@ with = + - @ TAB or CR gets a leading apostrophe (OWASP "CSV Injection"), while 
 
 from __future__ import annotations
 
-import math
 from collections.abc import Iterator
 from dataclasses import dataclass, field, fields
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
-from sqlalchemy import select, update
+from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from partsdb.designations import normalize
@@ -316,9 +315,6 @@ class _Columns:
         out[blank] = None
         return out.tolist()
 
-    def row(self, pos: int) -> dict[str, Any]:
-        return {name: self.plain(name, pos, pos + 1)[0] for name in FIELD_NAMES}
-
 
 def _parse_frames(frames: Iterator[pd.DataFrame]) -> tuple[_Columns, dict[int, list[str]]]:
     """Parse every chunk before anything is written; problems keyed by row position in the file."""
@@ -343,17 +339,6 @@ def _check_header(frame: pd.DataFrame) -> None:
     missing = [c for c in REQUIRED_DEVICE_COLUMNS if c not in frame.columns]
     if missing:
         raise ImportRejected([(1, f"missing required column(s) {', '.join(missing)}")])
-
-
-def parse_device_frame(frame: pd.DataFrame) -> tuple[list[Device], dict[int, list[str]]]:
-    """Devices from a frame of text cells, and problems by row position (column-wise)."""
-    columns, problems = _parse_chunk(frame)
-    parsed = _Columns()
-    parsed.add(columns, len(frame))
-    parsed.finish()
-    lists = [parsed.plain(name, 0, parsed.n) for name in FIELD_NAMES]
-    return [Device(**dict(zip(FIELD_NAMES, row, strict=True)))
-            for row in zip(*lists, strict=True)], problems
 
 
 def _frame_chunks(frame: pd.DataFrame) -> Iterator[pd.DataFrame]:
@@ -429,74 +414,21 @@ def _consistency(parsed: _Columns, problems: dict[int, list[str]], strict: bool,
     return out
 
 
-_ROW_COLUMNS: tuple[str, ...] = ("key", *FIELD_NAMES, "warnings", "updated_at")
 _WRITE_ROWS = 20_000
 
 
 def _write_devices(session: Session, parsed: _Columns, keys: list[str],
                    warnings: list[str | None], report: ImportReport) -> None:
-    from sqlalchemy import bindparam, func
+    """Hand the rows to the catalog service a batch at a time, straight from the columns."""
 
-    from partsdb.storage.models import utcnow
+    def batches() -> Iterator[Iterator[tuple[Any, ...]]]:
+        for start in range(0, parsed.n, _WRITE_ROWS):
+            stop = min(parsed.n, start + _WRITE_ROWS)
+            yield zip(keys[start:stop], *[parsed.plain(name, start, stop) for name in FIELD_NAMES],
+                      warnings[start:stop], strict=True)
 
-    table = DeviceRow.__table__
-    now = utcnow()
-    existing: dict[str, tuple[int, dict[str, Any]]] = {}
-    if session.scalar(select(func.count()).select_from(table)):
-        cols = [table.c.id, table.c.key, *[table.c[name] for name in (*FIELD_NAMES, "warnings")]]
-        for start in range(0, len(keys), 900):
-            chunk = keys[start:start + 900]
-            for row in session.execute(select(*cols).where(table.c.key.in_(chunk))).mappings():
-                existing[row["key"]] = (row["id"], dict(row))
-    updates: list[dict[str, Any]] = []
-    connection = session.connection()
-    marker = "?" if connection.dialect.paramstyle == "qmark" else "%s"
-    # sqlite3 would adapt the datetime once per row, to exactly this text (its default adapter
-    # is datetime.isoformat(" ")); other drivers take the datetime itself.
-    stamp: Any = now.isoformat(" ") if connection.dialect.name == "sqlite" else now
-    sql = (f"INSERT INTO {table.name} ({', '.join(_ROW_COLUMNS)}) "
-           f"VALUES ({', '.join([marker] * len(_ROW_COLUMNS))})")
-    for start in range(0, parsed.n, _WRITE_ROWS):
-        stop = min(parsed.n, start + _WRITE_ROWS)
-        # Row tuples straight from the columns, one batch at a time: the driver's own
-        # executemany on plain tuples, as SQLAlchemy's per-row parameter processing would cost
-        # more than the insert itself.
-        rows = zip(keys[start:stop], *[parsed.plain(name, start, stop) for name in FIELD_NAMES],
-                   warnings[start:stop], strict=True)
-        if not existing:  # a new catalog: every row is an insert
-            inserts = [(*row, stamp) for row in rows]
-            report.added += len(inserts)
-            connection.exec_driver_sql(sql, inserts)
-            continue
-        inserts = []
-        for row in rows:
-            key = row[0]
-            if key in existing:
-                values = dict(zip(_ROW_COLUMNS[:-1], row, strict=True))
-                ident, old = existing[key]
-                if all(_same(old.get(k), v) for k, v in values.items() if k != "key"):
-                    report.unchanged += 1
-                    continue
-                updates.append({"_id": ident, **values, "updated_at": now})
-                report.updated += 1
-            else:
-                inserts.append((*row, stamp))
-                report.added += 1
-        if inserts:
-            connection.exec_driver_sql(sql, inserts)
-    if updates:
-        stmt = (update(table).where(table.c.id == bindparam("_id"))
-                .values({k: bindparam(k) for k in updates[0] if k != "_id"}))
-        connection.execute(stmt, updates)
-    session.flush()
-
-
-def _same(a: Any, b: Any) -> bool:
-    if isinstance(a, float) and isinstance(b, float):
-        return math.isclose(a, b, rel_tol=1e-12)
-    if isinstance(a, bool) or isinstance(b, bool):
-        return bool(a) == bool(b)
-    return a == b
+    stored = catalog.add_many(session, batches())
+    report.added, report.updated, report.unchanged = stored.added, stored.updated, stored.unchanged
 
 
 # ---------------------------------------------------------------- stock
