@@ -41,7 +41,8 @@ def device_count(db) -> int:  # type: ignore[no-untyped-def]
 
 def test_bad_rows_write_nothing_and_are_named(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
     path = write(tmp_path / "d.csv", GOOD_ROWS + BAD_ROWS)
-    with pytest.raises(ImportRejected) as info, empty_db.session() as session:
+    with pytest.raises(ImportRejected, match=r"import refused, nothing was written \(2 problem") \
+            as info, empty_db.session() as session:
         exchange.import_devices(session, path)
     lines = dict(info.value.problems)
     assert set(lines) == {5, 6}  # header is line 1
@@ -91,7 +92,8 @@ def test_stock_import_is_all_or_nothing(empty_db, tmp_path: Path) -> None:  # ty
     lots = tmp_path / "s.csv"
     lots.write_text("designation,location,quantity,condition,note\n"
                     "QR100,C1/D01,5,new,\nNOPE,C1/D01,2,new,\nQR101,C1/D02,-1,new,\n")
-    with pytest.raises(ImportRejected) as info, empty_db.session() as session:
+    with pytest.raises(ImportRejected, match=r"line 3: designation: 'NOPE' is not in the catalog") \
+            as info, empty_db.session() as session:
         exchange.import_stock(session, lots)
     assert [line for line, _ in info.value.problems] == [3, 4]
     with empty_db.session() as session:
@@ -267,7 +269,8 @@ def test_problems_in_every_chunk_keep_their_line_numbers(empty_db, tmp_path: Pat
     reports = []
     for chunk in (2, 3, 1000):
         monkeypatch.setattr(exchange, "CHUNK_ROWS", chunk)
-        with pytest.raises(ImportRejected) as info, empty_db.session() as session:
+        with pytest.raises(ImportRejected, match=r"\(5 problem\(s\)\)") as info, \
+                empty_db.session() as session:
             exchange.import_devices(session, path)
         reports.append(info.value.problems)
         assert device_count(empty_db) == 0

@@ -86,7 +86,8 @@ def test_quantity_cannot_go_negative_at_the_database(empty_db) -> None:  # type:
     with empty_db.session() as session:
         _catalog(session)
         stock.receive(session, "QA1", 1, "C1/D01")
-    with pytest.raises(IntegrityError), empty_db.session() as session:
+    # SQLite: "CHECK constraint failed"; PostgreSQL: "violates check constraint"
+    with pytest.raises(IntegrityError, match=r"(?i)check constraint"), empty_db.session() as session:
         session.execute(update(LotRow).values(quantity=-1))
 
 
@@ -108,8 +109,47 @@ def test_move_and_count_and_low_stock(empty_db) -> None:  # type: ignore[no-unty
 def test_bad_location_and_condition(empty_db) -> None:  # type: ignore[no-untyped-def]
     with empty_db.session() as session:
         _catalog(session)
-    for call in (lambda s: stock.receive(s, "QA1", 1, "C1//*"),
-                 lambda s: stock.receive(s, "QA1", 1, "C1/D1", "broken"),
-                 lambda s: stock.receive(s, "QA1", 0, "C1/D1")):
-        with pytest.raises(StockError), empty_db.session() as session:
+    for call, message in (
+            (lambda s: stock.receive(s, "QA1", 1, "C1//*"), r"location: segment '\*' of 'C1//\*'"),
+            (lambda s: stock.receive(s, "QA1", 1, "C1/D1", "broken"), r"condition: 'broken'"),
+            (lambda s: stock.receive(s, "QA1", 0, "C1/D1"), r"quantity: 0 .*above 0")):
+        with pytest.raises(StockError, match=message), empty_db.session() as session:
             call(session)
+
+
+@pytest.mark.parametrize(("held", "low"), [(9, True), (10, False), (11, False)])
+def test_low_stock_mark_is_strictly_below_the_threshold(empty_db, held: int, low: bool) -> None:  # type: ignore[no-untyped-def]
+    # "below their low-stock mark" (README): a drawer holding exactly the mark is not low.
+    with empty_db.session() as session:
+        _catalog(session)
+        catalog.edit_device(session, "QA1", {"low_stock": "10"})
+        stock.receive(session, "QA1", held, "C1/D01")
+        assert [i.designation for i in stock.low_stock(session)] == (["QA1"] if low else [])
+        assert [v.low for v in stock.where(session, "QA1")] == [low]
+        assert [v.low for v in stock.lots_at(session, "C1")] == [low]
+
+
+def test_ledger_time_filters_keep_the_movements_inside_the_window(empty_db) -> None:  # type: ignore[no-untyped-def]
+    from datetime import datetime
+
+    from sqlalchemy import update
+
+    from partsdb.storage.models import MovementRow
+
+    with empty_db.session() as session:
+        _catalog(session)
+        stock.receive(session, "QA1", 5, "C1/D01", job="early")
+        stock.take(session, "QA1", 2, "C1/D01", job="late")
+        # place the two movements a day apart (the service stamps them with the clock)
+        for job, at in (("early", datetime(2026, 3, 1, 12)), ("late", datetime(2026, 3, 2, 12))):
+            session.execute(update(MovementRow).where(MovementRow.job == job).values(at=at))
+    with empty_db.session() as session:
+        def jobs(**window: datetime) -> list[str | None]:
+            return [e.job for e in stock.ledger(session, "QA1", **window)]
+
+        assert jobs() == ["late", "early"]
+        assert jobs(since=datetime(2026, 3, 2)) == ["late"]
+        assert jobs(until=datetime(2026, 3, 2)) == ["early"]
+        assert jobs(since=datetime(2026, 3, 1, 12), until=datetime(2026, 3, 2, 12)) == [
+            "late", "early"]  # both ends inclusive
+        assert jobs(since=datetime(2026, 3, 3)) == []
