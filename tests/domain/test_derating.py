@@ -54,6 +54,7 @@ def test_grade_on_both_sides_of_each_boundary() -> None:
     # and including the rating, over above it. 0.75 and 40 are exact in binary: 30.0 is exact.
     rating, factor = 40.0, 0.75
     assert grade(30.0, rating, factor) == "ok"
+    assert isinstance(grade(30.0, rating, factor), str)  # a scalar gives a str, not a 0-d array
     assert grade(math.nextafter(30.0, 99), rating, factor) == "marginal"
     assert grade(40.0, rating, factor) == "marginal"
     assert grade(math.nextafter(40.0, 99), rating, factor) == "over"
@@ -77,6 +78,18 @@ def test_user_policy_is_checked_key_by_key() -> None:
         policy_from_mapping("mine", {"tj_cap": "hot"})
     with pytest.raises(PolicyError, match=r"unknown keys \['volts'\]"):
         policy_from_mapping("mine", {"volts": 0.5})
+
+
+def test_user_policy_keeps_what_was_given_and_defaults_the_rest() -> None:
+    # A factor of exactly 1 (no derating) is allowed: the range is (0, 1].
+    p = policy_from_mapping("full", {"voltage": 1, "current": 0.5, "power": 1.0,
+                                     "source": "shop rule 4", "description": "no margin"})
+    assert (p.name, p.source, p.description) == ("full", "shop rule 4", "no margin")
+    assert (p.voltage, p.current, p.power) == (1.0, 0.5, 1.0)
+    assert p.tj_cap is None and p.tj_margin == 0.0
+    assert p.tj_limit(150.0) == 150.0  # no margin, no cap: the rating itself
+    bare = policy_from_mapping("bare", {})
+    assert (bare.source, bare.description, bare.tj_cap) == ("user policy", "", None)
 
 
 # ---------------------------------------------------------------- below 0 °C

@@ -124,7 +124,8 @@ def test_low_stock_mark_is_strictly_below_the_threshold(empty_db, held: int, low
         _catalog(session)
         catalog.edit_device(session, "QA1", {"low_stock": "10"})
         stock.receive(session, "QA1", held, "C1/D01")
-        assert [i.designation for i in stock.low_stock(session)] == (["QA1"] if low else [])
+        found = [(i.designation, i.quantity, i.threshold) for i in stock.low_stock(session)]
+        assert found == ([("QA1", held, 10)] if low else [])
         assert [v.low for v in stock.where(session, "QA1")] == [low]
         assert [v.low for v in stock.lots_at(session, "C1")] == [low]
 
@@ -153,3 +154,43 @@ def test_ledger_time_filters_keep_the_movements_inside_the_window(empty_db) -> N
         assert jobs(since=datetime(2026, 3, 1, 12), until=datetime(2026, 3, 2, 12)) == [
             "late", "early"]  # both ends inclusive
         assert jobs(since=datetime(2026, 3, 3)) == []
+
+
+def test_low_stock_counts_a_device_with_no_lots_as_empty(empty_db) -> None:  # type: ignore[no-untyped-def]
+    with empty_db.session() as session:
+        _catalog(session)
+        catalog.edit_device(session, "QA1", {"low_stock": "1"})  # marked, never stocked: low
+        catalog.edit_device(session, "QB2", {"low_stock": "0"})  # a mark of 0 is never reached
+        assert [(i.designation, i.quantity, i.threshold) for i in stock.low_stock(session)] == [
+            ("QA1", 0, 1)]
+
+
+def test_ledger_entries_in_full_newest_first_by_place(empty_db) -> None:  # type: ignore[no-untyped-def]
+    from datetime import datetime
+
+    from sqlalchemy import update
+
+    from partsdb.storage.models import MovementRow
+
+    with empty_db.session() as session:
+        _catalog(session)
+        stock.receive(session, "QA1", 5, "C1/D01", "used", job="first", note="from a tuner")
+        stock.receive(session, "QA1", 2, "C1/D02", "used", job="second")
+        stock.take(session, "QA1", 1, "C1/D01", job="third")
+        same = datetime(2026, 3, 1, 12)
+        session.execute(update(MovementRow).values(at=same))
+    with empty_db.session() as session:
+        # the same time stamp: the later movement (higher id) first
+        assert [e.job for e in stock.ledger(session)] == ["third", "second", "first"]
+        assert [e.job for e in stock.ledger(session, limit=1)] == ["third"]
+        # a place is matched whatever its case, exactly or as a parent
+        assert [e.job for e in stock.ledger(session, location="c1/d01")] == ["third", "first"]
+        assert [e.job for e in stock.ledger(session, location="c1")] == ["third", "second", "first"]
+        entry = stock.ledger(session, job="first")[0]
+        assert (entry.designation, entry.location, entry.condition, entry.change, entry.reason,
+                entry.note) == ("QA1", "C1/D01", "used", 5, "receive", "from a tuner")
+        assert entry.id == min(e.id for e in stock.ledger(session))
+        # time decides before the id: move the first movement to the latest time
+        session.execute(update(MovementRow).where(MovementRow.job == "first")
+                        .values(at=datetime(2026, 3, 2)))
+        assert [e.job for e in stock.ledger(session)] == ["first", "third", "second"]
