@@ -194,3 +194,19 @@ def test_ledger_entries_in_full_newest_first_by_place(empty_db) -> None:  # type
         session.execute(update(MovementRow).where(MovementRow.job == "first")
                         .values(at=datetime(2026, 3, 2)))
         assert [e.job for e in stock.ledger(session)] == ["first", "third", "second"]
+
+
+def test_quantities_places_and_conditions_are_read_strictly(empty_db) -> None:  # type: ignore[no-untyped-def]
+    with empty_db.session() as session:
+        _catalog(session)
+        for bad in (1.5, True):  # a part count is a whole number, and a bool is not one
+            with pytest.raises(StockError, match=r"quantity: .* is not valid; expected a whole"):
+                stock.receive(session, "QA1", bad, "C1/D01")  # type: ignore[arg-type]
+        stock.receive(session, "QA1", 4, "C1\\D01", "new")  # a backslash reads as a slash
+        stock.receive(session, "QA1", 3, "C1/D01", "used")
+        # counting a lot down to 0 is allowed (0 or more), receiving 0 is not
+        assert stock.count(session, "QA1", 0, "C1/D01", "new")[1] == -4
+        stock.take(session, "QA1", 2, "C1/D01", "used", job="J-2", note="for the tuner")
+        assert {(v.location, v.condition, v.quantity) for v in stock.where(session, "QA1")} == {
+            ("C1/D01", "new", 0), ("C1/D01", "used", 1)}
+        assert stock.ledger(session, job="J-2")[0].note == "for the tuner"
