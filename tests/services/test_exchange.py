@@ -323,3 +323,47 @@ def test_number_fast_path_reads_like_parse_quantity(cell: str, value: float) -> 
                                           problems)
     assert got[0] == pytest.approx(value, rel=1e-12)
     assert sorted(problems) == [1, 2, 3, 4]
+
+
+def test_stock_import_reads_each_cell_and_counts_what_changed(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    with empty_db.session() as session:
+        exchange.import_devices(session, write(tmp_path / "d.csv", GOOD_ROWS))
+    lots = tmp_path / "s.csv"
+    # a blank condition is "new", conditions are read case-blind, 0 is a valid count
+    lots.write_text("designation,location,quantity,condition,note\n"
+                    "QR100,C1/D01,5,,spare pair\nQR101,C1/D02,0,USED,\nQR102,C2/D01,2,used,\n")
+    with empty_db.session() as session:
+        report = exchange.import_stock(session, lots)
+        assert (report.updated, report.unchanged) == (2, 1)  # the 0 lot was already 0
+        held = {(v.designation, v.location, v.condition, v.quantity, v.note)
+                for v in stock.lots_at(session, None)}
+    assert held == {("QR 100", "C1/D01", "new", 5, "spare pair"),
+                    ("QR-101", "C1/D02", "used", 0, None), ("QR102", "C2/D01", "used", 2, None)}
+    lots.write_text("designation,location,quantity,condition,note\n"
+                    "QR100,C1/D01,6,new,\nQR102,C2/D01,2,used,\n")
+    with empty_db.session() as session:
+        report = exchange.import_stock(session, lots)
+    assert (report.updated, report.unchanged) == (1, 1)
+
+
+@pytest.mark.parametrize(("text", "message"), [
+    # the same lot twice (place compared case-blind) names the first line
+    ("designation,location,quantity\nQR100,C1/D01,5\nqr 100,c1/d01,2\n",
+     r"line 3: the lot qr 100 at c1/d01 \(new\) repeats line 2"),
+    ("designation,location,quantity,colour\nQR100,C1/D01,5,red\n",
+     r"line 1: unknown column\(s\) 'colour'; known columns are designation, location, quantity"),
+    ("designation,quantity\nQR100,5\n", r"line 1: missing required column\(s\) location"),
+    ("designation,location,quantity,condition\nQR100,C1/D01,5,mint\n",
+     r"line 2: condition: 'mint' is not valid; expected one of new, used"),
+    ("designation,location,quantity\nQR100,C1/D01,2.5\n",
+     r"line 2: quantity: '2.5' is not valid; expected a whole number, 0 or more"),
+])
+def test_stock_import_names_each_problem(empty_db, tmp_path: Path, text: str, message: str) -> None:  # type: ignore[no-untyped-def]
+    with empty_db.session() as session:
+        exchange.import_devices(session, write(tmp_path / "d.csv", GOOD_ROWS))
+    lots = tmp_path / "s.csv"
+    lots.write_text(text)
+    with pytest.raises(ImportRejected, match=message), empty_db.session() as session:
+        exchange.import_stock(session, lots)
+    with empty_db.session() as session:
+        assert stock.lots_at(session, None) == []
