@@ -363,6 +363,9 @@ def test_stock_import_reads_each_cell_and_counts_what_changed(empty_db, tmp_path
      r"line 2: condition: 'mint' is not valid; expected one of new, used"),
     ("designation,location,quantity\nQR100,C1/D01,2.5\n",
      r"line 2: quantity: '2.5' is not valid; expected a whole number, 0 or more"),
+    ("designation,location,quantity\nQR100,C1//*,2\n",
+     r"line 2: location: segment '\*' of 'C1//\*' is not valid"),
+    ("designation,location,quantity\nQR100,,2\n", r"line 2: location: '' is empty; expected a path"),
 ])
 def test_stock_import_names_each_problem(empty_db, tmp_path: Path, text: str, message: str) -> None:  # type: ignore[no-untyped-def]
     with empty_db.session() as session:

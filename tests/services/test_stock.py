@@ -206,6 +206,8 @@ def test_quantities_places_and_conditions_are_read_strictly(empty_db) -> None:  
         stock.receive(session, "QA1", 3, "C1/D01", "used")
         # counting a lot down to 0 is allowed (0 or more), receiving 0 is not
         assert stock.count(session, "QA1", 0, "C1/D01", "new")[1] == -4
+        with pytest.raises(StockError, match=r"quantity: -1 .*expected .*0 or more"):
+            stock.count(session, "QA1", -1, "C1/D01", "new")
         stock.take(session, "QA1", 2, "C1/D01", "used", job="J-2", note="for the tuner")
         assert {(v.location, v.condition, v.quantity) for v in stock.where(session, "QA1")} == {
             ("C1/D01", "new", 0), ("C1/D01", "used", 1)}
