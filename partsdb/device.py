@@ -8,7 +8,6 @@ field is added in one place. Values are kept in SI base units (temperatures in Â
 
 from __future__ import annotations
 
-import dataclasses
 import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
@@ -361,7 +360,3 @@ def replace(device: Device, **changes: Any) -> Device:
     new = parse_device(raw)
     new.warnings = device.warnings
     return new
-
-
-def fields_of(device: Device) -> dict[str, Any]:
-    return dataclasses.asdict(device)

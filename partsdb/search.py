@@ -19,8 +19,7 @@ used: it scores very short strings too high (RECIPES.md).
 from __future__ import annotations
 
 import re
-import sys
-from collections.abc import Iterable, Sequence
+from collections.abc import Sequence
 from dataclasses import asdict, dataclass
 from typing import Any
 
@@ -101,49 +100,6 @@ def _leading_zero_as_o(query: str) -> str:
     return query
 
 
-LAYOUT_TRIES = 12
-"""How many times the keys are made again to get them laid out one after another."""
-
-
-def _consecutive(keys: Iterable[str]) -> list[str]:
-    """The strings as new objects laid out one after another in memory, in list order.
-
-    After a large import the heap is full of freed slots of the keys' size; strings made one by
-    one land in them, scattered (often in reverse order), and the one rapidfuzz pass over
-    200,000 keys ran 2-4 times slower from cache misses alone (measured with ``partsdb bench``:
-    35 ms against 11 ms for the same keys made into fresh memory). Each split of the joined
-    text fills such slots first; it is repeated, keeping the earlier copies until the end,
-    until a copy sits in consecutive memory (checked from the objects' addresses) or
-    :data:`LAYOUT_TRIES` copies were made. The keys hold no newline: normalize() removes all
-    white space.
-    """
-    made = list(keys)
-    if not made:
-        return []
-    blob = "\n".join(made)
-    del made
-    out = blob.split("\n")
-    gap = 2 * sys.getsizeof(max(out, key=len))
-    spares: list[list[str]] = []
-    while not _laid_out(out, gap) and len(spares) < LAYOUT_TRIES - 1:
-        spares.append(out)
-        out = blob.split("\n")
-    del spares
-    return out
-
-
-def _laid_out(strings: list[str], gap: int) -> bool:
-    """Whether nine in ten of the strings sit at most ``gap`` bytes after the one before
-    (CPython object addresses: ``id``), close enough for the memory prefetcher to stream."""
-    n = len(strings)
-    if n < 1000:
-        return True  # small lists fit the caches wherever they are
-    address = np.fromiter(map(id, strings), dtype=np.int64, count=n)
-    step = np.diff(address)
-    near = (step > 0) & (step <= gap)
-    return int(np.count_nonzero(near)) >= 0.9 * (n - 1)
-
-
 class SearchIndex:
     """Designations (and notes) prepared once for many fast ``find`` calls."""
 
@@ -151,7 +107,7 @@ class SearchIndex:
                  notes: Sequence[str | None] | None = None) -> None:
         self._designations: list[str] = list(designations)
         n = len(self._designations)
-        self._keys: list[str] = _consecutive(map(normalize, self._designations))
+        self._keys: list[str] = [normalize(d) for d in self._designations]
         self._exact: dict[str, list[int]] = {}
         for i, key in enumerate(self._keys):
             self._exact.setdefault(key, []).append(i)

@@ -18,11 +18,16 @@ from __future__ import annotations
 
 import math
 import re
+from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any
 
 from quantiphy import Quantity
 
 from partsdb.errors import InvalidInput
+
+if TYPE_CHECKING:
+    import numpy as np
 
 # SI prefixes (BIPM SI Brochure, 9th ed., table 7), plus "K" for kilo and "u" for micro,
 # which are how workshops write them (common practice).
@@ -135,6 +140,78 @@ def parse_quantity(text: object, unit: str, field: str = "value") -> float:
             return float(f"{m.group('int') or 0}.{m.group('frac') or 0}")
 
     raise UnitError(field, text, describe(unit))
+
+
+# Cells made only of these characters are numbers exactly when Python's float() reads them, and
+# then float() and parse_quantity read them alike (_NUMBER is the decimal float syntax).
+_NUMBER_CHARS = "0123456789.+-eE"
+_WITH_UNIT: dict[str, Any] = {}
+
+
+def _with_unit_pattern(unit: str) -> Any:
+    """"number [prefix] unit" for one unit's spellings (None for the bare number unit "")."""
+    if unit not in _WITH_UNIT:
+        spellings = [re.escape(u) for u in UNIT_SPELLINGS.get(unit, ()) if u]
+        _WITH_UNIT[unit] = (re.compile(rf"^({_NUMBER})\s*({_PREFIX})\s*({'|'.join(spellings)})$",
+                                       re.IGNORECASE) if spellings else None)
+    return _WITH_UNIT[unit]
+
+
+def parse_quantities(cells: Sequence[str], unit: str, field: str = "value"
+                     ) -> tuple[np.ndarray, dict[int, UnitError]]:
+    """:func:`parse_quantity` over a column of text cells (already stripped), for imports.
+
+    Returns the values in the base unit (NaN for a blank cell, "" or "—", and for a refused
+    one) and the error of each refused cell by position. Reads every cell exactly as
+    :func:`parse_quantity` does (a test holds it to that), faster: plain numbers go through
+    numpy in one conversion, the common "40V" / "300 MHz" form through one compiled pattern,
+    and only the rest (R-notation, prefix-as-decimal-point, junk) cell by cell.
+    """
+    import numpy as np
+
+    n = len(cells)
+    raw = np.empty(n, dtype=object)
+    raw[:] = cells
+    blank = (raw == "") | (raw == "—")
+    plain = np.array([not cell.strip(_NUMBER_CHARS) for cell in cells], dtype=bool) & ~blank
+    numbers = np.full(n, np.nan)
+    if plain.any():
+        try:
+            numbers[plain] = raw[plain].astype(float)
+        except ValueError:  # a stray "." or "1-2": read those one by one below
+            numbers[plain] = [_float_or_nan(cell) for cell in raw[plain].tolist()]
+    pending = ~blank & ~np.isfinite(numbers)  # "1e999" is refused, as parse_quantity does
+    pattern = _with_unit_pattern(unit)
+    if pattern is not None and pending.any():
+        positions = np.flatnonzero(pending)
+        done, values = [], []
+        for pos, cell in zip(positions.tolist(), raw[positions].tolist(), strict=True):
+            m = pattern.match(cell)
+            # A case-insensitive match must not turn "m" (milli) into "M" (mega): the prefix is
+            # taken exactly as written; a letter the case-folded match took for a prefix ("U",
+            # "t") is left to parse_quantity.
+            if m is not None and (factor := PREFIXES.get(m.group(2))) is not None \
+                    and math.isfinite(value := float(m.group(1)) * factor):
+                done.append(pos)
+                values.append(value)
+        if done:
+            numbers[done] = values
+            pending[done] = False
+    errors: dict[int, UnitError] = {}
+    for pos in np.flatnonzero(pending).tolist():
+        try:
+            numbers[pos] = parse_quantity(raw[pos], unit, field)
+        except UnitError as err:
+            numbers[pos] = np.nan
+            errors[pos] = err
+    return numbers, errors
+
+
+def _float_or_nan(cell: str) -> float:
+    try:
+        return float(cell)
+    except ValueError:
+        return math.nan
 
 
 def format_quantity(value: float | None, unit: str, digits: int = 3) -> str:

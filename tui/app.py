@@ -276,12 +276,8 @@ class PartsdbApp(App[None]):
 def _import_heavy_modules() -> None:
     """Import what the Bench and Substitute views need (scipy among it: about 1 s) in the
     background, so their first use does not wait for it."""
-    import importlib
-    from contextlib import suppress
-
-    for name in ("partsdb.bias", "partsdb.services.substitution"):
-        with suppress(ImportError):  # the view reports a missing part itself when used
-            importlib.import_module(name)
+    import partsdb.bias
+    import partsdb.services.substitution  # noqa: F401
 
 
 def build_app(db: Database, *, start: str = "drawers", cursor_blink: bool = True,

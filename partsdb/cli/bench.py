@@ -1,4 +1,4 @@
-"""CLI: ``bench``, the performance harness (see :mod:`partsdb.bench` for what each figure means).
+"""CLI: ``bench``, the performance harness (see :mod:`partsdb.perf.bench` for what each figure means).
 
 Works in a temporary directory of its own; it never opens the database named by ``--db``.
 Progress goes to stderr, the result to stdout.
@@ -43,7 +43,7 @@ def bench(devices: int, repeat: int, fmt: str) -> None:
     from rich.console import Console
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 
-    from partsdb.bench import run_bench
+    from partsdb.perf.bench import run_bench
 
     with Progress(TextColumn("{task.description}"), BarColumn(), TextColumn("{task.completed:,}"
                   "/{task.total:,}"), TimeElapsedColumn(), console=Console(stderr=True),
@@ -72,7 +72,7 @@ def _print_table(result: Any) -> None:
     from rich.console import Console
     from rich.table import Table
 
-    from partsdb.bench import DEFAULT_DEVICES, METRICS, TARGETS, meets_target
+    from partsdb.perf.bench import DEFAULT_DEVICES, METRICS, TARGETS, meets_target
 
     machine = result.machine
     table = Table(title=f"partsdb bench: {result.devices:,} devices, {machine['cores']} cores, "

@@ -213,8 +213,6 @@ def load_device(state: CliState, designation: str) -> Device:
 
 def launch_tui(state: CliState) -> None:
     """Open the terminal UI on the state's database."""
-    try:
-        from tui.app import run_app
-    except ModuleNotFoundError:
-        fail("the terminal UI is not installed in this build")
+    from tui.app import run_app
+
     run_app(state.database())

@@ -16,15 +16,13 @@ with = + - @ TAB or CR gets a leading apostrophe (OWASP "CSV Injection"), while 
 
 from __future__ import annotations
 
-import math
-import re
 import unicodedata
 from collections.abc import Iterator
 from dataclasses import dataclass, field, fields
 from pathlib import Path
 from typing import IO, TYPE_CHECKING, Any
 
-from sqlalchemy import select, update
+from sqlalchemy import select
 from sqlalchemy.orm import Session
 
 from partsdb.csvsafe import GUARDED_PATTERN, guard
@@ -45,7 +43,7 @@ from partsdb.errors import InvalidInput
 from partsdb.limits import LimitError, check_quantity, text_problem
 from partsdb.services import catalog
 from partsdb.storage.models import DeviceRow
-from partsdb.units import UnitError
+from partsdb.units import UnitError, parse_quantities
 
 if TYPE_CHECKING:
     import numpy as np
@@ -219,107 +217,27 @@ def _stripped(cells: pd.Series) -> list[str]:
     return [cell.strip() for cell in cells.tolist()]
 
 
-# Cells made only of these characters are numbers exactly when Python's float() reads them, and
-# then float() and units.parse_quantity read them alike (its number pattern is the decimal
-# float syntax); anything else (units, R-notation, "inf", "1_000", junk) goes to the slower paths.
-_NUMBER_CHARS = "0123456789.+-eE"
-
-
 def _parse_quantity_column(name: str, cells: pd.Series, problems: dict[int, list[str]]
                            ) -> np.ndarray:
-    """Column-wise parse: plain numbers vectorised, only unit-bearing cells one by one."""
+    """A quantity or count column read by :func:`partsdb.units.parse_quantities`, then held to
+    the field's own rules (positive; a count whole and 0 or more) as parse_field holds a cell."""
     import numpy as np
 
-    text = _stripped(cells)
-    n = len(text)
-    raw = np.empty(n, dtype=object)
-    raw[:] = text
-    blank = (raw == "") | (raw == "—")
-    plain = np.array([not cell.strip(_NUMBER_CHARS) for cell in text], dtype=bool) & ~blank
-    numbers = np.full(n, np.nan)
-    if plain.any():
-        try:
-            numbers[plain] = raw[plain].astype(float)
-        except ValueError:  # a stray "." or "1-2": read those one by one below
-            numbers[plain] = [_float_or_nan(cell) for cell in raw[plain].tolist()]
-    pending = ~blank & np.isnan(numbers)
     spec = FIELD_BY_NAME[name]
-    if pending.any() and spec.kind == "quantity":
-        # The common written form "40V", "300 MHz", "200mA" in one pass; anything else
-        # (R-notation, junk) falls through to the per-cell parser and its messages.
-        numbers, pending = _scale_plain(raw, numbers, pending, spec.unit)
-    slow = np.flatnonzero(pending)
-    for pos in slow:
-        try:
-            numbers[pos] = parse_field(name, raw[pos])
-        except UnitError as err:
-            problems.setdefault(int(pos), []).append(str(err))
-    fast = ~blank
-    fast[slow] = False
-    if name == "low_stock":
-        bad = fast & ~((numbers >= 0) & (numbers == np.floor(numbers)))
+    text = _stripped(cells)
+    numbers, errors = parse_quantities(text, spec.unit if spec.kind == "quantity" else "", name)
+    for pos, err in errors.items():
+        problems.setdefault(pos, []).append(str(err))
+    if spec.kind == "count":
+        bad = ~np.isnan(numbers) & ~((numbers >= 0) & (numbers == np.floor(numbers)))
     else:
-        bad = fast & ~(numbers > 0)
-    for pos in np.flatnonzero(bad):
+        bad = ~np.isnan(numbers) & ~(numbers > 0)
+    for pos in np.flatnonzero(bad).tolist():
         try:
-            parse_field(name, float(numbers[pos]))
+            parse_field(name, text[pos])
         except UnitError as err:
-            problems.setdefault(int(pos), []).append(str(err))
+            problems.setdefault(pos, []).append(str(err))
     return numbers
-
-
-def _float_or_nan(cell: str) -> float:
-    try:
-        return float(cell)
-    except ValueError:
-        return math.nan
-
-
-_PLAIN_WITH_UNIT = r"^([+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?)\s*([TGMkKmuµμnpf]?)\s*({unit})$"
-_UNIT_PATTERNS: dict[str, Any] = {}
-
-
-def _unit_pattern(unit: str) -> Any:
-    from partsdb.units import UNIT_SPELLINGS
-
-    if unit not in _UNIT_PATTERNS:
-        spellings = [re.escape(u) for u in UNIT_SPELLINGS.get(unit, ()) if u]
-        _UNIT_PATTERNS[unit] = (re.compile(_PLAIN_WITH_UNIT.format(unit="|".join(spellings)),
-                                           re.IGNORECASE) if spellings else None)
-    return _UNIT_PATTERNS[unit]
-
-
-def _scale_plain(raw: np.ndarray, numbers: np.ndarray, pending: np.ndarray, unit: str
-                 ) -> tuple[np.ndarray, np.ndarray]:
-    """Parse "number [prefix] unit" cells with the same prefix table as units.py.
-
-    Only the pending cells (about a third of a hand-kept column) are matched, with one compiled
-    pattern; pandas' ``str.extract`` builds a frame per call and cost several times more.
-    """
-    import numpy as np
-
-    from partsdb.units import PREFIXES
-
-    pattern = _unit_pattern(unit)
-    if pattern is None:
-        return numbers, pending
-    positions = np.flatnonzero(pending)
-    done = []
-    values = []
-    match = pattern.match
-    for pos, cell in zip(positions.tolist(), raw[positions].tolist(), strict=True):
-        m = match(cell)
-        # A case-insensitive match must not turn "m" (milli) into "M" (mega): the prefix is
-        # taken exactly as written; a letter the case-folded match took for a prefix ("U", "t")
-        # is left to the per-cell parser.
-        if m is not None and (factor := PREFIXES.get(m.group(2))) is not None:
-            done.append(pos)
-            values.append(float(m.group(1)) * factor)
-    if done:
-        numbers[done] = values
-        pending = pending.copy()
-        pending[done] = False
-    return numbers, pending
 
 
 def _parse_words(name: str, cells: list[str], wanted: list[bool], table: dict[str, Any],
@@ -452,9 +370,6 @@ class _Columns:
         out[blank] = None
         return out.tolist()
 
-    def row(self, pos: int) -> dict[str, Any]:
-        return {name: self.plain(name, pos, pos + 1)[0] for name in FIELD_NAMES}
-
 
 def _parse_frames(frames: Iterator[pd.DataFrame]) -> tuple[_Columns, dict[int, list[str]]]:
     """Parse every chunk before anything is written; problems keyed by row position in the file."""
@@ -479,17 +394,6 @@ def _check_header(frame: pd.DataFrame) -> None:
     missing = [c for c in REQUIRED_DEVICE_COLUMNS if c not in frame.columns]
     if missing:
         raise ImportRejected([(1, f"missing required column(s) {', '.join(missing)}")])
-
-
-def parse_device_frame(frame: pd.DataFrame) -> tuple[list[Device], dict[int, list[str]]]:
-    """Devices from a frame of text cells, and problems by row position (column-wise)."""
-    columns, problems = _parse_chunk(frame)
-    parsed = _Columns()
-    parsed.add(columns, len(frame))
-    parsed.finish()
-    lists = [parsed.plain(name, 0, parsed.n) for name in FIELD_NAMES]
-    return [Device(**dict(zip(FIELD_NAMES, row, strict=True)))
-            for row in zip(*lists, strict=True)], problems
 
 
 def _frame_chunks(frame: pd.DataFrame) -> Iterator[pd.DataFrame]:
@@ -565,74 +469,21 @@ def _consistency(parsed: _Columns, problems: dict[int, list[str]], strict: bool,
     return out
 
 
-_ROW_COLUMNS: tuple[str, ...] = ("key", *FIELD_NAMES, "warnings", "updated_at")
 _WRITE_ROWS = 20_000
 
 
 def _write_devices(session: Session, parsed: _Columns, keys: list[str],
                    warnings: list[str | None], report: ImportReport) -> None:
-    from sqlalchemy import bindparam, func
+    """Hand the rows to the catalog service a batch at a time, straight from the columns."""
 
-    from partsdb.storage.models import utcnow
+    def batches() -> Iterator[Iterator[tuple[Any, ...]]]:
+        for start in range(0, parsed.n, _WRITE_ROWS):
+            stop = min(parsed.n, start + _WRITE_ROWS)
+            yield zip(keys[start:stop], *[parsed.plain(name, start, stop) for name in FIELD_NAMES],
+                      warnings[start:stop], strict=True)
 
-    table = DeviceRow.__table__
-    now = utcnow()
-    existing: dict[str, tuple[int, dict[str, Any]]] = {}
-    if session.scalar(select(func.count()).select_from(table)):
-        cols = [table.c.id, table.c.key, *[table.c[name] for name in (*FIELD_NAMES, "warnings")]]
-        for start in range(0, len(keys), 900):
-            chunk = keys[start:start + 900]
-            for row in session.execute(select(*cols).where(table.c.key.in_(chunk))).mappings():
-                existing[row["key"]] = (row["id"], dict(row))
-    updates: list[dict[str, Any]] = []
-    connection = session.connection()
-    marker = "?" if connection.dialect.paramstyle == "qmark" else "%s"
-    # sqlite3 would adapt the datetime once per row, to exactly this text (its default adapter
-    # is datetime.isoformat(" ")); other drivers take the datetime itself.
-    stamp: Any = now.isoformat(" ") if connection.dialect.name == "sqlite" else now
-    sql = (f"INSERT INTO {table.name} ({', '.join(_ROW_COLUMNS)}) "
-           f"VALUES ({', '.join([marker] * len(_ROW_COLUMNS))})")
-    for start in range(0, parsed.n, _WRITE_ROWS):
-        stop = min(parsed.n, start + _WRITE_ROWS)
-        # Row tuples straight from the columns, one batch at a time: the driver's own
-        # executemany on plain tuples, as SQLAlchemy's per-row parameter processing would cost
-        # more than the insert itself.
-        rows = zip(keys[start:stop], *[parsed.plain(name, start, stop) for name in FIELD_NAMES],
-                   warnings[start:stop], strict=True)
-        if not existing:  # a new catalog: every row is an insert
-            inserts = [(*row, stamp) for row in rows]
-            report.added += len(inserts)
-            connection.exec_driver_sql(sql, inserts)
-            continue
-        inserts = []
-        for row in rows:
-            key = row[0]
-            if key in existing:
-                values = dict(zip(_ROW_COLUMNS[:-1], row, strict=True))
-                ident, old = existing[key]
-                if all(_same(old.get(k), v) for k, v in values.items() if k != "key"):
-                    report.unchanged += 1
-                    continue
-                updates.append({"_id": ident, **values, "updated_at": now})
-                report.updated += 1
-            else:
-                inserts.append((*row, stamp))
-                report.added += 1
-        if inserts:
-            connection.exec_driver_sql(sql, inserts)
-    if updates:
-        stmt = (update(table).where(table.c.id == bindparam("_id"))
-                .values({k: bindparam(k) for k in updates[0] if k != "_id"}))
-        connection.execute(stmt, updates)
-    session.flush()
-
-
-def _same(a: Any, b: Any) -> bool:
-    if isinstance(a, float) and isinstance(b, float):
-        return math.isclose(a, b, rel_tol=1e-12)
-    if isinstance(a, bool) or isinstance(b, bool):
-        return bool(a) == bool(b)
-    return a == b
+    stored = catalog.add_many(session, batches())
+    report.added, report.updated, report.unchanged = stored.added, stored.updated, stored.unchanged
 
 
 # ---------------------------------------------------------------- stock

@@ -15,8 +15,8 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from partsdb.bench import METRICS, TARGETS, meets_target, run_bench, sloppy_query
 from partsdb.cli import main
+from partsdb.perf.bench import METRICS, TARGETS, meets_target, run_bench, sloppy_query
 
 SMALL = 2_000
 
@@ -77,7 +77,7 @@ def test_harness_imports_the_whole_catalog_through_the_importer(tmp_path: Path) 
 
 def test_synthetic_catalog_is_unique_and_covers_every_scheme() -> None:
     from partsdb.designations import SCHEMES, decode, normalize
-    from partsdb.services.synthetic import synthetic_frame
+    from partsdb.perf.synthetic import synthetic_frame
 
     frame = synthetic_frame(SMALL)
     assert list(frame.columns)[:4] == ["designation", "kind", "polarity", "material"]

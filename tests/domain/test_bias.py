@@ -185,7 +185,7 @@ def test_divider_stability_rule() -> None:
     ({"network": "bridge", "vcc": 12, "rc": 1e3, "re": 0}, "network"),
 ])
 def test_nonsense_stage_names_the_field(kwargs: dict[str, object], field: str) -> None:
-    with pytest.raises(BiasError) as err:
+    with pytest.raises(BiasError, match=f"^{field}: ") as err:
         Stage(**kwargs)  # type: ignore[arg-type]
     assert err.value.field == field
     assert str(err.value).startswith(f"{field}: ")

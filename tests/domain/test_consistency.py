@@ -211,7 +211,7 @@ def _many_devices() -> list[Device]:
     from pathlib import Path
 
     from partsdb.device import parse_device
-    from partsdb.services.synthetic import CLASSES, draw_catalog
+    from partsdb.perf.synthetic import CLASSES, draw_catalog
 
     cat = draw_catalog(3000, seed=11)
     rng = random.Random(3)

@@ -20,7 +20,7 @@ def test_good_record_in_si_units() -> None:
 
 
 def problems_of(raw: dict[str, object]) -> dict[str, str]:
-    with pytest.raises(InvalidRecord) as info:
+    with pytest.raises(InvalidRecord, match=r"^[a-z_]+: ") as info:  # names the field first
         parse_device(raw)
     return dict(info.value.problems)
 

@@ -181,7 +181,7 @@ def path(threshold: int) -> Iterator[None]:
 
 def synthetic_devices(n: int, seed: int) -> list[Device]:
     """Invented devices drawn by the benchmark's generator (blank cells stay unknown)."""
-    from partsdb.services.synthetic import draw_catalog
+    from partsdb.perf.synthetic import draw_catalog
 
     cat = draw_catalog(n, seed)
     names = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max", "ft")

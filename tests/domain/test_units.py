@@ -63,7 +63,7 @@ def test_parses_engineering_notation(text: str, unit: str, expected: float) -> N
     ],
 )
 def test_refuses_junk_naming_field_value_and_unit(text: str, unit: str) -> None:
-    with pytest.raises(UnitError) as info:
+    with pytest.raises(UnitError, match=r"^vceo: .* is not valid; expected ") as info:
         parse_quantity(text, unit, "vceo")
     message = str(info.value)
     assert "vceo" in message and repr(text) in message and "expected" in message
@@ -71,7 +71,7 @@ def test_refuses_junk_naming_field_value_and_unit(text: str, unit: str) -> None:
 
 def test_refuses_bool_and_none() -> None:
     for bad in (True, None, object()):
-        with pytest.raises(UnitError):
+        with pytest.raises(UnitError, match=r"^vceo: .* is not valid; expected a voltage"):
             parse_quantity(bad, "V", "vceo")
 
 
@@ -118,3 +118,49 @@ def test_agrees_with_quantiphy_on_valid_text(number, prefix: str, unit: str) -> 
 
     text = f"{number}{prefix}{unit}"
     assert parse_quantity(text, unit, "f") == pytest.approx(float(Quantity(text)), rel=1e-12)
+
+
+# ---------------------------------------------------------------- the column-wise reader
+# parse_quantities is an import's fast path; its oracle is parse_quantity cell by cell (itself
+# held to the BIPM prefixes, IEC 60062 and quantiphy above): same value, or refused alike.
+
+_column_cell = st.one_of(
+    st.builds(lambda number, gap, prefix, unit: f"{number}{gap}{prefix}{unit}",
+              st.sampled_from(["40", "0.5", "1e3", "2.", ".7", "-3", "12", "1e999", "1_000",
+                               "inf", ".", "1-2", "+4e1"]),
+              st.sampled_from(["", " "]),
+              st.sampled_from(["", "m", "M", "k", "K", "u", "µ", "n", "U", "t", "G", "T"]),
+              st.sampled_from(["V", "v", "A", "Hz", "W", "Ω", "ohm", "R", "°C", "C", "K/W", "",
+                               "x"])),
+    st.sampled_from(["2k2", "4R7", "R47", "47R", "1M5", "4m7", "", "—", "junk"]),
+)
+
+
+@given(st.lists(_column_cell, min_size=1, max_size=15),
+       st.sampled_from(["V", "A", "W", "Hz", "Ω", "°C", "K/W", ""]))
+def test_column_reader_agrees_with_parse_quantity(cells: list[str], unit: str) -> None:
+    from partsdb.units import parse_quantities
+
+    values, errors = parse_quantities(cells, unit, "f")
+    for pos, cell in enumerate(cells):
+        if cell in ("", "—"):
+            assert math.isnan(values[pos]) and pos not in errors, cell
+            continue
+        try:
+            expected = parse_quantity(cell, unit, "f")
+        except UnitError as err:
+            assert str(errors[pos]) == str(err), cell
+            assert math.isnan(values[pos])
+            continue
+        assert pos not in errors, (cell, errors.get(pos))
+        assert values[pos] == pytest.approx(expected, rel=1e-12), cell
+
+
+def test_column_reader_refuses_what_float_alone_would_take() -> None:
+    # Python's float() reads "1_000", "inf" and "1e999" (as inf); a quantity is none of them.
+    from partsdb.units import parse_quantities
+
+    values, errors = parse_quantities(["40", "1_000", "inf", "1e999", "40 V", "4R7"], "V", "vceo")
+    assert sorted(errors) == [1, 2, 3, 5]
+    assert values[0] == 40.0 and values[4] == 40.0
+    assert str(errors[3]) == "vceo: '1e999' is not valid; expected a voltage such as 40V or 1.2 kV"

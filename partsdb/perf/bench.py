@@ -1,6 +1,6 @@
 """The performance harness behind ``partsdb bench``: import, ranking, search and start-up times.
 
-It builds a synthetic catalog (:mod:`partsdb.services.synthetic`, fixed seed) in a temporary
+It builds a synthetic catalog (:mod:`partsdb.perf.synthetic`, fixed seed) in a temporary
 directory, imports it through the normal importer, and measures each figure as the median of K
 runs after one warm-up run, all in this one process (the two CLI figures time child processes):
 
@@ -22,7 +22,7 @@ runs after one warm-up run, all in this one process (the two CLI figures time ch
   ``partsdb substitute`` on the demo database (built from ``seed_data/``), as child processes.
 * ``peak_rss_mb``: this process's peak resident memory (``resource.getrusage``), taken last.
 
-A figure that cannot be measured here (a module or the demo seed files missing) is ``None`` and
+A figure that cannot be measured here (the demo seed files missing) is ``None`` and
 the reason is in :attr:`BenchReport.notes`.
 """
 
@@ -45,7 +45,7 @@ from typing import Any
 
 import numpy as np
 
-from partsdb.services.synthetic import SEED, write_catalog_csv
+from partsdb.perf.synthetic import SEED, write_catalog_csv
 
 DEFAULT_DEVICES = 200_000
 DEFAULT_REPEAT = 5
@@ -223,14 +223,10 @@ class _Bench:
     # ------------------------------------------------------------------ ranking
 
     def measure_rank(self) -> None:
-        try:
-            from partsdb.ranking import Stress, rank
-            from partsdb.services import substitution
-            from partsdb.services.config import load_policy, load_weights
-        except ImportError as err:
-            self.notes.append(f"rank_ms, rank_cold_ms, rank_floor_ms: not measured, the ranking "
-                              f"engine is not importable ({err})")
-            return
+        from partsdb.ranking import Stress, rank
+        from partsdb.services import substitution
+        from partsdb.services.config import load_policy, load_weights
+
         step = "ranking substitutes"
         self.progress(step, 0, 3)
         stress = Stress(**STRESS)
@@ -283,12 +279,8 @@ class _Bench:
         from rapidfuzz import fuzz, process
 
         from partsdb.designations import normalize
+        from partsdb.search import SearchIndex
 
-        try:
-            from partsdb.search import SearchIndex
-        except ImportError as err:
-            self.notes.append(f"find_ms: not measured, the search module is not importable ({err})")
-            SearchIndex = None
         step = "fuzzy find"
         self.progress(step, 0, 2)
         with self.db.session() as session:
@@ -306,16 +298,15 @@ class _Bench:
         self.metrics["find_floor_ms"] = 1000 * median_seconds(
             lambda: process.extract(q, keys, scorer=fuzz.ratio, limit=10), self.repeat)
         self.progress(step, 1, 2)
-        if SearchIndex is not None:
-            index = SearchIndex(designations, notes)
-            hits = index.find(query, limit=10)
-            if not hits:
-                raise RuntimeError(f"find {query!r} returned nothing on {self.n:,} devices")
-            self.metrics["find_ms"] = 1000 * median_seconds(
-                lambda: index.find(query, limit=10), self.repeat)
-            self.notes.append(f"find: query {query!r} (a sloppy spelling of "
-                              f"{keys[len(keys) // 2]}), best hit {hits[0].designation} "
-                              f"({hits[0].reason}); index built before timing")
+        index = SearchIndex(designations, notes)
+        hits = index.find(query, limit=10)
+        if not hits:
+            raise RuntimeError(f"find {query!r} returned nothing on {self.n:,} devices")
+        self.metrics["find_ms"] = 1000 * median_seconds(
+            lambda: index.find(query, limit=10), self.repeat)
+        self.notes.append(f"find: query {query!r} (a sloppy spelling of "
+                          f"{keys[len(keys) // 2]}), best hit {hits[0].designation} "
+                          f"({hits[0].reason}); index built before timing")
         self.progress(step, 2, 2)
 
     # ------------------------------------------------------------------ CLI
@@ -327,12 +318,12 @@ class _Bench:
         env.pop("PARTSDB_DB", None)
         self.metrics["cli_help_s"] = median_seconds(lambda: _run_cli(["--help"], env), self.repeat)
         self.progress(step, 1, 2)
-        try:
-            from partsdb.services.demo import DemoError, build_demo
+        from partsdb.services.demo import DemoError, build_demo
 
-            demo_path = self.dir / "demo.sqlite"
+        demo_path = self.dir / "demo.sqlite"
+        try:
             demo = build_demo(demo_path)
-        except (ImportError, DemoError) as err:
+        except DemoError as err:
             self.notes.append(f"cli_substitute_s: not measured, the demo database cannot be "
                               f"built ({err})")
             return

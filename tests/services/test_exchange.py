@@ -41,7 +41,8 @@ def device_count(db) -> int:  # type: ignore[no-untyped-def]
 
 def test_bad_rows_write_nothing_and_are_named(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
     path = write(tmp_path / "d.csv", GOOD_ROWS + BAD_ROWS)
-    with pytest.raises(ImportRejected) as info, empty_db.session() as session:
+    with pytest.raises(ImportRejected, match=r"import refused, nothing was written \(2 problem") \
+            as info, empty_db.session() as session:
         exchange.import_devices(session, path)
     lines = dict(info.value.problems)
     assert set(lines) == {5, 6}  # header is line 1
@@ -74,8 +75,13 @@ def test_reimport_updates_in_place(empty_db, tmp_path: Path) -> None:  # type: i
 def test_unknown_column_lists_known_ones(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
     path = tmp_path / "d.csv"
     path.write_text("designation,kind,polarity,material,colour\nQ1,bjt,npn,si,red\n")
-    with pytest.raises(ImportRejected, match=r"colour.*known columns are designation"), \
+    with pytest.raises(ImportRejected, match=r"line 1: unknown column\(s\) 'colour'; known "
+                                             r"columns are designation, kind, polarity"), \
             empty_db.session() as session:
+        exchange.import_devices(session, path)
+    path.write_text("designation,kind,vceo\nQ1,bjt,40V\n")
+    with pytest.raises(ImportRejected, match=r"line 1: missing required column\(s\) polarity, "
+                                             r"material$"), empty_db.session() as session:
         exchange.import_devices(session, path)
 
 
@@ -91,7 +97,8 @@ def test_stock_import_is_all_or_nothing(empty_db, tmp_path: Path) -> None:  # ty
     lots = tmp_path / "s.csv"
     lots.write_text("designation,location,quantity,condition,note\n"
                     "QR100,C1/D01,5,new,\nNOPE,C1/D01,2,new,\nQR101,C1/D02,-1,new,\n")
-    with pytest.raises(ImportRejected) as info, empty_db.session() as session:
+    with pytest.raises(ImportRejected, match=r"line 3: designation: 'NOPE' is not in the catalog") \
+            as info, empty_db.session() as session:
         exchange.import_stock(session, lots)
     assert [line for line, _ in info.value.problems] == [3, 4]
     with empty_db.session() as session:
@@ -219,12 +226,13 @@ def test_chunked_import_matches_the_one_record_parser(empty_db, tmp_path: Path, 
                                                       monkeypatch: pytest.MonkeyPatch) -> None:
     from partsdb.consistency import consistency_warnings
     from partsdb.device import FIELD_NAMES, parse_device
-    from partsdb.services.synthetic import synthetic_frame
+    from partsdb.perf.synthetic import synthetic_frame
 
     frame = synthetic_frame(1200, seed=5)  # invented rows: the input, not the oracle
     path = tmp_path / "s.csv"
     frame.to_csv(path, index=False)
     monkeypatch.setattr(exchange, "CHUNK_ROWS", 250)
+    monkeypatch.setattr(exchange, "_WRITE_ROWS", 170)  # the rows reach the catalog in 8 batches
     with empty_db.session() as session:
         report = exchange.import_devices(session, path)
     assert report.added == 1200
@@ -269,7 +277,8 @@ def test_problems_in_every_chunk_keep_their_line_numbers(empty_db, tmp_path: Pat
     reports = []
     for chunk in (2, 3, 1000):
         monkeypatch.setattr(exchange, "CHUNK_ROWS", chunk)
-        with pytest.raises(ImportRejected) as info, empty_db.session() as session:
+        with pytest.raises(ImportRejected, match=r"\(5 problem\(s\)\)") as info, \
+                empty_db.session() as session:
             exchange.import_devices(session, path)
         reports.append(info.value.problems)
         assert device_count(empty_db) == 0
@@ -322,3 +331,50 @@ def test_number_fast_path_reads_like_parse_quantity(cell: str, value: float) -> 
                                           problems)
     assert got[0] == pytest.approx(value, rel=1e-12)
     assert sorted(problems) == [1, 2, 3, 4]
+
+
+def test_stock_import_reads_each_cell_and_counts_what_changed(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    with empty_db.session() as session:
+        exchange.import_devices(session, write(tmp_path / "d.csv", GOOD_ROWS))
+    lots = tmp_path / "s.csv"
+    # a blank condition is "new", conditions are read case-blind, 0 is a valid count
+    lots.write_text("designation,location,quantity,condition,note\n"
+                    "QR100,C1/D01,5,,spare pair\nQR101,C1/D02,0,USED,\nQR102,C2/D01,2,used,\n")
+    with empty_db.session() as session:
+        report = exchange.import_stock(session, lots)
+        assert (report.updated, report.unchanged) == (2, 1)  # the 0 lot was already 0
+        held = {(v.designation, v.location, v.condition, v.quantity, v.note)
+                for v in stock.lots_at(session, None)}
+    assert held == {("QR 100", "C1/D01", "new", 5, "spare pair"),
+                    ("QR-101", "C1/D02", "used", 0, None), ("QR102", "C2/D01", "used", 2, None)}
+    lots.write_text("designation,location,quantity,condition,note\n"
+                    "QR100,C1/D01,6,new,\nQR102,C2/D01,2,used,\n")
+    with empty_db.session() as session:
+        report = exchange.import_stock(session, lots)
+    assert (report.updated, report.unchanged) == (1, 1)
+
+
+@pytest.mark.parametrize(("text", "message"), [
+    # the same lot twice (place compared case-blind) names the first line
+    ("designation,location,quantity\nQR100,C1/D01,5\nqr 100,c1/d01,2\n",
+     r"line 3: the lot qr 100 at c1/d01 \(new\) repeats line 2"),
+    ("designation,location,quantity,colour\nQR100,C1/D01,5,red\n",
+     r"line 1: unknown column\(s\) 'colour'; known columns are designation, location, quantity"),
+    ("designation,quantity\nQR100,5\n", r"line 1: missing required column\(s\) location"),
+    ("designation,location,quantity,condition\nQR100,C1/D01,5,mint\n",
+     r"line 2: condition: 'mint' is not valid; expected one of new, used"),
+    ("designation,location,quantity\nQR100,C1/D01,2.5\n",
+     r"line 2: quantity: '2.5' is not valid; expected a whole number, 0 or more"),
+    ("designation,location,quantity\nQR100,C1//*,2\n",
+     r"line 2: location: segment '\*' of 'C1//\*' is not valid"),
+    ("designation,location,quantity\nQR100,,2\n", r"line 2: location: '' is empty; expected a path"),
+])
+def test_stock_import_names_each_problem(empty_db, tmp_path: Path, text: str, message: str) -> None:  # type: ignore[no-untyped-def]
+    with empty_db.session() as session:
+        exchange.import_devices(session, write(tmp_path / "d.csv", GOOD_ROWS))
+    lots = tmp_path / "s.csv"
+    lots.write_text(text)
+    with pytest.raises(ImportRejected, match=message), empty_db.session() as session:
+        exchange.import_stock(session, lots)
+    with empty_db.session() as session:
+        assert stock.lots_at(session, None) == []
