@@ -99,12 +99,9 @@ def test_quantity_cannot_go_negative_at_the_database(empty_db) -> None:  # type:
     with empty_db.session() as session:
         _catalog(session)
         stock.receive(session, "QA1", 1, "C1/D01")
-<<<<<<< tests/services/test_stock.py
     # SQLite: "CHECK constraint failed"; PostgreSQL: "violates check constraint"
-    with pytest.raises(IntegrityError, match=r"(?i)check constraint"), empty_db.session() as session:
-=======
-    with pytest.raises(DatabaseError) as caught, empty_db.session() as session:
->>>>>>> /tmp/head_li.py
+    with pytest.raises(DatabaseError, match=r"(?i)check constraint") as caught, \
+            empty_db.session() as session:
         session.execute(update(LotRow).values(quantity=-1))
     assert isinstance(caught.value.__cause__, IntegrityError)
     # One line of the driver's words: no SQL statement, no parameters, no link.
