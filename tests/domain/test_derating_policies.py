@@ -16,7 +16,7 @@ import math
 import numpy as np
 import pytest
 
-from partsdb.derating import BUILTIN_POLICIES, PolicyError, grade, policy_from_mapping
+from partsdb.derating import BUILTIN_POLICIES, STATUSES, PolicyError, grade, policy_from_mapping
 from partsdb.thermal import derated_power, junction_temperature
 
 
@@ -51,17 +51,23 @@ def test_every_policy_pins_its_junction_limit(policy: str, tj_max: float, limit:
 
 def test_grade_on_both_sides_of_each_boundary() -> None:
     # The rule of the module docstring: ok up to and including factor x rating, marginal up to
-    # and including the rating, under-rated above it. 0.75 and 40 are exact in binary: 30.0 is exact.
+    # and including the rating, under-rated above it. 0.75 and 40 are exact in binary: 30.0 is
+    # exact. grade() gives status codes; STATUSES names them.
     rating, factor = 40.0, 0.75
-    assert grade(30.0, rating, factor) == "ok"
-    assert isinstance(grade(30.0, rating, factor), str)  # a scalar gives a str, not a 0-d array
-    assert grade(math.nextafter(30.0, 99), rating, factor) == "marginal"
-    assert grade(40.0, rating, factor) == "marginal"
-    assert grade(math.nextafter(40.0, 99), rating, factor) == "under-rated"
-    assert grade(float("nan"), rating, factor) == "unknown"
-    assert grade(10.0, None, factor) == "unknown"
-    assert list(grade(np.array([30.0, 35.0, 41.0, np.nan]), rating, factor)) == [
-        "ok", "marginal", "under-rated", "unknown"]
+
+    def word(stress: float) -> str:
+        code = grade(stress, rating, factor)
+        assert isinstance(code, int)  # a scalar gives an int, not a 0-d array
+        return STATUSES[code]
+
+    assert word(30.0) == "ok"
+    assert word(math.nextafter(30.0, 99)) == "marginal"
+    assert word(40.0) == "marginal"
+    assert word(math.nextafter(40.0, 99)) == "under-rated"
+    assert word(float("nan")) == "unknown"
+    assert STATUSES[grade(10.0, None, factor)] == "unknown"
+    codes = grade(np.array([30.0, 35.0, 41.0, np.nan]), rating, factor)
+    assert [STATUSES[c] for c in codes] == ["ok", "marginal", "under-rated", "unknown"]
 
 
 def test_user_policy_is_checked_key_by_key() -> None:
@@ -106,5 +112,5 @@ def test_cold_ambient_keeps_the_rating_and_lowers_the_junction() -> None:
     # 0.5 W at -20 °C through 200 K/W: Tj = -20 + 100 = 80 °C
     assert junction_temperature(-20.0, 0.5, 200.0) == pytest.approx(80.0)
     # in the cold a workshop-graded power is judged against the full rating: 0.43 W <= 0.7 x 0.625 = 0.4375 W
-    assert grade(0.43, derated_power(0.625, 150.0, -20.0), 0.70) == "ok"
-    assert grade(0.43, derated_power(0.625, 150.0, 60.0), 0.70) == "marginal"  # 0.45 W at 60 °C
+    assert STATUSES[grade(0.43, derated_power(0.625, 150.0, -20.0), 0.70)] == "ok"
+    assert STATUSES[grade(0.43, derated_power(0.625, 150.0, 60.0), 0.70)] == "marginal"  # 0.45 W at 60 °C

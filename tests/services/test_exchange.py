@@ -364,7 +364,7 @@ def test_stock_import_reads_each_cell_and_counts_what_changed(empty_db, tmp_path
     ("designation,location,quantity,condition\nQR100,C1/D01,5,mint\n",
      r"line 2: condition: 'mint' is not valid; expected one of new, used"),
     ("designation,location,quantity\nQR100,C1/D01,2.5\n",
-     r"line 2: quantity: '2.5' is not valid; expected a whole number, 0 or more"),
+     r"line 2: quantity: '2.5' is not valid; expected a whole number from 0 to 1,000,000"),
     ("designation,location,quantity\nQR100,C1//*,2\n",
      r"line 2: location: segment '\*' of 'C1//\*' is not valid"),
     ("designation,location,quantity\nQR100,,2\n", r"line 2: location: '' is empty; expected a path"),
