@@ -114,11 +114,10 @@ def find_location(session: Session, path: str) -> LocationRow | None:
 def _insert_place(session: Session, name: str, path: str, parent_id: int | None) -> None:
     """INSERT ... ON CONFLICT (key) DO NOTHING: a place made meanwhile by another bench is
     simply used (PostgreSQL docs, "INSERT ... ON CONFLICT"; SQLite "UPSERT")."""
+    from sqlalchemy.dialects import postgresql, sqlite
+
     dialect = session.get_bind().dialect.name
-    if dialect == "postgresql":
-        from sqlalchemy.dialects.postgresql import insert
-    else:
-        from sqlalchemy.dialects.sqlite import insert
+    insert = postgresql.insert if dialect == "postgresql" else sqlite.insert
     session.execute(insert(LocationRow).values(name=name, path=path, key=place_key(path),
                                                parent_id=parent_id)
                     .on_conflict_do_nothing(index_elements=["key"]))
