@@ -72,12 +72,23 @@ class PartsdbApp(App[None]):
         # (tmux delivers both in one read) went to the old view's field and was lost.
         *[Binding(key, f"show('{ident}')", label, show=False, priority=True)
           for ident, key, label in VIEWS],
+        # ctrl+l redraws a terminal in most programs; here it re-reads the database as well.
+        Binding("ctrl+l", "refresh_data", "Refresh", priority=True),
         Binding("ctrl+q", "quit", "Quit", show=False),
     ]
 
-    def __init__(self, db: Database, *, start: str = "drawers", cursor_blink: bool = True) -> None:
+    def __init__(self, db: Database, *, start: str = "drawers", cursor_blink: bool = True,
+                 poll_seconds: float | None = None) -> None:
         super().__init__()
         self.db = db
+        from partsdb.services.changes import POLL_SECONDS
+
+        self.poll_seconds = POLL_SECONDS if poll_seconds is None else poll_seconds
+        """How often other processes' changes are looked for (0: never, only ctrl+l)."""
+        self._watch: Any = None
+        self._catalog_mark: tuple[Any, ...] | None = None
+        self.refreshes = 0
+        """How many times the data was re-read after a change (tests read it)."""
         self.start = start
         self.cursor_blink = cursor_blink
         self.current = start
@@ -98,6 +109,62 @@ class PartsdbApp(App[None]):
         self.action_show(self.start)
         # Heavy work only after the first screen is on the terminal (see _warm_up).
         self.call_after_refresh(self._warm_up)
+        if self.poll_seconds > 0:
+            from partsdb.services.changes import ChangeWatch, catalog_fingerprint
+
+            self._watch = ChangeWatch(self.db)
+            self._watch.changed()  # the starting mark
+            self._catalog_mark = catalog_fingerprint(self.db)
+            self.set_interval(self.poll_seconds, self._poll_changes)
+
+    def on_unmount(self) -> None:
+        if self._watch is not None:
+            self._watch.close()
+
+    def _poll_changes(self) -> None:
+        # In a thread: a server's round trip must not stall typing. One poll at a time.
+        self.run_worker(self._poll_in_thread, thread=True, group="changes", exclusive=True,
+                        exit_on_error=False)
+
+    def _poll_in_thread(self) -> None:
+        from partsdb.errors import PartsdbError
+        from partsdb.storage.database import DatabaseError
+
+        try:
+            changed = self._watch.changed()
+        except (DatabaseError, PartsdbError, OSError):
+            return  # an unreachable server: the next poll tries again, the views stay usable
+        except Exception as err:  # SQLAlchemy's own errors: same treatment
+            if type(err).__module__.startswith("sqlalchemy"):
+                return
+            raise
+        if changed:
+            self.call_from_thread(self.refresh_data, "changed elsewhere")
+
+    def absorb_own_change(self) -> None:
+        """This app just wrote (a form was saved): take a new mark, so the next poll does not
+        report the app's own change as one made elsewhere."""
+        if self._watch is not None:
+            self._watch.changed()
+
+    def action_refresh_data(self) -> None:
+        self.refresh_data("refreshed")
+
+    def refresh_data(self, why: str = "refreshed") -> None:
+        """Re-read the database into the open view, keeping its cursor and selection; the
+        other views re-read when next shown. A form stays as typed (it re-reads on save)."""
+        from partsdb.services.changes import catalog_fingerprint
+
+        self.refreshes += 1
+        catalog = catalog_fingerprint(self.db)
+        if self._catalog_mark is not None and catalog != self._catalog_mark:
+            self.catalog_changed()
+        self._catalog_mark = catalog
+        for ident, _key, _label in VIEWS:
+            view = self.view(ident)
+            if hasattr(view, "refresh_data"):
+                view.refresh_data(visible=ident == self.current)
+        self.notify(f"Data {why}: view re-read.", timeout=2)
 
     def _warm_up(self) -> None:
         # One thread, in order of need: the search index (typing in Devices), then the imports
@@ -217,9 +284,11 @@ def _import_heavy_modules() -> None:
             importlib.import_module(name)
 
 
-def build_app(db: Database, *, start: str = "drawers", cursor_blink: bool = True) -> PartsdbApp:
-    """The app on ``db``; tests pass ``cursor_blink=False`` for steady pictures."""
-    return PartsdbApp(db, start=start, cursor_blink=cursor_blink)
+def build_app(db: Database, *, start: str = "drawers", cursor_blink: bool = True,
+              poll_seconds: float | None = None) -> PartsdbApp:
+    """The app on ``db``; tests pass ``cursor_blink=False`` for steady pictures and may set
+    ``poll_seconds`` (0 turns the watch for outside changes off)."""
+    return PartsdbApp(db, start=start, cursor_blink=cursor_blink, poll_seconds=poll_seconds)
 
 
 def run_app(db: Database) -> None:

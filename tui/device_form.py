@@ -17,6 +17,7 @@ from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Static
 
 from partsdb.device import FIELDS, Device, FieldSpec
+from tui.form_guard import close_asking, input_values, select_field
 from tui.inputs import TextField
 
 if TYPE_CHECKING:
@@ -71,6 +72,7 @@ class DeviceForm(ModalScreen[Device | None]):
 
     def on_mount(self) -> None:
         self.query_one(f"#fd-{FIELDS[0].name}", Input).focus()
+        self._started = input_values(self)
 
     def raw_values(self) -> dict[str, Any]:
         return {spec.name: self.query_one(f"#fd-{spec.name}", Input).value for spec in FIELDS}
@@ -103,7 +105,7 @@ class DeviceForm(ModalScreen[Device | None]):
 
     @on(Button.Pressed, "#cancel")
     def action_cancel(self) -> None:
-        self.dismiss(None)
+        close_asking(self, self._started)
 
     def action_save(self) -> None:
         from partsdb.device import InvalidRecord, parse_device
@@ -131,10 +133,16 @@ class DeviceForm(ModalScreen[Device | None]):
                     first = first or field
             message.update(f"Not saved: {len(err.problems)} problem(s) to fix.")
             if first:
-                self.query_one(f"#fd-{first}", Input).focus()
+                select_field(self.query_one(f"#fd-{first}", Input))
             return
         except (UnitError, ValueError, LookupError, DatabaseError) as err:
             # CatalogError (duplicate designation), NotFound, ReadOnlyError: nothing written.
             message.update(f"Not saved: {err}")
+            field = next((spec.name for spec in FIELDS
+                          if str(err).lower().startswith(spec.name)), None)
+            if field is None and "designation" in str(err).lower():
+                field = "designation"
+            if field is not None:
+                select_field(self.query_one(f"#fd-{field}", Input))
             return
         self.dismiss(saved)

@@ -280,6 +280,7 @@ class DevicesView(Vertical):
         self.searches_run = 0
         """How many index searches ran (a burst of keys is one; tests read it)."""
         self._loaded = False
+        self._stale = False
         self._search_timer: Timer | None = None
         self._detail_timer: Timer | None = None
         self._detail_at = 0.0
@@ -311,9 +312,25 @@ class DevicesView(Vertical):
         """The app's shared search index (None while it is being built)."""
         return self.shell.catalog_index.index
 
+    def refresh_data(self, visible: bool) -> None:
+        """The database changed: stock figures and rows re-read, cursor kept (if shown)."""
+        if not self._loaded:
+            return
+        if not visible:
+            self._stale = True
+            return
+        self._stale = False
+        cursor = self.table.cursor
+        self._load_stock()
+        self._search(self._query())
+        self.table.move_to(cursor)
+        self.show_detail()
+
     def load(self) -> None:
         """Fill the list the first time the view is shown (the index is built by the app)."""
         if self._loaded:
+            if self._stale:
+                self.refresh_data(visible=True)
             return
         self._loaded = True
         self._load_stock()
@@ -458,6 +475,7 @@ class DevicesView(Vertical):
         if device is None:
             return
         self.notify(f"Saved {device.designation}.")
+        self.shell.absorb_own_change()
         self._load_stock()
         self.shell.catalog_changed()  # the only rebuild of the index
         # Show the saved record: the search runs once the keys pause and the index is ready.

@@ -41,7 +41,12 @@ class DrawersView(Horizontal):
         self.db = db
         self.place: str | None = None
         self.lots: list[LotView] = []
+        self.lots_shown: list[LotView] = []
+        self.low_devices = 0
+        """Devices below their low-stock mark in the title's count (tests read it)."""
         self._loaded = False
+        self._paths: list[str] | None = None
+        self._restoring: str | None = None
 
     def compose(self) -> ComposeResult:
         tree: Tree[str | None] = Tree(ALL_PLACES, data=None, id="drawer-tree")
@@ -66,13 +71,26 @@ class DrawersView(Horizontal):
             self._loaded = True
             self.reload()
 
+    def refresh_data(self, visible: bool) -> None:
+        """The database changed: re-read now if shown, else when next shown."""
+        if visible and self._loaded:
+            self.reload()
+        else:
+            self._loaded = False
+
     def reload(self) -> None:
-        """Re-read the place tree and the lots (after any stock change)."""
+        """Re-read the place tree and the lots (after any stock change), staying on the place
+        and the lot that were selected."""
         from partsdb.services import stock
 
         with self.db.session() as session:
             paths = stock.location_paths(session)
         tree = self.query_one("#drawer-tree", Tree)
+        if paths == self._paths:  # the usual case: same places, new quantities
+            self.show_lots(self.place)
+            return
+        self._paths = paths
+        place = self.place
         tree.clear()
         nodes: dict[str, Any] = {}
         parents = {path.rpartition("/")[0] for path in paths}
@@ -84,9 +102,23 @@ class DrawersView(Horizontal):
             else:
                 nodes[path] = parent.add_leaf(name, data=path)
         tree.root.expand()
-        self.show_lots(self.place)
-        if self.place and self.place in nodes:
-            tree.move_cursor(nodes[self.place])
+        if place not in nodes:
+            place = None
+        self.show_lots(place)
+        if place is not None:
+            node = nodes[place]
+            ancestor = node.parent
+            while ancestor is not None:
+                ancestor.expand()
+                ancestor = ancestor.parent
+            # The tree numbers its lines on the next refresh; until then a node has no line to
+            # put the cursor on, and the tree's own highlight (of the new root) must not win.
+            self._restoring = place
+            self.call_after_refresh(self._restore_place, node)
+
+    def _restore_place(self, node: Any) -> None:
+        self.query_one("#drawer-tree", Tree).move_cursor(node)
+        self._restoring = None
 
     def show_lots(self, place: str | None) -> None:
         from partsdb.services import stock
@@ -96,22 +128,37 @@ class DrawersView(Horizontal):
             self.lots = stock.lots_at(session, place)
         table = self.query_one("#lots-table", DataTable)
         row = table.cursor_row
+        before = self.lots_shown[row] if 0 <= row < len(self.lots_shown) else None
         table.clear()
         for i, lot in enumerate(self.lots):
             mark = Text("LOW", style="bold red") if lot.low else Text("ok", style="green")
             qty = Text(str(lot.quantity), style="dim" if lot.quantity == 0 else "",
                        justify="right")
             table.add_row(lot.designation, lot.location, lot.condition, qty, mark, key=str(i))
+        self.lots_shown = list(self.lots)
         if self.lots:
-            table.move_cursor(row=min(row, len(self.lots) - 1))
+            # Stay on the same lot (device, place, condition) when it is still listed.
+            same = next((i for i, lot in enumerate(self.lots) if before is not None and
+                         (lot.designation, lot.location, lot.condition)
+                         == (before.designation, before.location, before.condition)), None)
+            table.move_cursor(row=same if same is not None else min(row, len(self.lots) - 1))
         total = sum(lot.quantity for lot in self.lots)
-        low = sum(1 for lot in self.lots if lot.low)
+        # Devices, not lots (as `partsdb stock low`): a device is low when its stock summed
+        # over every place is below its mark, however many lots it has here.
+        if place is None:
+            with self.db.session() as session:
+                low = len(stock.low_stock(session))
+        else:
+            low = len({lot.designation for lot in self.lots if lot.low})
         self.query_one("#lots-title", Static).update(
             f"{place or ALL_PLACES}: {len(self.lots)} lots, {total} parts"
-            + (f", {low} LOW" if low else ""))
+            + (f", {low} device{'s' if low != 1 else ''} LOW" if low else ""))
+        self.low_devices = low
 
     @on(Tree.NodeHighlighted, "#drawer-tree")
     def _place_highlighted(self, event: Tree.NodeHighlighted[str | None]) -> None:
+        if self._restoring is not None and event.node.data != self._restoring:
+            return  # the rebuilt tree's first highlight, before the cursor is put back
         if event.node.data != self.place:
             self.show_lots(event.node.data)
 
@@ -138,6 +185,9 @@ class DrawersView(Horizontal):
     def _after(self, result: str | None) -> None:
         if result is None:
             return
+        absorb = getattr(self.app, "absorb_own_change", None)
+        if absorb is not None:
+            absorb()
         self.reload()
         self.query_one("#lot-status", Static).update(result)
         self.notify(result)

@@ -20,6 +20,8 @@ KEYS: tuple[tuple[str, str, str], ...] = (
     ("Anywhere", "F1 or ?", "this help (Esc closes it)"),
     ("Anywhere", "ctrl+p", "command palette: every main action by name"),
     ("Anywhere", "tab / shift+tab", "next / previous field"),
+    ("Anywhere", "ctrl+l", "refresh: re-read the database (changes made elsewhere also show "
+                          "by themselves within about 2 s)"),
     ("Anywhere", "ctrl+q", "quit"),
     ("Drawers", "r t u m c", "receive, take (with a job ref.), return, move, count the selected lot"),
     ("Devices", "/", "search (fuzzy: designation, or words in the notes)"),

@@ -17,6 +17,7 @@ from textual.app import ComposeResult
 from textual.containers import Horizontal, Vertical
 from textual.widgets import DataTable, Input, Static
 
+from partsdb.clock import show, to_local
 from tui.inputs import TextField
 
 if TYPE_CHECKING:
@@ -28,7 +29,7 @@ REASON_STYLE = {"receive": "green", "take": "yellow", "return": "cyan", "move": 
 
 
 def parse_day(text: str, field: str, end: bool = False) -> datetime | None:
-    """YYYY-MM-DD -> the start of that day (or the end when ``end``); blank -> None."""
+    """YYYY-MM-DD (a local day) -> its start (or end when ``end``) in UTC; blank -> None."""
     text = text.strip()
     if not text:
         return None
@@ -37,7 +38,9 @@ def parse_day(text: str, field: str, end: bool = False) -> datetime | None:
     except ValueError:
         raise ValueError(f"{field}: {text!r} is not valid; expected a date such as 2024-03-31"
                          ) from None
-    return day + timedelta(days=1) - timedelta(microseconds=1) if end else day
+    from partsdb.clock import local_to_utc
+
+    return local_to_utc(day + timedelta(days=1) - timedelta(microseconds=1) if end else day)
 
 
 class LedgerView(Vertical):
@@ -53,7 +56,7 @@ class LedgerView(Vertical):
         with Horizontal(id="ledger-filters"):
             yield TextField(placeholder="device", id="lg-device", compact=True)
             yield TextField(placeholder="place", id="lg-place", compact=True)
-            yield TextField(placeholder="job", id="lg-job", compact=True)
+            yield TextField(placeholder="job (starts)", id="lg-job", compact=True)
             yield TextField(placeholder="from YYYY-MM-DD", id="lg-since", compact=True)
             yield TextField(placeholder="to YYYY-MM-DD", id="lg-until", compact=True)
         yield Static("", id="ledger-status")
@@ -63,13 +66,26 @@ class LedgerView(Vertical):
 
     def on_mount(self) -> None:
         table = self.query_one("#ledger-table", DataTable)
-        for label in ("When (UTC)", "Device", "Place", "Cond.", "Change", "Reason", "Job", "Note"):
+        from partsdb.clock import zone_name
+
+        # Local time, the zone named in the heading; the ledger stores UTC.
+        for label in (f"When ({zone_name()})", "Device", "Place", "Cond.", "Change", "Reason",
+                      "Job", "Note"):
             table.add_column(label)
 
     def load(self) -> None:
         if not self._loaded:
             self._loaded = True
         self.refresh_entries()
+
+    def refresh_data(self, visible: bool) -> None:
+        """The database changed: re-read the movements now if shown (load() re-reads anyway)."""
+        if visible and self._loaded:
+            table = self.query_one("#ledger-table", DataTable)
+            row = table.cursor_row
+            self.refresh_entries()
+            if self._entries:
+                table.move_cursor(row=min(row, len(self._entries) - 1))
 
     @on(Input.Submitted)
     @on(Input.Changed)
@@ -103,7 +119,7 @@ class LedgerView(Vertical):
         for e in entries:
             change = Text(f"{e.change:+d}", style="green" if e.change > 0 else "red",
                           justify="right")
-            table.add_row(e.at.strftime("%Y-%m-%d %H:%M"), e.designation, e.location,
+            table.add_row(to_local(e.at).strftime("%Y-%m-%d %H:%M"), e.designation, e.location,
                           e.condition, change, Text(e.reason, style=REASON_STYLE.get(e.reason, "")),
                           e.job or "", e.note or "")
         more = " (newest shown; narrow the filters)" if len(entries) == LIMIT else ""
@@ -120,7 +136,7 @@ class LedgerView(Vertical):
             return
         e = self._entries[row]
         line = Text.assemble(
-            (e.at.strftime("%Y-%m-%d %H:%M UTC"), "bold"), "  ", (e.designation, "bold"),
+            (show(e.at), "bold"), "  ", (e.designation, "bold"),
             f" {e.change:+d} ", (e.reason, REASON_STYLE.get(e.reason, "")),
             f" at {e.location} ({e.condition})", f", job {e.job}" if e.job else "",
             ": " + e.note if e.note else "")

@@ -1,9 +1,11 @@
 """Small modal forms for the five stock actions: receive, take, return, move and count.
 
-The form checks what it can see (a whole quantity, a place given) and then makes exactly one
-call to :mod:`partsdb.services.stock` in one transaction. A refusal from the service (taking
-more than the drawer holds, an unknown device) is shown in the form and nothing is changed:
-the transaction is rolled back.
+The form checks every field it can (a device named, a whole quantity, well-formed places, a
+known condition) and lists every problem at once, each beside its field; only then does it make
+exactly one call to :mod:`partsdb.services.stock` in one transaction. A refusal from the service
+(taking more than the drawer holds, an unknown device) is shown beside the field it concerns,
+whose text is selected, and nothing is changed: the transaction is rolled back. Escape on a
+form with changes asks before discarding them.
 """
 
 from __future__ import annotations
@@ -18,6 +20,7 @@ from textual.containers import Horizontal, Vertical
 from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Static
 
+from tui.form_guard import close_asking, input_values, select_field
 from tui.inputs import TextField
 
 if TYPE_CHECKING:
@@ -87,6 +90,7 @@ class StockForm(ModalScreen[str | None]):
                     yield Label(label, classes="form-label")
                     yield TextField(value, placeholder=hint, id=f"sf-{ident}", compact=True,
                                 classes="form-input")
+                yield Static("", id=f"sfe-{ident}", classes="form-error")
             yield Static("", id="form-message", classes="form-error")
             with Horizontal(classes="form-buttons"):
                 yield Button(r.action.capitalize(), id="ok", variant="primary", compact=True)
@@ -95,6 +99,7 @@ class StockForm(ModalScreen[str | None]):
     def on_mount(self) -> None:
         self.query_one("#sf-quantity" if self.request.designation else "#sf-designation",
                        Input).focus()
+        self._started = input_values(self)
 
     def value(self, ident: str) -> str | None:
         found = self.query(f"#sf-{ident}")
@@ -103,10 +108,79 @@ class StockForm(ModalScreen[str | None]):
         text = found.first(Input).value.strip()
         return text or None
 
+    def problems(self) -> list[tuple[str, str]]:
+        """Every problem the form can see, as (field id, message), in the fields' order."""
+        from partsdb.services import stock
+
+        action = self.request.action
+        found: list[tuple[str, str]] = []
+        if not self.value("designation"):
+            found.append(("designation", "device: empty; expected a designation such as BC547B"))
+        try:
+            parse_count(self.value("quantity") or "", allow_zero=action == "count")
+        except ValueError as err:
+            found.append(("quantity", str(err)))
+        for ident, name, example in (("place", "place", "C1/D3"), ("to", "to place", "C2/D1")):
+            if ident == "to" and action != "move":
+                continue
+            text = self.value(ident)
+            if not text:
+                found.append((ident, f"{name}: empty; expected a path such as {example}"))
+                continue
+            try:
+                stock.normalize_path(text)
+            except ValueError as err:
+                found.append((ident, str(err).replace("location:", f"{name}:", 1)))
+        condition = self.value("condition")
+        if condition and condition.lower() not in stock.CONDITIONS:
+            found.append(("condition", f"condition: {condition!r} is not valid; expected one of "
+                          + ", ".join(stock.CONDITIONS)))
+        return found
+
+    def _show_problems(self, found: list[tuple[str, str]]) -> None:
+        shown = {ident for ident, _ in found}
+        for box in self.query(".form-error"):
+            ident = (box.id or "")[4:]
+            if ident not in shown:
+                box.update("")
+                box.remove_class("shown")
+        for ident, text in found:
+            box = self.query_one(f"#sfe-{ident}", Static)
+            box.update(text)
+            box.add_class("shown")
+        if found:
+            select_field(self.query_one(f"#sf-{found[0][0]}", Input))
+
+    def _field_of(self, message: str) -> str:
+        """Which field a service refusal is about (its message names it), else the device."""
+        lower = message.lower()
+        to = (self.value("to") or "").lower()
+        if lower.startswith("move: from and to") or (to and "location:" in lower and to in lower):
+            return "to"
+        for prefix, ident in (("quantity", "quantity"), ("cannot", "quantity"),
+                              ("location", "place"), ("condition", "condition")):
+            if lower.startswith(prefix):
+                return ident
+        if " at " in lower and "condition" in lower:  # held in several conditions
+            return "condition"
+        if "no " in lower and " lot at " in lower:
+            return "condition"
+        if "nothing at" in lower or "location " in lower:
+            return "place"
+        return "designation"
+
     @on(Input.Submitted)
     @on(Button.Pressed, "#ok")
     def action_submit(self) -> None:
         message = self.query_one("#form-message", Static)
+        found = self.problems()
+        self._show_problems(found)
+        if found:
+            names = ", ".join(text.split(":", 1)[0] for _, text in found)
+            message.update(f"Not done: {len(found)} problem{'s' if len(found) > 1 else ''} "
+                           f"to fix ({names}); nothing was changed.")
+            message.add_class("shown")
+            return
         try:
             result = self._perform()
         except Exception as err:  # the service's refusal, shown as is: nothing was changed
@@ -117,12 +191,13 @@ class StockForm(ModalScreen[str | None]):
             text = str(err.args[0]) if isinstance(err, KeyError) and err.args else str(err)
             message.update(f"REFUSED: {text}")
             message.add_class("shown")
+            select_field(self.query_one(f"#sf-{self._field_of(text)}", Input))
             return
         self.dismiss(result)
 
     @on(Button.Pressed, "#cancel")
     def action_cancel(self) -> None:
-        self.dismiss(None)
+        close_asking(self, self._started)
 
     def _perform(self) -> str:
         from partsdb.services import stock

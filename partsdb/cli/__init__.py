@@ -58,6 +58,7 @@ def _register() -> None:
         circuit,
         designations,
         exchange_cmds,
+        labels_cmd,
         shop,
         stock_cmds,
         substitute,
@@ -67,7 +68,7 @@ def _register() -> None:
     for command in (*catalog_cmds.COMMANDS, *exchange_cmds.COMMANDS, *stock_cmds.COMMANDS,
                     designations.decode, designations.find, circuit.check, circuit.bias,
                     circuit.spice, substitute.substitute, substitute.swaplog, substitute.policies,
-                    shop.copy, shop.backup, shop.restore, bench.bench, ui.tui):
+                    shop.copy, shop.backup, shop.restore, labels_cmd.labels, bench.bench, ui.tui):
         main.add_command(command)
 
 

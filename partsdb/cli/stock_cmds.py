@@ -165,7 +165,8 @@ def where(state: CliState, designation: str, fmt: str) -> None:
 @format_option("table", "json", "csv")
 @pass_state
 def low(state: CliState, fmt: str) -> None:
-    """Devices whose stock is below their low-stock mark."""
+    """Devices whose stock is below their low-stock mark (devices, not lots: each device's
+    stock summed over every place and condition; the TUI counts the same)."""
     from partsdb.services import stock as svc
 
     with state.database().session() as session:
@@ -177,14 +178,19 @@ def low(state: CliState, fmt: str) -> None:
     elif fmt == "csv":
         emit_csv(["designation", "quantity", "low_stock", "locations"], rows)
     else:
-        print_table("Below the low-stock mark", ["Designation", "Qty", "Mark", "Where"], rows)
+        print_table(f"Below the low-stock mark: {len(items)} device"
+                    + ("" if len(items) == 1 else "s"), ["Designation", "Qty", "Mark", "Where"],
+                    rows, caption="Devices, not lots: a device's stock is summed over every "
+                                  "place and condition.")
 
 
 def _date(text: str | None, name: str) -> datetime | None:
     if text is None:
         return None
+    from partsdb.clock import local_to_utc
+
     try:
-        return datetime.fromisoformat(text)
+        return local_to_utc(datetime.fromisoformat(text))
     except ValueError:
         from partsdb.cli.common import fail
 
@@ -194,16 +200,18 @@ def _date(text: str | None, name: str) -> datetime | None:
 @stock.command("ledger")
 @click.argument("designation", required=False)
 @click.option("--at", "location", metavar="LOC", help="Only this place and the places in it.")
-@click.option("--job", metavar="REF", help="Only this job.")
-@click.option("--since", metavar="DATE", help="From this date (YYYY-MM-DD).")
-@click.option("--until", metavar="DATE", help="Up to this date.")
+@click.option("--job", metavar="REF",
+              help="Only jobs whose reference starts with REF, in any case (j-26 finds J-2611).")
+@click.option("--since", metavar="DATE", help="From this local date or time (YYYY-MM-DD[THH:MM]).")
+@click.option("--until", metavar="DATE", help="Up to this local date or time.")
 @click.option("--limit", default="50", show_default=True, metavar="N",
               help="At most this many entries (1 to 1,000,000).")
 @format_option("table", "json", "csv")
 @pass_state
 def ledger(state: CliState, designation: str | None, location: str | None, job: str | None,
            since: str | None, until: str | None, limit: str, fmt: str) -> None:
-    """The movement ledger, newest first."""
+    """The movement ledger, newest first. Times are shown in local time with the zone named
+    (stored in UTC; JSON gives the stored UTC time with its offset)."""
     from partsdb.limits import MAX_ROWS_SHOWN, check_whole
     from partsdb.services import stock as svc
 
@@ -214,15 +222,19 @@ def ledger(state: CliState, designation: str | None, location: str | None, job: 
     if fmt == "json":
         emit_json([e.to_json() for e in entries])
         return
-    rows = [[e.at.strftime("%Y-%m-%d %H:%M"), e.designation, e.location, e.condition,
-             f"{e.change:+d}", e.reason, e.job, e.note] for e in entries]
-    if fmt == "csv":  # the change as a number, so the formula guard leaves it alone
+    from partsdb.clock import show
+
+    if fmt == "csv":  # machine-readable: the stored UTC time, offset written out
         emit_csv(["at", "designation", "location", "condition", "change", "reason", "job",
-                  "note"], [[*row[:4], e.change, *row[5:]] for row, e in zip(rows, entries,
-                                                                          strict=True)])
-    else:
-        print_table("Ledger", ["When (UTC)", "Device", "Place", "Cond.", "Change", "Reason",
-                               "Job", "Note"], rows)
+                  "note"],
+                 [[e.at.isoformat(timespec="seconds") + "+00:00", e.designation, e.location,
+                   e.condition, e.change, e.reason, e.job, e.note] for e in entries])
+        return
+    rows = [[show(e.at), e.designation, e.location, e.condition, f"{e.change:+d}", e.reason,
+             e.job, e.note] for e in entries]
+    print_table("Ledger", ["When (local)", "Device", "Place", "Cond.", "Change",
+                           "Reason", "Job", "Note"], rows,
+                caption="Local time (stored in UTC).")
 
 
 COMMANDS = (stock,)

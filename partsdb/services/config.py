@@ -15,6 +15,14 @@ another file. A missing file is not an error (built-in policies, default weights
     vceo = 25
     stock = 20
 
+    [labels]            # defaults of `partsdb labels` (options win)
+    paper = "letter"    # a4 or letter
+    rows = 10
+    columns = 3
+    margin = 12         # mm, every side
+    gap = 2             # mm between labels
+    code = true         # a QR code of the place path on each label
+
 Every error names the file, the key and the value.
 """
 
@@ -60,10 +68,11 @@ def load_config(path: Path | None = None) -> dict[str, Any]:
         raise ConfigError(f"{path}: not valid TOML ({err})") from err
     except OSError as err:
         raise ConfigError(f"{path}: cannot be read ({err.strerror})") from err
-    known = {"policies", "weights"}
+    known = {"policies", "weights", "labels"}
     unknown = sorted(set(data) - known)
     if unknown:
-        raise ConfigError(f"{path}: unknown table(s) {', '.join(unknown)}; known: policies, weights")
+        raise ConfigError(f"{path}: unknown table(s) {', '.join(unknown)}; known: "
+                          "policies, weights, labels")
     return data
 
 
@@ -122,3 +131,24 @@ def load_weights(path: Path | None = None) -> Weights:
         return Weights.from_mapping({**DEFAULT_WEIGHTS.as_dict(), **data})
     except (SpecError, TypeError) as err:
         raise ConfigError(f"{path}: {err}") from err
+
+
+LABEL_KEYS: dict[str, type | tuple[type, ...]] = {
+    "paper": str, "rows": int, "columns": int, "margin": (int, float), "gap": (int, float),
+    "code": bool}
+
+
+def load_label_settings(path: Path | None = None) -> dict[str, Any]:
+    """The ``[labels]`` table (sheet layout defaults), checked key by key; {} when absent."""
+    path = path or config_path()
+    data = load_config(path).get("labels", {})
+    if not isinstance(data, dict):
+        raise ConfigError(f"{path}: labels = {data!r}; expected a [labels] table")
+    for key, value in data.items():
+        kind = LABEL_KEYS.get(key)
+        if kind is None:
+            raise ConfigError(f"{path}: labels.{key}: unknown key; known: {', '.join(LABEL_KEYS)}")
+        if not isinstance(value, kind) or (kind is not bool and isinstance(value, bool)):
+            raise ConfigError(f"{path}: labels.{key} = {value!r}; expected "
+                              f"{'true or false' if kind is bool else 'text' if kind is str else 'a number'}")
+    return dict(data)

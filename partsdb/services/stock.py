@@ -72,7 +72,7 @@ class LedgerEntry:
     note: str | None
 
     def to_json(self) -> dict[str, object]:
-        return {"id": self.id, "at": self.at.isoformat(timespec="seconds"),
+        return {"id": self.id, "at": self.at.isoformat(timespec="seconds") + "+00:00",
                 "designation": self.designation, "location": self.location,
                 "condition": self.condition, "change": self.change, "reason": self.reason,
                 "job": self.job, "note": self.note}
@@ -410,7 +410,8 @@ class LowStock:
 
 
 def low_stock(session: Session) -> list[LowStock]:
-    """Devices whose total stock is below their low-stock threshold."""
+    """Devices (not lots) whose total stock, summed over every place and condition, is below
+    their low-stock threshold; the one count of "low" every face shows."""
     totals = _device_totals(session)
     summary = stock_summary(session)
     rows = session.scalars(select(DeviceRow).where(DeviceRow.low_stock.is_not(None))
@@ -452,7 +453,9 @@ def ledger(session: Session, designation: str | None = None, location: str | Non
     if location:
         query = query.where(_at_place(location))
     if job:
-        query = query.where(MovementRow.job == job)
+        # Case-insensitive prefix: "j-26" finds J-2611 and J-2612 (LIKE's wildcards escaped).
+        pattern = job.strip().lower().replace("\\", "\\\\").replace("%", "\\%").replace("_", "\\_")
+        query = query.where(func.lower(MovementRow.job).like(pattern + "%", escape="\\"))
     if since:
         query = query.where(MovementRow.at >= since)
     if until:
