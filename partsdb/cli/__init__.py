@@ -59,6 +59,7 @@ def _register() -> None:
         designations,
         exchange_cmds,
         labels_cmd,
+        places_cmds,
         shop,
         stock_cmds,
         substitute,
@@ -66,6 +67,7 @@ def _register() -> None:
     )
 
     for command in (*catalog_cmds.COMMANDS, *exchange_cmds.COMMANDS, *stock_cmds.COMMANDS,
+                    *places_cmds.COMMANDS,
                     designations.decode, designations.find, circuit.check, circuit.bias,
                     circuit.spice, substitute.substitute, substitute.swaplog, substitute.policies,
                     shop.copy, shop.backup, shop.restore, labels_cmd.labels, bench.bench, ui.tui):

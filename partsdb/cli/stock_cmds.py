@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from datetime import datetime
+from typing import TYPE_CHECKING, TypeVar
 
 import click
 
@@ -14,10 +16,16 @@ from partsdb.cli.common import (
     pass_state,
     print_table,
 )
+from partsdb.lots import CONDITIONS
+
+if TYPE_CHECKING:
+    from sqlalchemy.orm import Session
+
+T = TypeVar("T")
 
 QTY = click.STRING
 """Quantities are read by limits.check_quantity (one refusal line, exit 2, for any text)."""
-CONDITION = click.Choice(["new", "used", "pulled", "tested"], case_sensitive=False)
+CONDITION = click.Choice(list(CONDITIONS), case_sensitive=False)
 
 
 @click.group()
@@ -33,6 +41,16 @@ def _quantity(text: str | int, allow_zero: bool = False) -> int:
     from partsdb.limits import check_quantity
 
     return check_quantity(text, allow_zero=allow_zero)
+
+
+def _to_place(work: Callable[[Session], T], state: CliState) -> T:
+    """Run a receive, move or return; an unknown place says how to make it."""
+    from partsdb.services.stock import UnknownPlace
+
+    try:
+        return state.database().transact(work)
+    except UnknownPlace as err:
+        raise UnknownPlace(err.path, err.suggestions, " (pass --create to make it)") from None
 
 
 def _said(verb: str, view: object) -> None:
@@ -51,15 +69,18 @@ def _said(verb: str, view: object) -> None:
 @click.option("--condition", type=CONDITION, default="new", show_default=True)
 @click.option("--job", metavar="REF", help="Job or order reference.")
 @click.option("--note")
+@click.option("--create", is_flag=True, help="Make the place if it does not exist (else refused, "
+              "with the closest existing places named).")
 @pass_state
 def receive(state: CliState, designation: str, qty: str | int, to: str, condition: str,
-            job: str | None, note: str | None) -> None:
+            job: str | None, note: str | None, create: bool) -> None:
     """Parts arrive (bought, salvaged) into a drawer."""
     qty = _quantity(qty)
     from partsdb.services import stock as svc
 
-    view = state.database().transact(
-        lambda session: svc.receive(session, designation, qty, to, condition.lower(), job, note))
+    view = _to_place(
+        lambda session: svc.receive(session, designation, qty, to, condition.lower(), job, note,
+                                    create), state)
     _said("received", view)
 
 
@@ -90,15 +111,18 @@ def take(state: CliState, designation: str, qty: str | int, from_: str, conditio
               help="Lot to return into (default: the one there, else a new 'used' lot).")
 @click.option("--job", metavar="REF")
 @click.option("--note")
+@click.option("--create", is_flag=True, help="Make the place if it does not exist (else refused, "
+              "with the closest existing places named).")
 @pass_state
 def return_(state: CliState, designation: str, qty: str | int, to: str, condition: str | None,
-            job: str | None, note: str | None) -> None:
+            job: str | None, note: str | None, create: bool) -> None:
     """Put unused parts back from a job."""
     qty = _quantity(qty)
     from partsdb.services import stock as svc
 
-    view = state.database().transact(
-        lambda session: svc.return_parts(session, designation, qty, to, condition, job, note))
+    view = _to_place(
+        lambda session: svc.return_parts(session, designation, qty, to, condition, job, note,
+                                         create), state)
     _said("returned", view)
 
 
@@ -109,15 +133,17 @@ def return_(state: CliState, designation: str, qty: str | int, to: str, conditio
 @click.option("--to", "to", required=True, metavar="LOC")
 @click.option("--condition", type=CONDITION, help="Which lot, when the place holds several.")
 @click.option("--note")
+@click.option("--create", is_flag=True, help="Make the place if it does not exist (else refused, "
+              "with the closest existing places named).")
 @pass_state
 def move(state: CliState, designation: str, qty: str | int, from_: str, to: str,
-         condition: str | None, note: str | None) -> None:
+         condition: str | None, note: str | None, create: bool) -> None:
     """Move parts from one place to another."""
     qty = _quantity(qty)
     from partsdb.services import stock as svc
 
-    source, target = state.database().transact(
-        lambda session: svc.move(session, designation, qty, from_, to, condition, None, note))
+    source, target = _to_place(
+        lambda session: svc.move(session, designation, qty, from_, to, condition, None, note, create), state)
     _said("moved from", source)
     _said("moved to", target)
 

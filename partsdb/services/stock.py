@@ -21,11 +21,10 @@ from sqlalchemy.sql.elements import ColumnElement
 
 from partsdb.errors import InvalidInput
 from partsdb.limits import MAX_LENGTH, MAX_LOT, LimitError, check_lot_total, check_quantity, check_text
+from partsdb.lots import CONDITIONS
 from partsdb.services.catalog import NotFound, require_row
 from partsdb.storage.models import DeviceRow, LocationRow, LotRow, MovementRow
 
-CONDITIONS = ("new", "used", "pulled", "tested")
-REASONS = ("receive", "take", "return", "move", "count")
 _SEGMENT = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 ._#+-]{0,63}$")
 
 
@@ -98,13 +97,18 @@ def normalize_path(path: str) -> str:
     return joined
 
 
-def place_key(path: str) -> str:
-    """The key that makes a place unique (``locations.key``): the checked path, case-folded.
+_DIGITS = re.compile(r"[0-9]+")
 
-    The one definition of "the same place": every look-up and every new place goes through it.
-    A rule such as "D2 is D02" is added here (with a migration recomputing the stored keys).
+
+def place_key(path: str) -> str:
+    """The key that makes a place unique (``locations.key``): the checked path, case-folded,
+    with every run of digits read as a number ("C3/D02" and "c3/d2" are one place, key "c3/d2").
+
+    The one definition of "the same place": every look-up and every new place goes through it
+    (migration 0005 wrote this rule out to recompute the stored keys). The path itself is kept
+    as first written, so the house numbering stays.
     """
-    return normalize_path(path).lower()
+    return _DIGITS.sub(lambda m: str(int(m.group())), normalize_path(path).lower())
 
 
 def find_location(session: Session, path: str) -> LocationRow | None:
@@ -141,6 +145,38 @@ def ensure_location(session: Session, path: str) -> LocationRow:
         parent = here
     assert parent is not None
     return parent
+
+
+class UnknownPlace(StockError):
+    """A receive, move or return named a place that does not exist (and creating it was not
+    asked for); ``suggestions`` are the closest existing places, best first."""
+
+    def __init__(self, path: str, suggestions: list[str], how: str = "") -> None:
+        self.path = path
+        self.suggestions = suggestions
+        hint = ("; did you mean " + " or ".join(suggestions) + "?") if suggestions else ""
+        super().__init__(f"unknown place {path}{hint}{how}")
+
+
+def closest_places(session: Session, path: str, limit: int = 3) -> list[str]:
+    """Existing places whose keys are nearest to ``path``'s (rapidfuzz ratio, 60 or more)."""
+    from rapidfuzz import fuzz, process
+
+    rows = session.execute(select(LocationRow.key, LocationRow.path)).all()
+    by_key = {key: p for key, p in rows}
+    found = process.extract(place_key(path), list(by_key), scorer=fuzz.ratio, limit=limit,
+                            score_cutoff=60)
+    return [by_key[key] for key, _score, _i in found]
+
+
+def destination(session: Session, path: str, create: bool) -> LocationRow:
+    """The place parts go to: created (with its parents) when ``create``, else it must exist."""
+    if create:
+        return ensure_location(session, path)
+    row = find_location(session, path)
+    if row is None:
+        raise UnknownPlace(normalize_path(path), closest_places(session, path))
+    return row
 
 
 def require_location(session: Session, path: str) -> LocationRow:
@@ -257,12 +293,15 @@ def _view(lot: LotRow) -> LotView:
 # ---------------------------------------------------------------- operations
 
 def receive(session: Session, designation: str, qty: int, to: str, condition: str = "new",
-            job: str | None = None, note: str | None = None) -> LotView:
-    """Parts arrive (bought, salvaged): add to the lot at ``to`` in ``condition``."""
+            job: str | None = None, note: str | None = None, create: bool = True) -> LotView:
+    """Parts arrive (bought, salvaged): add to the lot at ``to`` in ``condition``.
+
+    ``create=False`` (what the faces pass for typed input) refuses a place that does not exist
+    with :class:`UnknownPlace`; the same holds for :func:`move` and :func:`return_parts`."""
     _check_quantity(qty)
     _check_texts(job, note)
     device = require_row(session, designation)
-    lot = _get_or_create_lot(session, device, ensure_location(session, to),
+    lot = _get_or_create_lot(session, device, destination(session, to, create),
                              _check_condition(condition))
     _apply(session, lot, qty, "receive", job, note, "cannot receive")
     return _view(lot)
@@ -283,12 +322,12 @@ def take(session: Session, designation: str, qty: int, from_: str, condition: st
 
 def return_parts(session: Session, designation: str, qty: int, to: str,
                  condition: str | None = None, job: str | None = None,
-                 note: str | None = None) -> LotView:
+                 note: str | None = None, create: bool = True) -> LotView:
     """Unused parts come back from a job into the drawer (the lot there, or a new ``used``)."""
     _check_quantity(qty)
     _check_texts(job, note)
     device = require_row(session, designation)
-    location = ensure_location(session, to)
+    location = destination(session, to, create)
     if condition is None:
         lots = session.scalars(select(LotRow).where(
             LotRow.device_id == device.id, LotRow.location_id == location.id)).all()
@@ -305,13 +344,13 @@ def return_parts(session: Session, designation: str, qty: int, to: str,
 
 def move(session: Session, designation: str, qty: int, from_: str, to: str,
          condition: str | None = None, job: str | None = None,
-         note: str | None = None) -> tuple[LotView, LotView]:
+         note: str | None = None, create: bool = True) -> tuple[LotView, LotView]:
     """Move parts between places: two ledger entries (out and in) in one transaction."""
     _check_quantity(qty)
     _check_texts(job, note)
     device = require_row(session, designation)
     source = _pick_lot(session, device, require_location(session, from_), condition, "move")
-    target_place = ensure_location(session, to)
+    target_place = destination(session, to, create)
     if target_place.id == source.location_id:
         raise StockError(f"move: from and to are the same place ({target_place.path})")
     target = _get_or_create_lot(session, device, target_place, source.condition)
