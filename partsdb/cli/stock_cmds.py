@@ -256,11 +256,85 @@ def ledger(state: CliState, designation: str | None, location: str | None, job: 
                  [[e.at.isoformat(timespec="seconds") + "+00:00", e.designation, e.location,
                    e.condition, e.change, e.reason, e.job, e.note] for e in entries])
         return
-    rows = [[show(e.at), e.designation, e.location, e.condition, f"{e.change:+d}", e.reason,
-             e.job, e.note] for e in entries]
-    print_table("Ledger", ["When (local)", "Device", "Place", "Cond.", "Change",
+    rows = [[e.id, show(e.at), e.designation, e.location, e.condition, f"{e.change:+d}",
+             e.reason, e.job, e.note] for e in entries]
+    print_table("Ledger", ["#", "When (local)", "Device", "Place", "Cond.", "Change",
                            "Reason", "Job", "Note"], rows,
                 caption="Local time (stored in UTC).")
+
+
+@stock.command("undo")
+@click.argument("movement_id", required=False, metavar="[MOVEMENT_ID]")
+@format_option("table", "json")
+@pass_state
+def undo(state: CliState, movement_id: str | None, fmt: str) -> None:
+    """Reverse a movement by writing its compensating ledger entry (history is kept).
+
+    Without MOVEMENT_ID (the # of `stock ledger`): the last receive, take, return, move or
+    count not yet undone, made from any bench. A move is reversed as a whole. Refused when the
+    movement was undone already or the reversal would take a lot below zero.
+    """
+    from partsdb.limits import check_whole
+    from partsdb.services import stock as svc
+
+    wanted = None if movement_id is None else check_whole(movement_id, "MOVEMENT_ID", 1,
+                                                          2**63 - 1)
+    report = state.database().transact(lambda session: svc.undo(session, wanted))
+    if fmt == "json":
+        emit_json(report.to_json())
+        return
+    for original, entry in zip(report.undone, report.written, strict=True):
+        click.echo(f"undid {original.describe()}: wrote #{entry.id} ({entry.change:+d})")
+
+
+def _edited(view: object) -> None:
+    from partsdb.services.stock import LotView
+
+    assert isinstance(view, LotView)
+    click.echo(f"lot: {view.designation} at {view.location} ({view.condition}) "
+               f"{view.quantity}, note: {view.note or '(none)'}")
+
+
+@stock.command("set-condition")
+@click.argument("designation")
+@click.argument("new_condition", type=CONDITION, metavar="CONDITION")
+@click.option("--at", "at", required=True, metavar="LOC", help="The place of the lot.")
+@click.option("--condition", type=CONDITION, help="Which lot, when the place holds several.")
+@click.option("--job", metavar="REF")
+@format_option("table", "json")
+@pass_state
+def set_condition(state: CliState, designation: str, new_condition: str, at: str,
+                  condition: str | None, job: str | None, fmt: str) -> None:
+    """Change a lot's condition (an 'edit' ledger entry). Conditions: new, nos (new old
+    stock), used, pulled, tested."""
+    from partsdb.services import stock as svc
+
+    view = state.database().transact(lambda session: svc.set_condition(
+        session, designation, at, new_condition.lower(), condition, job))
+    if fmt == "json":
+        emit_json(view.to_json())
+    else:
+        _edited(view)
+
+
+@stock.command("note")
+@click.argument("designation")
+@click.argument("text")
+@click.option("--at", "at", required=True, metavar="LOC", help="The place of the lot.")
+@click.option("--condition", type=CONDITION, help="Which lot, when the place holds several.")
+@format_option("table", "json")
+@pass_state
+def note(state: CliState, designation: str, text: str, at: str, condition: str | None,
+         fmt: str) -> None:
+    """Change a lot's note ("" clears it); the old and new text go to the ledger."""
+    from partsdb.services import stock as svc
+
+    view = state.database().transact(
+        lambda session: svc.set_note(session, designation, at, text, condition))
+    if fmt == "json":
+        emit_json(view.to_json())
+    else:
+        _edited(view)
 
 
 COMMANDS = (stock,)
