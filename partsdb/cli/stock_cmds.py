@@ -337,4 +337,34 @@ def note(state: CliState, designation: str, text: str, at: str, condition: str |
         _edited(view)
 
 
+@stock.command("reorder")
+@format_option("table", "csv", "json", "md")
+@pass_state
+def reorder(state: CliState, fmt: str) -> None:
+    """What to buy: every device at or below its low-stock count, with the quantity that
+    brings it to its target (the device's reorder_to, default twice the low-stock count); for
+    obsolete devices the best suitable substitute in the catalog and how many the drawers hold.
+    """
+    from partsdb.services import reorder as svc
+
+    with state.database().session() as session:
+        lines = svc.reorder_list(session)
+    if fmt == "json":
+        emit_json([line.to_json() for line in lines])
+        return
+    if fmt == "csv":
+        emit_csv(svc.COLUMNS, [line.row() for line in lines])
+        return
+    headers = ["Designation", "Have", "Low", "Target", "Buy", "Obsolete", "Substitute",
+               "Sub. held", "Sub. where"]
+    if fmt == "md":
+        from partsdb.reports import markdown_table
+
+        click.echo(markdown_table(headers, [line.row() for line in lines]))
+        return
+    print_table(f"Reorder: {len(lines)} device" + ("" if len(lines) == 1 else "s"), headers,
+                [line.row() for line in lines],
+                caption="At or below the low-stock count; buy up to the target.")
+
+
 COMMANDS = (stock,)
