@@ -183,8 +183,9 @@ def where(state: CliState, designation: str, fmt: str) -> None:
                  [[v.designation, v.location, v.quantity, v.condition, v.note] for v in lots])
     else:
         total = sum(v.quantity for v in lots)
-        print_table(f"{designation}: {total} in stock", ["Location", "Qty", "Condition", "Note"],
-                    [[v.location, v.quantity, v.condition, v.note] for v in lots])
+        print_table(f"{designation}: {total} in stock",
+                    ["Location", "Label", "Qty", "Condition", "Note"],
+                    [[v.location, v.label, v.quantity, v.condition, v.note] for v in lots])
 
 
 @stock.command("low")

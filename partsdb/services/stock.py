@@ -41,6 +41,8 @@ class LotView:
     note: str | None = None
     low_stock: int | None = None
     device_total: int | None = None
+    label: str | None = None
+    """The place's label (what the drawer holds), if it has one."""
 
     @property
     def low(self) -> bool:
@@ -49,7 +51,8 @@ class LotView:
 
     def to_json(self) -> dict[str, object]:
         return {"designation": self.designation, "location": self.location,
-                "quantity": self.quantity, "condition": self.condition, "note": self.note}
+                "quantity": self.quantity, "condition": self.condition, "note": self.note,
+                "label": self.label}
 
 
 @dataclass
@@ -197,6 +200,12 @@ def location_paths(session: Session) -> list[str]:
     return list(session.scalars(select(LocationRow.path).order_by(LocationRow.path)))
 
 
+def place_labels(session: Session) -> dict[str, str]:
+    """Path -> label of every place that has one."""
+    return {p: label for p, label in session.execute(
+        select(LocationRow.path, LocationRow.label).where(LocationRow.label.is_not(None)))}
+
+
 # ---------------------------------------------------------------- the atomic change
 
 def _check_quantity(qty: int, allow_zero: bool = False) -> int:
@@ -296,7 +305,7 @@ def _pick_lot(session: Session, device: DeviceRow, location: LocationRow,
 
 def _view(lot: LotRow) -> LotView:
     return LotView(lot.device.designation, lot.location.path, lot.condition, lot.quantity,
-                   lot.note, lot.device.low_stock)
+                   lot.note, lot.device.low_stock, label=lot.location.label)
 
 
 # ---------------------------------------------------------------- operations
@@ -418,7 +427,7 @@ def where(session: Session, designation: str) -> list[LotView]:
     lots = session.scalars(select(LotRow).where(LotRow.device_id == device.id)).all()
     total = sum(lot.quantity for lot in lots)
     views = [LotView(device.designation, lot.location.path, lot.condition, lot.quantity,
-                     lot.note, device.low_stock, total) for lot in lots]
+                     lot.note, device.low_stock, total, lot.location.label) for lot in lots]
     return sorted(views, key=lambda v: (-v.quantity, v.location, v.condition))
 
 
@@ -432,7 +441,7 @@ def lots_at(session: Session, path: str | None, include_children: bool = True) -
         query = query.where(_at_place(path, include_children))
     rows = session.execute(query.order_by(LocationRow.path, DeviceRow.key)).all()
     return [LotView(d.designation, loc.path, lot.condition, lot.quantity, lot.note,
-                    d.low_stock, totals.get(d.id, 0)) for lot, d, loc in rows]
+                    d.low_stock, totals.get(d.id, 0), loc.label) for lot, d, loc in rows]
 
 
 def _at_place(path: str, include_children: bool = True) -> ColumnElement[bool]:
