@@ -197,6 +197,8 @@ async def test_stock_actions_receive_take_return_move_count(shop_db: Any) -> Non
         await _submit(app, pilot, "u", {"quantity": "2"})
         assert quantity_at(shop_db, "QX3301", "C1/D1") == 17
         await _submit(app, pilot, "m", {"quantity": "7", "to": "C3/D9"})
+        await pilot.press("y")  # C3/D9 is new: the form asks before creating it
+        await pilot.pause()
         assert quantity_at(shop_db, "QX3301", "C1/D1") == 10
         assert quantity_at(shop_db, "QX3301", "C3/D9") == 7
         await _open_lot(app, pilot, "QX3301")
