@@ -157,8 +157,10 @@ class DrawersView(Horizontal):
                 low = len(stock.low_stock(session))
         else:
             low = len({lot.designation for lot in self.lots if lot.low})
+        label = self._paths[1].get(place) if self._paths is not None and place else None
         self.query_one("#lots-title", Static).update(
-            f"{place or ALL_PLACES}: {len(self.lots)} lots, {total} parts"
+            f"{place or ALL_PLACES}" + (f" ({label})" if label else "")
+            + f": {len(self.lots)} lots, {total} parts"
             + (f", {low} device{'s' if low != 1 else ''} LOW" if low else ""))
         self.low_devices = low
 
