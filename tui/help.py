@@ -24,6 +24,8 @@ KEYS: tuple[tuple[str, str, str], ...] = (
                           "by themselves within about 2 s)"),
     ("Anywhere", "ctrl+q", "quit"),
     ("Drawers", "r t u m c", "receive, take (with a job ref.), return, move, count the selected lot"),
+    ("Drawers", "z", "undo the last movement (asks first, naming what it reverses)"),
+    ("Drawers", "o", "reorder list: what to buy; substitutes for obsolete parts"),
     ("Devices", "/", "search (fuzzy: designation, or words in the notes)"),
     ("Devices", "a / e", "add a device / edit the selected one (units such as 40V, 200mA, 2k2)"),
     ("Devices", "s", "find substitutes for the selected device"),
