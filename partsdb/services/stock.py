@@ -648,14 +648,25 @@ def undo(session: Session, movement_id: int | None = None) -> UndoReport:
     originals = [_entry_of(session, r.id) for r in rows]
     at = utcnow()
     written: list[int] = []
-    # Lots in id order, as in move(), so two undos cannot deadlock.
-    for row, entry in sorted(zip(rows, originals, strict=True), key=lambda p: p[0].lot_id):
-        _apply(session, row.lot, -row.change, "undo", row.job, f"undoes #{row.id}",
-               f"cannot undo #{row.id} ({entry.reason} {entry.change:+d} {entry.designation} "
-               f"at {entry.location}): only {{have}} there now; nothing was changed",
-               at=at, undoes=row.id)
-        written.append(session.scalar(select(MovementRow.id)
-                                      .where(MovementRow.undoes == row.id)) or 0)
+    lots = {row.id: row.lot for row in rows}  # read before the savepoint (see below)
+    try:
+        # A savepoint: when another bench undid the same movement meanwhile, the unique
+        # ``undoes`` index refuses the second entry and this undo is rolled back whole. On
+        # SQLite the savepoint opens the transaction, so nothing is read inside it before the
+        # first write (a read would pin a snapshot that a concurrent commit makes stale).
+        with session.begin_nested():
+            # Lots in id order, as in move(), so two undos cannot deadlock.
+            for row, entry in sorted(zip(rows, originals, strict=True),
+                                     key=lambda p: p[0].lot_id):
+                _apply(session, lots[row.id], -row.change, "undo", row.job, f"undoes #{row.id}",
+                       f"cannot undo #{row.id} ({entry.reason} {entry.change:+d} "
+                       f"{entry.designation} at {entry.location}): only {{have}} there now; "
+                       "nothing was changed", at=at, undoes=row.id)
+                written.append(session.scalar(select(MovementRow.id)
+                                              .where(MovementRow.undoes == row.id)) or 0)
+    except IntegrityError:
+        raise StockError(f"undo: movement #{movement_id} was undone by another bench "
+                         "meanwhile; nothing was changed") from None
     by_original = dict(zip(sorted(rows, key=lambda r: r.lot_id), written, strict=True))
     return UndoReport(originals, [_entry_of(session, by_original[r]) for r in rows])
 
