@@ -253,9 +253,10 @@ def ledger(state: CliState, designation: str | None, location: str | None, job: 
 
     if fmt == "csv":  # machine-readable: the stored UTC time, offset written out
         emit_csv(["at", "designation", "location", "condition", "change", "reason", "job",
-                  "note"],
+                  "note", "id", "undoes"],
                  [[e.at.isoformat(timespec="seconds") + "+00:00", e.designation, e.location,
-                   e.condition, e.change, e.reason, e.job, e.note] for e in entries])
+                   e.condition, e.change, e.reason, e.job, e.note, e.id, e.undoes]
+                  for e in entries])
         return
     rows = [[e.id, show(e.at), e.designation, e.location, e.condition, f"{e.change:+d}",
              e.reason, e.job, e.note] for e in entries]

@@ -129,6 +129,9 @@ def test_undo_writes_the_compensating_entry_and_refuses_twice(run) -> None:  # t
     assert again.exit_code == 2 and "already undone" in again.output
     after = _json(run("stock", "ledger", "--format", "json"))
     assert len(after) == len(entries) + 2  # nothing erased, two entries added
+    rows = run("stock", "ledger", "--format", "csv").output.splitlines()
+    assert rows[0].endswith(",id,undoes")
+    assert rows[1].endswith(f",{after[0]['id']},{entries[1]['id']}")  # the newest: the undo
     assert _json(run("stock", "where", "QK55", "--format", "json"))[0]["quantity"] == 6
     _check_ledger(run.url)
 
