@@ -35,7 +35,8 @@ class DrawersView(Horizontal):
         Binding("u", "stock('return')", "Return"),
         Binding("m", "stock('move')", "Move"),
         Binding("c", "stock('count')", "Count"),
-        Binding("z", "undo", "Undo last"),
+        Binding("e", "edit_lot", "Edit", show=False),
+        Binding("z", "undo", "Undo"),
         Binding("o", "reorder", "Reorder"),
     ]
 
@@ -190,6 +191,15 @@ class DrawersView(Horizontal):
             request = StockRequest(action, lot.designation, lot.location, lot.condition,
                                    lot.quantity)
         self.app.push_screen(StockForm(self.db, request), self._after)
+
+    def action_edit_lot(self) -> None:
+        from tui.lot_edit import LotEditForm
+
+        lot = self.selected_lot()
+        if lot is None:
+            self.notify("Select a lot to edit first.", severity="warning")
+            return
+        self.app.push_screen(LotEditForm(self.db, lot), self._after)
 
     def action_undo(self) -> None:
         """Undo the last movement, after a confirmation that names what it reverses."""

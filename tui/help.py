@@ -24,6 +24,7 @@ KEYS: tuple[tuple[str, str, str], ...] = (
                           "by themselves within about 2 s)"),
     ("Anywhere", "ctrl+q", "quit"),
     ("Drawers", "r t u m c", "receive, take (with a job ref.), return, move, count the selected lot"),
+    ("Drawers", "e", "edit the selected lot's condition or note (written to the ledger)"),
     ("Drawers", "z", "undo the last movement (asks first, naming what it reverses)"),
     ("Drawers", "o", "reorder list: what to buy; substitutes for obsolete parts"),
     ("Devices", "/", "search (fuzzy: designation, or words in the notes)"),

@@ -20,6 +20,7 @@ from textual.containers import Horizontal, Vertical
 from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Static
 
+from partsdb.lots import CONDITIONS
 from tui.form_guard import Confirm, close_asking, input_values, select_field
 from tui.inputs import TextField
 
@@ -74,7 +75,7 @@ class StockForm(ModalScreen[str | None]):
             fields.append(("to", "To place", "", "e.g. C2/D1"))
         if r.action in ("receive", "count", "take", "return", "move"):
             fields.append(("condition", "Condition", r.condition if r.action != "receive"
-                           else (r.condition or "new"), "new / used / pulled / tested"))
+                           else (r.condition or "new"), " / ".join(CONDITIONS)))
         if r.action in ("take", "return", "receive", "move"):
             fields.append(("job", "Job ref.", "", "job or repair ticket"))
         fields.append(("note", "Note", "", ""))

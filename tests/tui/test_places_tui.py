@@ -94,3 +94,31 @@ async def test_labels_in_tree_and_reorder_panel(shop_db: Any) -> None:
         await pilot.press("escape")
         await pilot.pause()
         assert not isinstance(app.screen, ReorderScreen)
+
+
+async def test_lot_edit_changes_condition_and_note_in_the_ledger(shop_db: Any) -> None:
+    from tui.lot_edit import LotEditForm
+
+    app = build_app(shop_db, cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await _open_lot(app, pilot, "QX3301")
+        await pilot.press("e")
+        await pilot.pause()
+        form = app.screen
+        assert isinstance(form, LotEditForm)
+        form.query_one("#le-condition").value = "mint"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert app.screen is form  # refused: not a condition
+        assert "condition" in static_text(form.query_one("#form-message", Static))
+        form.query_one("#le-condition").value = "nos"
+        form.query_one("#le-note").value = "1971 date code"
+        await pilot.press("enter")
+        await pilot.pause()
+        assert app.screen is not form
+    with shop_db.session() as session:
+        [lot] = stock.where(session, "QX3301")
+        assert (lot.condition, lot.note, lot.quantity) == ("nos", "1971 date code", 12)
+        edits = [e for e in stock.ledger(session, "QX3301") if e.reason == "edit"]
+        assert len(edits) == 2 and all(e.change == 0 for e in edits)
+        assert stock.ledger_mismatches(session) == []
