@@ -78,11 +78,15 @@ FIELDS: tuple[FieldSpec, ...] = (
     FieldSpec("notes", "Notes", "text"),
     FieldSpec("low_stock", "Low stock", "count", low=0, high=10_000_000,
               help="warn when the stock of this device falls below this count"),
+    FieldSpec("reorder_to", "Reorder to", "count", low=0, high=10_000_000,
+              help="stock to buy up to when at or below the low-stock count "
+                   "(blank: twice the low-stock count)"),
 )
 
 FIELD_BY_NAME: dict[str, FieldSpec] = {f.name: f for f in FIELDS}
 FIELD_NAMES: tuple[str, ...] = tuple(f.name for f in FIELDS)
 QUANTITY_FIELDS: tuple[str, ...] = tuple(f.name for f in FIELDS if f.kind == "quantity")
+COUNT_FIELDS: tuple[str, ...] = tuple(f.name for f in FIELDS if f.kind == "count")
 TEXT_FIELDS: tuple[FieldSpec, ...] = tuple(f for f in FIELDS if f.kind == "text")
 
 # Junction temperature assumed when a record has none (common practice: germanium parts were
@@ -135,6 +139,7 @@ class Device:
     obsolete: bool = False
     notes: str | None = None
     low_stock: int | None = None
+    reorder_to: int | None = None
     warnings: list[str] = field(default_factory=list)
     """Consistency warnings (designation vs fields), stored with the record."""
 
@@ -261,7 +266,7 @@ def check_columns(columns: Mapping[str, Any], n: int) -> dict[int, list[tuple[st
         for pos in np.flatnonzero(mask):
             problems.setdefault(int(pos), []).append((name, message(int(pos))))
 
-    cols = {name: _floats(columns.get(name), n) for name in (*QUANTITY_FIELDS, "low_stock")
+    cols = {name: _floats(columns.get(name), n) for name in (*QUANTITY_FIELDS, *COUNT_FIELDS)
             if name in columns}
     for name, values in cols.items():
         spec = FIELD_BY_NAME[name]

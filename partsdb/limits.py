@@ -27,6 +27,7 @@ MAX_LENGTH: dict[str, int] = {
     "note": 2000,
     "job": 64,
     "location": 255,
+    "label": 120,
 }
 """Longest text, in characters, per field (the widths of the database columns)."""
 

@@ -10,6 +10,7 @@ through :func:`html.escape`; Markdown table cells have their pipes and line brea
 from __future__ import annotations
 
 import html
+from collections.abc import Iterable, Sequence
 from typing import TYPE_CHECKING, Any
 
 from partsdb.cautions import SAFETY_CAUTIONS
@@ -150,6 +151,15 @@ def render_markdown(result: RankResult, job: str | None = None, date: str | None
             f"- Substitute fitted: {BLANK}",
             f"- Technician: {_md(technician) if technician else BLANK}",
             f"- Signature: {BLANK}", ""]
+    return "\n".join(out)
+
+
+def markdown_table(headers: Sequence[str], rows: Iterable[Sequence[object]]) -> str:
+    """A Markdown table, every cell escaped; None shows as a dash."""
+    out = ["| " + " | ".join(_md(h) for h in headers) + " |",
+           "|" + "---|" * len(headers)]
+    out += ["| " + " | ".join("—" if v is None else _md(str(v)) for v in row) + " |"
+            for row in rows]
     return "\n".join(out)
 
 

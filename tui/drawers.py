@@ -16,6 +16,7 @@ from textual.binding import Binding, BindingType
 from textual.containers import Horizontal, Vertical
 from textual.widgets import DataTable, Static, Tree
 
+from tui.form_guard import Confirm
 from tui.stock_forms import StockForm, StockRequest
 
 if TYPE_CHECKING:
@@ -34,6 +35,9 @@ class DrawersView(Horizontal):
         Binding("u", "stock('return')", "Return"),
         Binding("m", "stock('move')", "Move"),
         Binding("c", "stock('count')", "Count"),
+        Binding("e", "edit_lot", "Edit", show=False),
+        Binding("z", "undo", "Undo"),
+        Binding("o", "reorder", "Reorder"),
     ]
 
     def __init__(self, db: Database, **kwargs: Any) -> None:
@@ -45,7 +49,7 @@ class DrawersView(Horizontal):
         self.low_devices = 0
         """Devices below their low-stock mark in the title's count (tests read it)."""
         self._loaded = False
-        self._paths: list[str] | None = None
+        self._paths: tuple[list[str], dict[str, str]] | None = None
         self._restoring: str | None = None
 
     def compose(self) -> ComposeResult:
@@ -85,11 +89,12 @@ class DrawersView(Horizontal):
 
         with self.db.session() as session:
             paths = stock.location_paths(session)
+            labels = stock.place_labels(session)
         tree = self.query_one("#drawer-tree", Tree)
-        if paths == self._paths:  # the usual case: same places, new quantities
+        if (paths, labels) == self._paths:  # the usual case: same places, new quantities
             self.show_lots(self.place)
             return
-        self._paths = paths
+        self._paths = (paths, labels)
         place = self.place
         tree.clear()
         nodes: dict[str, Any] = {}
@@ -97,10 +102,13 @@ class DrawersView(Horizontal):
         for path in paths:
             parent_path, _, name = path.rpartition("/")
             parent = nodes.get(parent_path, tree.root)
+            label = Text(name)
+            if path in labels:
+                label.append(f" {labels[path]}", style="dim italic")
             if path in parents:  # cabinets open, drawers closed: the tree fits a small screen
-                nodes[path] = parent.add(name, data=path, expand="/" not in path)
+                nodes[path] = parent.add(label, data=path, expand="/" not in path)
             else:
-                nodes[path] = parent.add_leaf(name, data=path)
+                nodes[path] = parent.add_leaf(label, data=path)
         tree.root.expand()
         if place not in nodes:
             place = None
@@ -150,8 +158,10 @@ class DrawersView(Horizontal):
                 low = len(stock.low_stock(session))
         else:
             low = len({lot.designation for lot in self.lots if lot.low})
+        label = self._paths[1].get(place) if self._paths is not None and place else None
         self.query_one("#lots-title", Static).update(
-            f"{place or ALL_PLACES}: {len(self.lots)} lots, {total} parts"
+            f"{place or ALL_PLACES}" + (f" ({label})" if label else "")
+            + f": {len(self.lots)} lots, {total} parts"
             + (f", {low} device{'s' if low != 1 else ''} LOW" if low else ""))
         self.low_devices = low
 
@@ -181,6 +191,50 @@ class DrawersView(Horizontal):
             request = StockRequest(action, lot.designation, lot.location, lot.condition,
                                    lot.quantity)
         self.app.push_screen(StockForm(self.db, request), self._after)
+
+    def action_edit_lot(self) -> None:
+        from tui.lot_edit import LotEditForm
+
+        lot = self.selected_lot()
+        if lot is None:
+            self.notify("Select a lot to edit first.", severity="warning")
+            return
+        self.app.push_screen(LotEditForm(self.db, lot), self._after)
+
+    def action_undo(self) -> None:
+        """Undo the last movement, after a confirmation that names what it reverses."""
+        from partsdb.services import stock
+
+        with self.db.session() as session:
+            last = stock.last_undoable(session)
+        if last is None:
+            self.notify("Nothing to undo.", severity="warning")
+            return
+        pair = " (and the other half of the move)" if last.reason == "move" else ""
+        question = (f"Undo {last.describe()}{pair}? A compensating entry is written to the "
+                    "ledger; nothing is erased.")
+
+        def answered(yes: bool | None) -> None:
+            if yes:
+                self._undo(last.id)
+
+        self.app.push_screen(Confirm(question, yes="Undo it", no="Keep"), answered)
+
+    def _undo(self, movement_id: int) -> None:
+        from partsdb.errors import PartsdbError
+        from partsdb.services import stock
+
+        try:
+            report = self.db.transact(lambda session: stock.undo(session, movement_id))
+        except PartsdbError as err:
+            self.notify(str(err), severity="error")
+            return
+        self._after("Undone: " + "; ".join(e.describe() for e in report.undone))
+
+    def action_reorder(self) -> None:
+        from tui.reorder import ReorderScreen
+
+        self.app.push_screen(ReorderScreen(self.db))
 
     def _after(self, result: str | None) -> None:
         if result is None:

@@ -63,3 +63,38 @@ def select_field(field: Input) -> None:
     """Focus ``field`` with all its text selected, so typing replaces the refused value."""
     field.focus()
     field.select_all()
+
+
+class Confirm(ModalScreen[bool]):
+    """A yes/no question that says what will happen: y / Enter on "yes" agrees, n / Escape
+    declines (the safe answer has the focus)."""
+
+    BINDINGS: ClassVar[list[BindingType]] = [
+        Binding("y", "answer(True)", "Yes"), Binding("n,escape", "answer(False)", "No")]
+
+    def __init__(self, question: str, yes: str = "Yes", no: str = "No") -> None:
+        super().__init__()
+        self.question = question
+        self.yes = yes
+        self.no = no
+
+    def compose(self) -> ComposeResult:
+        with Vertical(id="form-box", classes="form confirm-form"):
+            yield Static(f"{self.question}  (y / n)", id="confirm-question", classes="form-title")
+            with Horizontal(classes="form-buttons"):
+                yield Button(self.yes, id="yes", variant="warning", compact=True)
+                yield Button(self.no, id="no", variant="primary", compact=True)
+
+    def on_mount(self) -> None:
+        self.query_one("#no", Button).focus()
+
+    def action_answer(self, yes: bool) -> None:
+        self.dismiss(yes)
+
+    @on(Button.Pressed, "#yes")
+    def _yes(self) -> None:
+        self.dismiss(True)
+
+    @on(Button.Pressed, "#no")
+    def _no(self) -> None:
+        self.dismiss(False)

@@ -20,7 +20,8 @@ from textual.containers import Horizontal, Vertical
 from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Static
 
-from tui.form_guard import close_asking, input_values, select_field
+from partsdb.lots import CONDITIONS
+from tui.form_guard import Confirm, close_asking, input_values, select_field
 from tui.inputs import TextField
 
 if TYPE_CHECKING:
@@ -74,7 +75,7 @@ class StockForm(ModalScreen[str | None]):
             fields.append(("to", "To place", "", "e.g. C2/D1"))
         if r.action in ("receive", "count", "take", "return", "move"):
             fields.append(("condition", "Condition", r.condition if r.action != "receive"
-                           else (r.condition or "new"), "new / used / pulled / tested"))
+                           else (r.condition or "new"), " / ".join(CONDITIONS)))
         if r.action in ("take", "return", "receive", "move"):
             fields.append(("job", "Job ref.", "", "job or repair ticket"))
         fields.append(("note", "Note", "", ""))
@@ -181,8 +182,32 @@ class StockForm(ModalScreen[str | None]):
                            f"to fix ({names}); nothing was changed.")
             message.add_class("shown")
             return
+        self._save(create=False)
+
+    def _save(self, create: bool) -> None:
+        from partsdb.services.stock import UnknownPlace
+
+        message = self.query_one("#form-message", Static)
         try:
-            result = self._perform()
+            result = self._perform(create)
+        except UnknownPlace as err:
+            # Typed places are not made silently: ask, naming the closest existing ones.
+            refusal = str(err)
+            close = f" Closest: {', '.join(err.suggestions)}." if err.suggestions else ""
+            question = f"Place {err.path} does not exist.{close} Create {err.path}?"
+
+            def answered(yes: bool | None) -> None:
+                if yes:
+                    self._save(create=True)
+                else:
+                    message.update(f"REFUSED: {refusal}; nothing was changed")
+                    message.add_class("shown")
+                    field = "to" if self.request.action == "move" else "place"
+                    select_field(self.query_one(f"#sf-{field}", Input))
+
+            self.app.push_screen(Confirm(question, yes=f"Create {err.path}", no="Back"),
+                                 answered)
+            return
         except Exception as err:  # the service's refusal, shown as is: nothing was changed
             from partsdb.errors import PartsdbError
 
@@ -199,7 +224,7 @@ class StockForm(ModalScreen[str | None]):
     def action_cancel(self) -> None:
         close_asking(self, self._started)
 
-    def _perform(self) -> str:
+    def _perform(self, create: bool = False) -> str:
         from partsdb.services import stock
 
         action = self.request.action
@@ -215,7 +240,7 @@ class StockForm(ModalScreen[str | None]):
         with self.db.session() as session:
             if action == "receive":
                 lot = stock.receive(session, designation, qty, place, condition or "new", job=job,
-                                    note=note)
+                                    note=note, create=create)
                 return f"Received {qty} {lot.designation} into {lot.location}: now {lot.quantity}"
             if action == "take":
                 lot = stock.take(session, designation, qty, place, condition, job=job, note=note)
@@ -223,14 +248,14 @@ class StockForm(ModalScreen[str | None]):
                         + (f" for {job}" if job else "") + f": {lot.quantity} left")
             if action == "return":
                 lot = stock.return_parts(session, designation, qty, place, condition, job=job,
-                                         note=note)
+                                         note=note, create=create)
                 return f"Returned {qty} {lot.designation} to {lot.location}: now {lot.quantity}"
             if action == "move":
                 to = self.value("to")
                 if not to:
                     raise ValueError("to place: empty; expected a path such as C2/D1")
                 source, target = stock.move(session, designation, qty, place, to, condition,
-                                            job=job, note=note)
+                                            job=job, note=note, create=create)
                 return (f"Moved {qty} {source.designation} {source.location} -> "
                         f"{target.location}: {source.quantity} / {target.quantity}")
             lot, change = stock.count(session, designation, qty, place, condition, job=job,

@@ -84,6 +84,7 @@ def _register() -> None:
         designations,
         exchange_cmds,
         labels_cmd,
+        places_cmds,
         shop,
         stock_cmds,
         substitute,
@@ -91,6 +92,7 @@ def _register() -> None:
     )
 
     for command in (*catalog_cmds.COMMANDS, *exchange_cmds.COMMANDS, *stock_cmds.COMMANDS,
+                    *places_cmds.COMMANDS,
                     designations.decode, designations.find, circuit.check, circuit.bias,
                     circuit.spice, substitute.substitute, substitute.swaplog, substitute.policies,
                     shop.copy, shop.backup, shop.restore, shop.upgrade, labels_cmd.labels,

@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from datetime import datetime
+from typing import TYPE_CHECKING, TypeVar
 
 import click
 
@@ -14,10 +16,16 @@ from partsdb.cli.common import (
     pass_state,
     print_table,
 )
+from partsdb.lots import CONDITIONS
+
+if TYPE_CHECKING:
+    from sqlalchemy.orm import Session
+
+T = TypeVar("T")
 
 QTY = click.STRING
 """Quantities are read by limits.check_quantity (one refusal line, exit 2, for any text)."""
-CONDITION = click.Choice(["new", "used", "pulled", "tested"], case_sensitive=False)
+CONDITION = click.Choice(list(CONDITIONS), case_sensitive=False)
 
 
 @click.group()
@@ -33,6 +41,16 @@ def _quantity(text: str | int, allow_zero: bool = False) -> int:
     from partsdb.limits import check_quantity
 
     return check_quantity(text, allow_zero=allow_zero)
+
+
+def _to_place(work: Callable[[Session], T], state: CliState) -> T:
+    """Run a receive, move or return; an unknown place says how to make it."""
+    from partsdb.services.stock import UnknownPlace
+
+    try:
+        return state.database().transact(work)
+    except UnknownPlace as err:
+        raise UnknownPlace(err.path, err.suggestions, " (pass --create to make it)") from None
 
 
 def _said(verb: str, view: object) -> None:
@@ -51,15 +69,18 @@ def _said(verb: str, view: object) -> None:
 @click.option("--condition", type=CONDITION, default="new", show_default=True)
 @click.option("--job", metavar="REF", help="Job or order reference.")
 @click.option("--note")
+@click.option("--create", is_flag=True, help="Make the place if it does not exist (else refused, "
+              "with the closest existing places named).")
 @pass_state
 def receive(state: CliState, designation: str, qty: str | int, to: str, condition: str,
-            job: str | None, note: str | None) -> None:
+            job: str | None, note: str | None, create: bool) -> None:
     """Parts arrive (bought, salvaged) into a drawer."""
     qty = _quantity(qty)
     from partsdb.services import stock as svc
 
-    view = state.database().transact(
-        lambda session: svc.receive(session, designation, qty, to, condition.lower(), job, note))
+    view = _to_place(
+        lambda session: svc.receive(session, designation, qty, to, condition.lower(), job, note,
+                                    create), state)
     _said("received", view)
 
 
@@ -90,15 +111,18 @@ def take(state: CliState, designation: str, qty: str | int, from_: str, conditio
               help="Lot to return into (default: the one there, else a new 'used' lot).")
 @click.option("--job", metavar="REF")
 @click.option("--note")
+@click.option("--create", is_flag=True, help="Make the place if it does not exist (else refused, "
+              "with the closest existing places named).")
 @pass_state
 def return_(state: CliState, designation: str, qty: str | int, to: str, condition: str | None,
-            job: str | None, note: str | None) -> None:
+            job: str | None, note: str | None, create: bool) -> None:
     """Put unused parts back from a job."""
     qty = _quantity(qty)
     from partsdb.services import stock as svc
 
-    view = state.database().transact(
-        lambda session: svc.return_parts(session, designation, qty, to, condition, job, note))
+    view = _to_place(
+        lambda session: svc.return_parts(session, designation, qty, to, condition, job, note,
+                                         create), state)
     _said("returned", view)
 
 
@@ -109,15 +133,17 @@ def return_(state: CliState, designation: str, qty: str | int, to: str, conditio
 @click.option("--to", "to", required=True, metavar="LOC")
 @click.option("--condition", type=CONDITION, help="Which lot, when the place holds several.")
 @click.option("--note")
+@click.option("--create", is_flag=True, help="Make the place if it does not exist (else refused, "
+              "with the closest existing places named).")
 @pass_state
 def move(state: CliState, designation: str, qty: str | int, from_: str, to: str,
-         condition: str | None, note: str | None) -> None:
+         condition: str | None, note: str | None, create: bool) -> None:
     """Move parts from one place to another."""
     qty = _quantity(qty)
     from partsdb.services import stock as svc
 
-    source, target = state.database().transact(
-        lambda session: svc.move(session, designation, qty, from_, to, condition, None, note))
+    source, target = _to_place(
+        lambda session: svc.move(session, designation, qty, from_, to, condition, None, note, create), state)
     _said("moved from", source)
     _said("moved to", target)
 
@@ -157,8 +183,9 @@ def where(state: CliState, designation: str, fmt: str) -> None:
                  [[v.designation, v.location, v.quantity, v.condition, v.note] for v in lots])
     else:
         total = sum(v.quantity for v in lots)
-        print_table(f"{designation}: {total} in stock", ["Location", "Qty", "Condition", "Note"],
-                    [[v.location, v.quantity, v.condition, v.note] for v in lots])
+        print_table(f"{designation}: {total} in stock",
+                    ["Location", "Label", "Qty", "Condition", "Note"],
+                    [[v.location, v.label, v.quantity, v.condition, v.note] for v in lots])
 
 
 @stock.command("low")
@@ -226,15 +253,120 @@ def ledger(state: CliState, designation: str | None, location: str | None, job: 
 
     if fmt in ("csv", "tsv"):  # machine-readable: stored UTC time with offset, change a number
         emit_csv(["at", "designation", "location", "condition", "change", "reason", "job",
-                  "note"],
+                  "note", "id", "undoes"],
                  [[e.at.isoformat(timespec="seconds") + "+00:00", e.designation, e.location,
-                   e.condition, e.change, e.reason, e.job, e.note] for e in entries])
+                   e.condition, e.change, e.reason, e.job, e.note, e.id, e.undoes]
+                  for e in entries])
         return
-    rows = [[show(e.at), e.designation, e.location, e.condition, f"{e.change:+d}", e.reason,
-             e.job, e.note] for e in entries]
-    print_table("Ledger", ["When (local)", "Device", "Place", "Cond.", "Change",
+    rows = [[e.id, show(e.at), e.designation, e.location, e.condition, f"{e.change:+d}",
+             e.reason, e.job, e.note] for e in entries]
+    print_table("Ledger", ["#", "When (local)", "Device", "Place", "Cond.", "Change",
                            "Reason", "Job", "Note"], rows,
                 caption="Local time (stored in UTC).")
+
+
+@stock.command("undo")
+@click.argument("movement_id", required=False, metavar="[MOVEMENT_ID]")
+@format_option("table", "json")
+@pass_state
+def undo(state: CliState, movement_id: str | None, fmt: str) -> None:
+    """Reverse a movement by writing its compensating ledger entry (history is kept).
+
+    Without MOVEMENT_ID (the # of `stock ledger`): the last receive, take, return, move or
+    count not yet undone, made from any bench. A move is reversed as a whole. Refused when the
+    movement was undone already or the reversal would take a lot below zero.
+    """
+    from partsdb.limits import check_whole
+    from partsdb.services import stock as svc
+
+    wanted = None if movement_id is None else check_whole(movement_id, "MOVEMENT_ID", 1,
+                                                          2**63 - 1)
+    report = state.database().transact(lambda session: svc.undo(session, wanted))
+    if fmt == "json":
+        emit_json(report.to_json())
+        return
+    for original, entry in zip(report.undone, report.written, strict=True):
+        click.echo(f"undid {original.describe()}: wrote #{entry.id} ({entry.change:+d})")
+
+
+def _edited(view: object) -> None:
+    from partsdb.services.stock import LotView
+
+    assert isinstance(view, LotView)
+    click.echo(f"lot: {view.designation} at {view.location} ({view.condition}) "
+               f"{view.quantity}, note: {view.note or '(none)'}")
+
+
+@stock.command("set-condition")
+@click.argument("designation")
+@click.argument("new_condition", type=CONDITION, metavar="CONDITION")
+@click.option("--at", "at", required=True, metavar="LOC", help="The place of the lot.")
+@click.option("--condition", type=CONDITION, help="Which lot, when the place holds several.")
+@click.option("--job", metavar="REF")
+@format_option("table", "json")
+@pass_state
+def set_condition(state: CliState, designation: str, new_condition: str, at: str,
+                  condition: str | None, job: str | None, fmt: str) -> None:
+    """Change a lot's condition (an 'edit' ledger entry). Conditions: new, nos (new old
+    stock), used, pulled, tested."""
+    from partsdb.services import stock as svc
+
+    view = state.database().transact(lambda session: svc.set_condition(
+        session, designation, at, new_condition.lower(), condition, job))
+    if fmt == "json":
+        emit_json(view.to_json())
+    else:
+        _edited(view)
+
+
+@stock.command("note")
+@click.argument("designation")
+@click.argument("text")
+@click.option("--at", "at", required=True, metavar="LOC", help="The place of the lot.")
+@click.option("--condition", type=CONDITION, help="Which lot, when the place holds several.")
+@format_option("table", "json")
+@pass_state
+def note(state: CliState, designation: str, text: str, at: str, condition: str | None,
+         fmt: str) -> None:
+    """Change a lot's note ("" clears it); the old and new text go to the ledger."""
+    from partsdb.services import stock as svc
+
+    view = state.database().transact(
+        lambda session: svc.set_note(session, designation, at, text, condition))
+    if fmt == "json":
+        emit_json(view.to_json())
+    else:
+        _edited(view)
+
+
+@stock.command("reorder")
+@format_option("table", "csv", "json", "md")
+@pass_state
+def reorder(state: CliState, fmt: str) -> None:
+    """What to buy: every device at or below its low-stock count, with the quantity that
+    brings it to its target (the device's reorder_to, default twice the low-stock count); for
+    obsolete devices the best suitable substitute in the catalog and how many the drawers hold.
+    """
+    from partsdb.services import reorder as svc
+
+    with state.database().session() as session:
+        lines = svc.reorder_list(session)
+    if fmt == "json":
+        emit_json([line.to_json() for line in lines])
+        return
+    if fmt == "csv":
+        emit_csv(svc.COLUMNS, [line.row() for line in lines])
+        return
+    headers = ["Designation", "Have", "Low", "Target", "Buy", "Obsolete", "Substitute",
+               "Sub. held", "Sub. where"]
+    if fmt == "md":
+        from partsdb.reports import markdown_table
+
+        click.echo(markdown_table(headers, [line.row() for line in lines]))
+        return
+    print_table(f"Reorder: {len(lines)} device" + ("" if len(lines) == 1 else "s"), headers,
+                [line.row() for line in lines],
+                caption="At or below the low-stock count; buy up to the target.")
 
 
 COMMANDS = (stock,)

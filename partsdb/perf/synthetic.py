@@ -432,6 +432,7 @@ def catalog_chunks(catalog: Catalog, seed: int = SEED, chunk_rows: int = CHUNK_R
         has_low = np.flatnonzero(rng.random(m) < 0.15)
         low[has_low] = rng.integers(1, 26, has_low.size).astype(str).astype(object)
         cols["low_stock"] = low
+        cols["reorder_to"] = np.full(m, "", dtype=object)  # blank: twice the low-stock count
         yield pd.DataFrame({name: cols[name] for name in FIELD_NAMES})
 
 

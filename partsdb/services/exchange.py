@@ -28,6 +28,7 @@ from sqlalchemy.orm import Session
 from partsdb.csvsafe import GUARDED_PATTERN, guard
 from partsdb.designations import normalize
 from partsdb.device import (
+    COUNT_FIELDS,
     FALSE_WORDS,
     FIELD_BY_NAME,
     FIELD_NAMES,
@@ -364,7 +365,7 @@ class _Columns:
             return col[start:stop]
         part = col[start:stop]
         blank = np.isnan(part)
-        if name == "low_stock":  # a count is stored as an int
+        if FIELD_BY_NAME[name].kind == "count":  # a count is stored as an int
             part = np.where(blank, 0.0, part).astype(np.int64)
         out = part.astype(object)  # Python floats (ints), as Device holds them
         out[blank] = None
@@ -570,8 +571,9 @@ def devices_frame(session: Session) -> pd.DataFrame:
                            .order_by(table.c.key)).all()
     frame = pd.DataFrame(rows, columns=list(FIELD_NAMES))
     frame["obsolete"] = frame["obsolete"].map(lambda v: "yes" if v else "no")
-    if "low_stock" in frame:
-        frame["low_stock"] = frame["low_stock"].astype("Int64")
+    for name in COUNT_FIELDS:
+        if name in frame:
+            frame[name] = frame[name].astype("Int64")
     return frame
 
 

@@ -21,11 +21,10 @@ from sqlalchemy.sql.elements import ColumnElement
 
 from partsdb.errors import InvalidInput
 from partsdb.limits import MAX_LENGTH, MAX_LOT, LimitError, check_lot_total, check_quantity, check_text
+from partsdb.lots import CONDITIONS
 from partsdb.services.catalog import NotFound, require_row
-from partsdb.storage.models import DeviceRow, LocationRow, LotRow, MovementRow
+from partsdb.storage.models import DeviceRow, LocationRow, LotRow, MovementRow, utcnow
 
-CONDITIONS = ("new", "used", "pulled", "tested")
-REASONS = ("receive", "take", "return", "move", "count")
 _SEGMENT = re.compile(r"^[A-Za-z0-9][A-Za-z0-9 ._#+-]{0,63}$")
 
 
@@ -42,6 +41,8 @@ class LotView:
     note: str | None = None
     low_stock: int | None = None
     device_total: int | None = None
+    label: str | None = None
+    """The place's label (what the drawer holds), if it has one."""
 
     @property
     def low(self) -> bool:
@@ -50,7 +51,8 @@ class LotView:
 
     def to_json(self) -> dict[str, object]:
         return {"designation": self.designation, "location": self.location,
-                "quantity": self.quantity, "condition": self.condition, "note": self.note}
+                "quantity": self.quantity, "condition": self.condition, "note": self.note,
+                "label": self.label}
 
 
 @dataclass
@@ -70,12 +72,19 @@ class LedgerEntry:
     reason: str
     job: str | None
     note: str | None
+    undoes: int | None = None
+    """For an 'undo' entry: the id of the movement it compensates."""
 
     def to_json(self) -> dict[str, object]:
         return {"id": self.id, "at": self.at.isoformat(timespec="seconds") + "+00:00",
                 "designation": self.designation, "location": self.location,
                 "condition": self.condition, "change": self.change, "reason": self.reason,
-                "job": self.job, "note": self.note}
+                "job": self.job, "note": self.note, "undoes": self.undoes}
+
+    def describe(self) -> str:
+        """One line for a confirmation: "#12 receive +5 AC951 at C1/D02 (new)"."""
+        return (f"#{self.id} {self.reason} {self.change:+d} {self.designation} at "
+                f"{self.location} ({self.condition})")
 
 
 # ---------------------------------------------------------------- places
@@ -98,13 +107,18 @@ def normalize_path(path: str) -> str:
     return joined
 
 
-def place_key(path: str) -> str:
-    """The key that makes a place unique (``locations.key``): the checked path, case-folded.
+_DIGITS = re.compile(r"[0-9]+")
 
-    The one definition of "the same place": every look-up and every new place goes through it.
-    A rule such as "D2 is D02" is added here (with a migration recomputing the stored keys).
+
+def place_key(path: str) -> str:
+    """The key that makes a place unique (``locations.key``): the checked path, case-folded,
+    with every run of digits read as a number ("C3/D02" and "c3/d2" are one place, key "c3/d2").
+
+    The one definition of "the same place": every look-up and every new place goes through it
+    (migration 0005 wrote this rule out to recompute the stored keys). The path itself is kept
+    as first written, so the house numbering stays.
     """
-    return normalize_path(path).lower()
+    return _DIGITS.sub(lambda m: str(int(m.group())), normalize_path(path).lower())
 
 
 def find_location(session: Session, path: str) -> LocationRow | None:
@@ -142,6 +156,38 @@ def ensure_location(session: Session, path: str) -> LocationRow:
     return parent
 
 
+class UnknownPlace(StockError):
+    """A receive, move or return named a place that does not exist (and creating it was not
+    asked for); ``suggestions`` are the closest existing places, best first."""
+
+    def __init__(self, path: str, suggestions: list[str], how: str = "") -> None:
+        self.path = path
+        self.suggestions = suggestions
+        hint = ("; did you mean " + " or ".join(suggestions) + "?") if suggestions else ""
+        super().__init__(f"unknown place {path}{hint}{how}")
+
+
+def closest_places(session: Session, path: str, limit: int = 3) -> list[str]:
+    """Existing places whose keys are nearest to ``path``'s (rapidfuzz ratio, 60 or more)."""
+    from rapidfuzz import fuzz, process
+
+    rows = session.execute(select(LocationRow.key, LocationRow.path)).all()
+    by_key = {key: p for key, p in rows}
+    found = process.extract(place_key(path), list(by_key), scorer=fuzz.ratio, limit=limit,
+                            score_cutoff=60)
+    return [by_key[key] for key, _score, _i in found]
+
+
+def destination(session: Session, path: str, create: bool) -> LocationRow:
+    """The place parts go to: created (with its parents) when ``create``, else it must exist."""
+    if create:
+        return ensure_location(session, path)
+    row = find_location(session, path)
+    if row is None:
+        raise UnknownPlace(normalize_path(path), closest_places(session, path))
+    return row
+
+
 def require_location(session: Session, path: str) -> LocationRow:
     row = find_location(session, path)
     if row is None:
@@ -151,6 +197,12 @@ def require_location(session: Session, path: str) -> LocationRow:
 
 def location_paths(session: Session) -> list[str]:
     return list(session.scalars(select(LocationRow.path).order_by(LocationRow.path)))
+
+
+def place_labels(session: Session) -> dict[str, str]:
+    """Path -> label of every place that has one."""
+    return {p: label for p, label in session.execute(
+        select(LocationRow.path, LocationRow.label).where(LocationRow.label.is_not(None)))}
 
 
 # ---------------------------------------------------------------- the atomic change
@@ -172,7 +224,8 @@ def _check_texts(job: str | None, note: str | None) -> None:
 
 
 def _apply(session: Session, lot: LotRow, delta: int, reason: str, job: str | None,
-           note: str | None, refusal: str) -> None:
+           note: str | None, refusal: str, at: datetime | None = None,
+           undoes: int | None = None) -> None:
     """Change a lot by ``delta`` atomically and write its ledger entry, or raise StockError.
 
     The lot stays within 0 and :data:`~partsdb.limits.MAX_LOT` (the int32 column), checked in
@@ -193,7 +246,8 @@ def _apply(session: Session, lot: LotRow, delta: int, reason: str, job: str | No
             except LimitError as err:
                 raise StockError(f"{err}; nothing was changed") from None
         raise StockError(refusal.format(have=lot.quantity))
-    session.add(MovementRow(lot_id=lot.id, change=delta, reason=reason, job=job, note=note))
+    session.add(MovementRow(lot_id=lot.id, change=delta, reason=reason, job=job, note=note,
+                            undoes=undoes, **({"at": at} if at is not None else {})))
     session.flush()
     session.expire(lot, ["quantity"])
 
@@ -250,18 +304,21 @@ def _pick_lot(session: Session, device: DeviceRow, location: LocationRow,
 
 def _view(lot: LotRow) -> LotView:
     return LotView(lot.device.designation, lot.location.path, lot.condition, lot.quantity,
-                   lot.note, lot.device.low_stock)
+                   lot.note, lot.device.low_stock, label=lot.location.label)
 
 
 # ---------------------------------------------------------------- operations
 
 def receive(session: Session, designation: str, qty: int, to: str, condition: str = "new",
-            job: str | None = None, note: str | None = None) -> LotView:
-    """Parts arrive (bought, salvaged): add to the lot at ``to`` in ``condition``."""
+            job: str | None = None, note: str | None = None, create: bool = True) -> LotView:
+    """Parts arrive (bought, salvaged): add to the lot at ``to`` in ``condition``.
+
+    ``create=False`` (what the faces pass for typed input) refuses a place that does not exist
+    with :class:`UnknownPlace`; the same holds for :func:`move` and :func:`return_parts`."""
     _check_quantity(qty)
     _check_texts(job, note)
     device = require_row(session, designation)
-    lot = _get_or_create_lot(session, device, ensure_location(session, to),
+    lot = _get_or_create_lot(session, device, destination(session, to, create),
                              _check_condition(condition))
     _apply(session, lot, qty, "receive", job, note, "cannot receive")
     return _view(lot)
@@ -282,12 +339,12 @@ def take(session: Session, designation: str, qty: int, from_: str, condition: st
 
 def return_parts(session: Session, designation: str, qty: int, to: str,
                  condition: str | None = None, job: str | None = None,
-                 note: str | None = None) -> LotView:
+                 note: str | None = None, create: bool = True) -> LotView:
     """Unused parts come back from a job into the drawer (the lot there, or a new ``used``)."""
     _check_quantity(qty)
     _check_texts(job, note)
     device = require_row(session, designation)
-    location = ensure_location(session, to)
+    location = destination(session, to, create)
     if condition is None:
         lots = session.scalars(select(LotRow).where(
             LotRow.device_id == device.id, LotRow.location_id == location.id)).all()
@@ -304,13 +361,13 @@ def return_parts(session: Session, designation: str, qty: int, to: str,
 
 def move(session: Session, designation: str, qty: int, from_: str, to: str,
          condition: str | None = None, job: str | None = None,
-         note: str | None = None) -> tuple[LotView, LotView]:
+         note: str | None = None, create: bool = True) -> tuple[LotView, LotView]:
     """Move parts between places: two ledger entries (out and in) in one transaction."""
     _check_quantity(qty)
     _check_texts(job, note)
     device = require_row(session, designation)
     source = _pick_lot(session, device, require_location(session, from_), condition, "move")
-    target_place = ensure_location(session, to)
+    target_place = destination(session, to, create)
     if target_place.id == source.location_id:
         raise StockError(f"move: from and to are the same place ({target_place.path})")
     target = _get_or_create_lot(session, device, target_place, source.condition)
@@ -318,9 +375,11 @@ def move(session: Session, designation: str, qty: int, from_: str, to: str,
                          "only {have} there; nothing was changed")
     into = (target, qty, "cannot move")
     # Lots are changed in id order, so two benches moving between the same two drawers in
-    # opposite directions take their row locks in the same order and cannot deadlock.
+    # opposite directions take their row locks in the same order and cannot deadlock. Both
+    # entries get one time stamp: that pairs them for an undo.
+    at = utcnow()
     for lot, delta, refusal in sorted((out, into), key=lambda step: step[0].id):
-        _apply(session, lot, delta, "move", job, note, refusal)
+        _apply(session, lot, delta, "move", job, note, refusal, at=at)
     return _view(source), _view(target)
 
 
@@ -367,7 +426,7 @@ def where(session: Session, designation: str) -> list[LotView]:
     lots = session.scalars(select(LotRow).where(LotRow.device_id == device.id)).all()
     total = sum(lot.quantity for lot in lots)
     views = [LotView(device.designation, lot.location.path, lot.condition, lot.quantity,
-                     lot.note, device.low_stock, total) for lot in lots]
+                     lot.note, device.low_stock, total, lot.location.label) for lot in lots]
     return sorted(views, key=lambda v: (-v.quantity, v.location, v.condition))
 
 
@@ -381,7 +440,7 @@ def lots_at(session: Session, path: str | None, include_children: bool = True) -
         query = query.where(_at_place(path, include_children))
     rows = session.execute(query.order_by(LocationRow.path, DeviceRow.key)).all()
     return [LotView(d.designation, loc.path, lot.condition, lot.quantity, lot.note,
-                    d.low_stock, totals.get(d.id, 0)) for lot, d, loc in rows]
+                    d.low_stock, totals.get(d.id, 0), loc.label) for lot, d, loc in rows]
 
 
 def _at_place(path: str, include_children: bool = True) -> ColumnElement[bool]:
@@ -462,8 +521,12 @@ def ledger(session: Session, designation: str | None = None, location: str | Non
     query = query.order_by(MovementRow.at.desc(), MovementRow.id.desc())
     if limit:
         query = query.limit(limit)
-    return [LedgerEntry(m.id, m.at, d.designation, loc.path, lot.condition, m.change, m.reason,
-                        m.job, m.note) for m, lot, d, loc in session.execute(query).all()]
+    return [_entry(m, lot, d, loc) for m, lot, d, loc in session.execute(query).all()]
+
+
+def _entry(m: MovementRow, lot: LotRow, d: DeviceRow, loc: LocationRow) -> LedgerEntry:
+    return LedgerEntry(m.id, m.at, d.designation, loc.path, lot.condition, m.change, m.reason,
+                       m.job, m.note, m.undoes)
 
 
 def ledger_mismatches(session: Session) -> list[tuple[int, int, int]]:
@@ -493,3 +556,173 @@ def import_lots(session: Session, rows: Iterable[tuple[str, str, int, str, str |
             _apply(session, lot, qty - lot.quantity, "count", None, "import", "cannot import")
             changed += 1
     return changed
+
+
+# ---------------------------------------------------------------- undo
+
+UNDOABLE = ("receive", "take", "return", "move", "count")
+"""Reasons an undo compensates. An 'undo' is not undone again (receive or take instead), an
+'edit' is changed back by another edit, a 'merge' moved no parts."""
+
+
+@dataclass(frozen=True)
+class UndoReport:
+    undone: list[LedgerEntry]
+    """The entries reversed (two for a move)."""
+    written: list[LedgerEntry]
+    """The compensating 'undo' entries, in the same order."""
+
+    def to_json(self) -> dict[str, object]:
+        return {"undone": [e.to_json() for e in self.undone],
+                "written": [e.to_json() for e in self.written]}
+
+
+def _entry_of(session: Session, movement_id: int) -> LedgerEntry:
+    row = session.execute(
+        select(MovementRow, LotRow, DeviceRow, LocationRow)
+        .join(LotRow, MovementRow.lot_id == LotRow.id)
+        .join(DeviceRow, LotRow.device_id == DeviceRow.id)
+        .join(LocationRow, LotRow.location_id == LocationRow.id)
+        .where(MovementRow.id == movement_id)).first()
+    if row is None:
+        raise NotFound(f"movement #{movement_id} not found in the ledger")
+    return _entry(*row)
+
+
+def last_undoable(session: Session) -> LedgerEntry | None:
+    """The newest movement an undo with no id reverses: the last receive, take, return, move
+    or count (that changed a quantity) not yet undone, whoever made it."""
+    undone = select(MovementRow.undoes).where(MovementRow.undoes.is_not(None))
+    movement_id = session.scalar(
+        select(MovementRow.id).where(MovementRow.reason.in_(UNDOABLE), MovementRow.change != 0,
+                                     MovementRow.id.not_in(undone))
+        .order_by(MovementRow.id.desc()).limit(1))
+    return None if movement_id is None else _entry_of(session, movement_id)
+
+
+def _move_partner(session: Session, m: MovementRow) -> MovementRow | None:
+    """The other half of a move: the entry written with it (same time stamp, same device,
+    opposite change); for moves written before the stamps were shared, the adjacent id."""
+    device_id = m.lot.device_id
+    same = (select(MovementRow).join(LotRow, MovementRow.lot_id == LotRow.id)
+            .where(MovementRow.reason == "move", MovementRow.change == -m.change,
+                   MovementRow.id != m.id, LotRow.device_id == device_id,
+                   MovementRow.lot_id != m.lot_id))
+    found = session.scalars(same.where(MovementRow.at == m.at)).first()
+    if found is None:
+        found = session.scalars(same.where(MovementRow.id.in_((m.id - 1, m.id + 1)))).first()
+    return found
+
+
+def undo(session: Session, movement_id: int | None = None) -> UndoReport:
+    """Reverse a movement by writing its compensating entry (reason 'undo', ``undoes`` naming
+    it); history is never rewritten. A move is reversed as a whole (both entries).
+
+    Refused, changing nothing, when the movement was undone already, is not of a kind an undo
+    reverses, or when the reversal would take a lot below zero."""
+    if movement_id is None:
+        last = last_undoable(session)
+        if last is None:
+            raise StockError("undo: nothing to undo (no receive, take, return, move or count "
+                             "that is not undone already)")
+        movement_id = last.id
+    first = session.get(MovementRow, movement_id)
+    if first is None:
+        raise NotFound(f"movement #{movement_id} not found in the ledger")
+    if first.reason not in UNDOABLE:
+        what = {"undo": f"itself an undo (of #{first.undoes}); receive or take the parts instead",
+                "edit": "a lot edit; change it back with stock set-condition or stock note",
+                "merge": "a place merge, which moved no parts by itself"}[first.reason]
+        raise StockError(f"undo: movement #{movement_id} is {what}")
+    rows = [first]
+    if first.reason == "move":
+        partner = _move_partner(session, first)
+        if partner is not None:
+            rows.append(partner)
+    for row in rows:
+        done = session.scalar(select(MovementRow.id).where(MovementRow.undoes == row.id))
+        if done is not None:
+            raise StockError(f"undo: movement #{row.id} was already undone by #{done}; "
+                             "nothing was changed")
+    originals = [_entry_of(session, r.id) for r in rows]
+    at = utcnow()
+    written: list[int] = []
+    lots = {row.id: row.lot for row in rows}  # read before the savepoint (see below)
+    try:
+        # A savepoint: when another bench undid the same movement meanwhile, the unique
+        # ``undoes`` index refuses the second entry and this undo is rolled back whole. On
+        # SQLite the savepoint opens the transaction, so nothing is read inside it before the
+        # first write (a read would pin a snapshot that a concurrent commit makes stale).
+        with session.begin_nested():
+            # Lots in id order, as in move(), so two undos cannot deadlock.
+            for row, entry in sorted(zip(rows, originals, strict=True),
+                                     key=lambda p: p[0].lot_id):
+                _apply(session, lots[row.id], -row.change, "undo", row.job, f"undoes #{row.id}",
+                       f"cannot undo #{row.id} ({entry.reason} {entry.change:+d} "
+                       f"{entry.designation} at {entry.location}): only {{have}} there now; "
+                       "nothing was changed", at=at, undoes=row.id)
+                written.append(session.scalar(select(MovementRow.id)
+                                              .where(MovementRow.undoes == row.id)) or 0)
+    except IntegrityError:
+        raise StockError(f"undo: movement #{movement_id} was undone by another bench "
+                         "meanwhile; nothing was changed") from None
+    by_original = dict(zip(sorted(rows, key=lambda r: r.lot_id), written, strict=True))
+    return UndoReport(originals, [_entry_of(session, by_original[r]) for r in rows])
+
+
+# ---------------------------------------------------------------- lot edits
+
+def _edit_entry(session: Session, lot: LotRow, job: str | None, text: str) -> None:
+    session.add(MovementRow(lot_id=lot.id, change=0, reason="edit", job=job, note=text))
+    session.flush()
+
+
+def set_condition(session: Session, designation: str, at: str, new_condition: str,
+                  condition: str | None = None, job: str | None = None) -> LotView:
+    """Change a lot's condition ("received as new, is new old stock"), in the ledger.
+
+    The lot keeps its history and simply changes condition when the place holds no lot of the
+    new condition; otherwise its parts join that lot (two 'edit' entries: out and in) and it
+    stays, empty, with its history."""
+    _check_texts(job, None)
+    device = require_row(session, designation)
+    lot = _pick_lot(session, device, require_location(session, at), condition, "edit")
+    new = _check_condition(new_condition)
+    if new == lot.condition:
+        raise StockError(f"condition: the lot of {device.designation} at {lot.location.path} "
+                         f"is {new} already")
+    text = f"condition {lot.condition} -> {new}"
+    target = _lot(session, device, lot.location, new)
+    if target is None:
+        lot.condition = new
+        session.flush()
+        _edit_entry(session, lot, job, text)
+        return _view(lot)
+    qty = lot.quantity
+    if qty:
+        at_ = utcnow()
+        for step, delta in sorted(((lot, -qty), (target, qty)), key=lambda s: s[0].id):
+            _apply(session, step, delta, "edit", job, text,
+                   f"cannot change the condition of {device.designation} at "
+                   f"{lot.location.path}: only {{have}} there; nothing was changed", at=at_)
+    else:
+        _edit_entry(session, target, job, text)
+    return _view(target)
+
+
+def set_note(session: Session, designation: str, at: str, note: str | None,
+             condition: str | None = None, job: str | None = None) -> LotView:
+    """Change (or, with an empty text, clear) a lot's note, in the ledger."""
+    text = (note or "").strip() or None
+    _check_texts(job, text)
+    device = require_row(session, designation)
+    lot = _pick_lot(session, device, require_location(session, at), condition, "edit")
+    old = lot.note
+    lot.note = text
+    session.flush()
+
+    def short(t: str | None) -> str:
+        return "(none)" if t is None else repr(t if len(t) <= 200 else t[:199] + "…")
+
+    _edit_entry(session, lot, job, f"note {short(old)} -> {short(text)}")
+    return _view(lot)

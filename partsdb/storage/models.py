@@ -64,6 +64,7 @@ class DeviceRow(Base):
     obsolete: Mapped[bool] = mapped_column(Boolean, default=False)
     notes: Mapped[str | None] = mapped_column(Text)
     low_stock: Mapped[int | None] = mapped_column(Integer)
+    reorder_to: Mapped[int | None] = mapped_column(Integer)
     warnings: Mapped[str | None] = mapped_column(Text)
     """Consistency warnings, one per line (designation vs fields)."""
     updated_at: Mapped[datetime] = mapped_column(DateTime, default=utcnow, onupdate=utcnow)
@@ -92,6 +93,8 @@ class LocationRow(Base):
     name: Mapped[str] = mapped_column(String(64))
     path: Mapped[str] = mapped_column(String(255), unique=True)
     key: Mapped[str] = mapped_column(String(255), server_default="")
+    label: Mapped[str | None] = mapped_column(String(120))
+    """What the drawer holds, in the technician's words ("Si PNP audio, TO-92")."""
 
     __table_args__ = (Index("uq_locations_key", "key", unique=True),)
 
@@ -113,7 +116,7 @@ class LotRow(Base):
 
     __table_args__ = (
         CheckConstraint("quantity >= 0", name="ck_lots_quantity_nonnegative"),
-        CheckConstraint("condition IN ('new', 'used', 'pulled', 'tested')",
+        CheckConstraint("condition IN ('new', 'nos', 'used', 'pulled', 'tested')",
                         name="ck_lots_condition"),
         UniqueConstraint("device_id", "location_id", "condition", name="uq_lots_place"),
         Index("ix_lots_location", "location_id"),
@@ -132,14 +135,18 @@ class MovementRow(Base):
     reason: Mapped[str] = mapped_column(String(16))
     job: Mapped[str | None] = mapped_column(String(64))
     note: Mapped[str | None] = mapped_column(Text)
+    undoes: Mapped[int | None] = mapped_column(ForeignKey("movements.id", ondelete="RESTRICT"))
+    """The movement this entry compensates (reason 'undo'); unique, so a movement is undone
+    at most once even by two benches at the same moment."""
 
     lot: Mapped[LotRow] = relationship()
 
     __table_args__ = (
-        CheckConstraint("reason IN ('receive', 'take', 'return', 'move', 'count')",
-                        name="ck_movements_reason"),
+        CheckConstraint("reason IN ('receive', 'take', 'return', 'move', 'count', 'undo', "
+                        "'edit', 'merge')", name="ck_movements_reason"),
         Index("ix_movements_lot", "lot_id"),
         Index("ix_movements_job", "job"),
+        Index("uq_movements_undoes", "undoes", unique=True),
     )
 
 

@@ -30,9 +30,9 @@ def run(tmp_path: Path):  # type: ignore[no-untyped-def]
     assert invoke("device", "add", "AC128", "--kind", "bjt", "--polarity", "pnp", "--material",
                   "ge", "--vceo", "16V", "--ic-max", "1A", "--package", "TO-1",
                   "--pinout", "EBC").exit_code == 0
-    assert invoke("stock", "receive", "BC547B", "20", "--to", "C2/D14").exit_code == 0
-    assert invoke("stock", "receive", "AC128", "4", "--to", "C2/D14").exit_code == 0
-    assert invoke("stock", "receive", "AC128", "2", "--to", "C3/D01").exit_code == 0
+    assert invoke("stock", "receive", "BC547B", "20", "--to", "C2/D14", "--create").exit_code == 0
+    assert invoke("stock", "receive", "AC128", "4", "--to", "C2/D14", "--create").exit_code == 0
+    assert invoke("stock", "receive", "AC128", "2", "--to", "C3/D01", "--create").exit_code == 0
     return invoke
 
 

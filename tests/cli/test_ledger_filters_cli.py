@@ -22,9 +22,9 @@ def run(tmp_path: Path):  # type: ignore[no-untyped-def]
                   "ge", "--low-stock", "10").exit_code == 0
     assert invoke("device", "add", "QK56", "--kind", "bjt", "--polarity", "pnp", "--material",
                   "ge", "--low-stock", "2").exit_code == 0
-    assert invoke("stock", "receive", "QK55", "3", "--to", "C1/D1").exit_code == 0
-    assert invoke("stock", "receive", "QK55", "3", "--to", "C1/D2").exit_code == 0
-    assert invoke("stock", "receive", "QK56", "5", "--to", "C1/D1").exit_code == 0
+    assert invoke("stock", "receive", "QK55", "3", "--to", "C1/D1", "--create").exit_code == 0
+    assert invoke("stock", "receive", "QK55", "3", "--to", "C1/D2", "--create").exit_code == 0
+    assert invoke("stock", "receive", "QK56", "5", "--to", "C1/D1", "--create").exit_code == 0
     for job in ("J-2611", "J-2612", "j_x", "K-1"):
         assert invoke("stock", "take", "QK56", "1", "--from", "C1/D1", "--job", job).exit_code == 0
     return invoke

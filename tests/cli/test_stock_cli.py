@@ -11,7 +11,7 @@ from tests.cli.conftest import ADD_QK55
 
 def test_stock_take_too_many_changes_nothing(run) -> None:  # type: ignore[no-untyped-def]
     run(*ADD_QK55)
-    assert run("stock", "receive", "QK55", "10", "--to", "C2/D14").exit_code == 0
+    assert run("stock", "receive", "QK55", "10", "--to", "C2/D14", "--create").exit_code == 0
     result = run("stock", "take", "QK55", "11", "--from", "C2/D14", "--job", "J-9")
     assert result.exit_code == 2
     assert "only 10 there" in result.output
@@ -23,9 +23,9 @@ def test_stock_take_too_many_changes_nothing(run) -> None:  # type: ignore[no-un
 
 def test_stock_where_json_and_ledger(run) -> None:  # type: ignore[no-untyped-def]
     run(*ADD_QK55)
-    run("stock", "receive", "QK55", "10", "--to", "C2/D14")
+    run("stock", "receive", "QK55", "10", "--to", "C2/D14", "--create")
     run("stock", "take", "QK55", "3", "--from", "C2/D14", "--job", "J-9")
-    run("stock", "move", "QK55", "2", "--from", "C2/D14", "--to", "C1/D01")
+    run("stock", "move", "QK55", "2", "--from", "C2/D14", "--to", "C1/D01", "--create")
     run("stock", "count", "QK55", "6", "--at", "C2/D14")
     data = json.loads(run("stock", "where", "QK55", "--format", "json").output)
     assert {(d["location"], d["quantity"]) for d in data} == {("C2/D14", 6), ("C1/D01", 2)}

@@ -230,3 +230,69 @@ def test_quantities_places_and_conditions_are_read_strictly(empty_db) -> None:  
         assert {(v.location, v.condition, v.quantity) for v in stock.where(session, "QA1")} == {
             ("C1/D01", "new", 0), ("C1/D01", "used", 1)}
         assert stock.ledger(session, job="J-2")[0].note == "for the tuner"
+
+
+small = st.integers(min_value=0, max_value=9)
+step = st.one_of(
+    st.tuples(st.sampled_from(["receive", "take", "move", "count"]), st.sampled_from(PARTS),
+              small, st.sampled_from(PLACES), st.sampled_from(PLACES)),
+    st.just(("undo", "", 0, "", "")))
+
+
+@settings(max_examples=40, deadline=None, suppress_health_check=[HealthCheck.function_scoped_fixture])
+@given(st.lists(step, min_size=1, max_size=25))
+def test_undo_reverses_the_last_movement_like_a_reversing_entry(tmp_path_factory, ops) -> None:  # type: ignore[no-untyped-def]
+    """A model of reversing entries (bookkeeping practice, "common practice": a posting is
+    corrected by an opposite posting, never erased): `undo` with no number reverses the newest
+    operation not yet reversed whose change was not zero, or is refused, changing nothing, when
+    that would take a lot below zero. The ledger only ever grows and always sums to the lots."""
+    db = open_database(tmp_path_factory.mktemp("u") / "u.sqlite", notify=None)
+    with db.session() as session:
+        _catalog(session)
+    held: dict[tuple[str, str], int] = {}
+    done: list[dict[tuple[str, str], int]] = []  # effects of operations not yet undone
+    entries = 0
+    for op, part, qty, a, b in ops:
+        effect: dict[tuple[str, str], int] = {}
+        try:
+            with db.session() as session:
+                if op == "receive":
+                    stock.receive(session, part, qty, a, "new")
+                    effect = {(part, a): qty}
+                elif op == "take":
+                    stock.take(session, part, qty, a, "new")
+                    effect = {(part, a): -qty}
+                elif op == "move":
+                    stock.move(session, part, qty, a, b, "new")
+                    effect = {(part, a): -qty, (part, b): qty}
+                elif op == "count":
+                    _view, change = stock.count(session, part, qty, a, "new")
+                    effect = {(part, a): change}
+                else:
+                    report = stock.undo(session)
+                    last = done[-1]
+                    assert sorted(e.change for e in report.written) == \
+                        sorted(-d for d in last.values())
+                    effect = {k: -d for k, d in last.items()}
+        except (StockError, catalog.NotFound) as err:
+            # Refusals the model predicts: nothing to undo, or a lot would go below zero.
+            if op == "undo":
+                assert not done or any(held.get(k, 0) - d < 0 for k, d in done[-1].items()), err
+            continue
+        for key, d in effect.items():
+            held[key] = held.get(key, 0) + d
+        if op == "undo":
+            done.pop()
+            entries += len(effect)
+        elif any(effect.values()):
+            done.append(effect)
+            entries += len(effect)
+        elif op == "count":
+            entries += 1  # a count that found no difference is written, with change 0
+    with db.session() as session:
+        assert stock.ledger_mismatches(session) == []
+        assert len(stock.ledger(session)) == entries
+        for (part, place), qty in held.items():
+            now = {v.location: v.quantity for v in stock.where(session, part)}
+            assert now.get(place, 0) == qty
+    db.dispose()

@@ -45,7 +45,7 @@ def _quantity(url: str, place: str) -> int:
 
 @pytest.mark.parametrize("command", [
     ["stock", "take", "ZT101", "2", "--from", "K1/A1"],
-    ["stock", "receive", "ZT101", "2", "--to", "K1/A1"],
+    ["stock", "receive", "ZT101", "2", "--to", "K1/A1", "--create"],
     ["restore", "--force", "__backup__"],
 ])
 def test_read_only_refuses_writes(db_url: str, tmp_path: Path, command: list[str]) -> None:

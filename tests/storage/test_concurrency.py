@@ -175,3 +175,42 @@ def test_postgres_deadlock_is_run_again(pg_url: str) -> None:
                                           .where(LotRow.id.in_([first, second]))).all())
     db.dispose()
     assert quantities == {first: 17, second: 17}  # both transactions counted once each
+
+
+def test_one_movement_is_undone_once_when_benches_race(db_url: str) -> None:
+    """Four benches undo the same movement at the same moment: exactly one compensating entry
+    is written (the unique ``undoes`` link); the others are refused in one line."""
+    db = open_database(db_url, notify=None)
+    seed_shop(db)
+    with db.session() as session:
+        lot = stock.lots_at(session, None)[0]
+        stock.take(session, lot.designation, 1, lot.location, lot.condition)
+    with db.session() as session:
+        target = stock.ledger(session, limit=1)[0]  # the take: undoing it can never run short
+    start = threading.Barrier(4)
+    outcomes: list[str] = []
+
+    def bench() -> None:
+        other = open_database(db_url, notify=None)
+        start.wait()
+        try:
+            other.transact(lambda session: stock.undo(session, target.id))
+            outcomes.append("ok")
+        except stock.StockError as err:
+            outcomes.append("refused" if "undone" in str(err) else f"other: {err}")
+        except Exception as err:  # anything else is the failure the assert shows
+            outcomes.append(f"error: {err}")
+        finally:
+            other.dispose()
+
+    threads = [threading.Thread(target=bench) for _ in range(4)]
+    for t in threads:
+        t.start()
+    for t in threads:
+        t.join(60)
+    assert sorted(outcomes) == ["ok", "refused", "refused", "refused"], outcomes
+    with db.session() as session:
+        undos = [e for e in stock.ledger(session) if e.undoes == target.id]
+        assert len(undos) == 1 and undos[0].change == -target.change
+        assert stock.ledger_mismatches(session) == []
+    db.dispose()

@@ -65,8 +65,9 @@ def _old_database(url: str) -> dict[str, list[tuple[object, ...]]]:
     return old_rows
 
 
-ADDED_LATER = {"key"}
-"""Columns added after revision 0001 (locations.key, 0004): not there to fill or read."""
+ADDED_LATER = {"key", "label", "reorder_to", "undoes"}
+"""Columns added after revision 0001 (locations.key, 0004; locations.label, devices.reorder_to,
+movements.undoes, 0005): not there to fill or read."""
 
 
 def _without_later_columns(name: str, rows: list[tuple[object, ...]]) -> list[tuple[object, ...]]:
@@ -179,7 +180,7 @@ def test_place_keys_upgrade_merges_case_duplicates(db_url: str) -> None:
     assert columns  # the insert above used only the 0003 columns
     engine.dispose()
     db = open_database(db_url, notify=None)
-    assert current_revision(db.engine) == "0004"
+    assert current_revision(db.engine) == head_revision()
     with db.session() as session:
         assert stock.location_paths(session) == ["C9", "c9/D1"]
         held = {(v.location, v.condition): v.quantity for v in stock.where(session, "ZT303")}
@@ -190,4 +191,46 @@ def test_place_keys_upgrade_merges_case_duplicates(db_url: str) -> None:
         stock.receive(session, "ZT303", 1, "C9/d1")
         assert stock.location_paths(session) == ["C9", "c9/D1"]
         assert stock.find_location(session, "C9/D1").parent_id == first  # type: ignore[union-attr]
+    db.dispose()
+
+
+def test_0005_merges_number_duplicates_and_keeps_the_ledger(db_url: str) -> None:
+    """0004 -> 0005: "C3/D2" and "C3/D02" become one place (first written kept), labels,
+    'nos' lots, undo links and reorder targets work, and every ledger still sums to its lot."""
+    engine = make_engine(resolve_url(db_url))
+    upgrade(engine, "0004")
+    t = Base.metadata.tables
+    with engine.begin() as conn:
+        def add(table: str, **values: object) -> int:
+            return int(conn.execute(insert(t[table]).values(**values)).inserted_primary_key[0])
+
+        dev = add("devices", designation="ZT303", key="ZT303", kind="bjt", polarity="npn",
+                  material="si", obsolete=False, updated_at=AT, low_stock=20)
+        cab = add("locations", parent_id=None, name="C3", path="C3", key="c3")
+        first = add("locations", parent_id=cab, name="D02", path="C3/D02", key="c3/d02")
+        second = add("locations", parent_id=cab, name="d2", path="C3/d2", key="c3/d2")
+        lot_a = add("lots", device_id=dev, location_id=first, condition="new", quantity=5)
+        lot_b = add("lots", device_id=dev, location_id=second, condition="new", quantity=3)
+        for lot, change in ((lot_a, 5), (lot_b, 4)):
+            add("movements", at=AT, lot_id=lot, change=change, reason="receive")
+        add("movements", at=AT, lot_id=lot_b, change=-1, reason="take", job="J-9")
+    engine.dispose()
+    db = open_database(db_url, notify=None)
+    assert current_revision(db.engine) == head_revision() == "0005"
+    with db.session() as session:
+        assert stock.location_paths(session) == ["C3", "C3/D02"]
+        assert [(v.location, v.quantity) for v in stock.where(session, "ZT303")] == \
+            [("C3/D02", 8)]
+        assert stock.ledger_mismatches(session) == []
+        assert len(stock.ledger(session)) == 3  # history kept, re-pointed to the joined lot
+        stock.receive(session, "ZT303", 1, "c3/d2", condition="nos", create=False)
+        stock.undo(session)
+        stock.set_condition(session, "ZT303", "C3/D2", "used", condition="new")
+    with db.session() as session:
+        from partsdb.services import places
+
+        places.set_label(session, "C3/D2", "Si NPN general")
+        assert [(v.condition, v.quantity, v.label) for v in stock.where(session, "ZT303")] \
+            == [("used", 8, "Si NPN general"), ("nos", 0, "Si NPN general")]
+        assert stock.ledger_mismatches(session) == []
     db.dispose()

@@ -104,10 +104,10 @@ def _workday(url: str, out: Path) -> list[str]:
     steps = [
         ["import", "devices", str(seeds / "devices.csv")],
         ["import", "stock", str(seeds / "stock.csv")],
-        ["stock", "receive", "OC372", "5", "--to", "Bench/Tray"],
+        ["stock", "receive", "OC372", "5", "--to", "Bench/Tray", "--create"],
         ["stock", "take", "OC372", "2", "--from", "Bench/Tray", "--job", "R-12"],
-        ["stock", "move", "OC372", "3", "--from", "Bench/Tray", "--to", "Bench/Tray 2"],
-        ["stock", "return", "OC372", "1", "--to", "Bench/Tray", "--job", "R-12"],
+        ["stock", "move", "OC372", "3", "--from", "Bench/Tray", "--to", "Bench/Tray 2", "--create"],
+        ["stock", "return", "OC372", "1", "--to", "Bench/Tray", "--create", "--job", "R-12"],
         ["stock", "take", "OC372", "50", "--from", "Bench/Tray"],  # refused: too few
         ["stock", "where", "OC372"],
         ["export", "devices", str(out / "devices.csv")],

@@ -34,3 +34,19 @@ def test_schema_head_constant_matches_alembic() -> None:
     from partsdb.storage.database import SCHEMA_HEAD
 
     assert head_revision() == SCHEMA_HEAD
+
+
+def test_lot_conditions_and_reasons_match_the_schema_checks() -> None:
+    """partsdb.lots is the one list; the database's CHECK constraints must allow exactly it."""
+    import re
+
+    from partsdb.lots import CONDITIONS, REASONS
+    from partsdb.storage.models import LotRow, MovementRow
+
+    def allowed(table: object, name: str) -> set[str]:
+        check = next(c for c in table.constraints  # type: ignore[attr-defined]
+                     if getattr(c, "name", None) == name)
+        return set(re.findall(r"'([a-z]+)'", str(check.sqltext)))
+
+    assert allowed(LotRow.__table__, "ck_lots_condition") == set(CONDITIONS)
+    assert allowed(MovementRow.__table__, "ck_movements_reason") == set(REASONS)

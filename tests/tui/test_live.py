@@ -74,6 +74,8 @@ async def test_stock_change_in_the_form_keeps_the_place(shop_db: Any) -> None:
         app.screen.query_one("#sf-to").value = "C5/D1"
         await pilot.press("enter")
         await pilot.pause()
+        await pilot.press("y")  # C5/D1 is new: the form asks before creating it
+        await pilot.pause()
         await pilot.pause()
         assert view.place == "C1/D2"
         assert tree.cursor_node is not None and tree.cursor_node.data == "C1/D2"
