@@ -164,7 +164,7 @@ def tiny_mount(tmp_path: Path) -> Iterator[Path]:
     """A 256 kB tmpfs (Linux, root only): a disk that really fills up, then can go read-only."""
     where = tmp_path / "mnt"
     where.mkdir()
-    made = subprocess.run(["mount", "-t", "tmpfs", "-o", "size=256k", "tmpfs", str(where)],
+    made = subprocess.run(["mount", "-t", "tmpfs", "-o", "size=1m", "tmpfs", str(where)],
                           capture_output=True, check=False)
     if made.returncode != 0:
         pytest.skip("needs root and mount to make a small or read-only file system")
@@ -176,9 +176,9 @@ def tiny_mount(tmp_path: Path) -> Iterator[Path]:
 
 def test_full_disk_and_read_only_mount(shop: Path, tiny_mount: Path) -> None:
     out = tiny_mount / "parts.csv"
-    # 256 kB in all: fill most of it, leaving too little for the export (about 20 kB).
+    # 1 MB in all: fill most of it, leaving too little for the export (about 20 kB).
     keep = tiny_mount / "keep.bin"
-    keep.write_bytes(b"\1" * (240 << 10))
+    keep.write_bytes(b"\1" * (1012 << 10))
     out.write_text("designation\nOLD1\n")
     before = _listing(tiny_mount)
     full = _cli("--db", str(shop), "export", "devices", str(out), "--force")

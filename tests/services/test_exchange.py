@@ -362,7 +362,7 @@ def test_stock_import_reads_each_cell_and_counts_what_changed(empty_db, tmp_path
      r"line 1: unknown column\(s\) 'colour'; known columns are designation, location, quantity"),
     ("designation,quantity\nQR100,5\n", r"line 1: missing required column\(s\) location"),
     ("designation,location,quantity,condition\nQR100,C1/D01,5,mint\n",
-     r"line 2: condition: 'mint' is not valid; expected one of new, used"),
+     r"line 2: condition: 'mint' is not valid; expected one of new, nos, used, pulled, tested"),
     ("designation,location,quantity\nQR100,C1/D01,2.5\n",
      r"line 2: quantity: '2.5' is not valid; expected a whole number from 0 to 1,000,000"),
     ("designation,location,quantity\nQR100,C1//*,2\n",
