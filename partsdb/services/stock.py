@@ -202,7 +202,8 @@ def location_paths(session: Session) -> list[str]:
 def place_labels(session: Session) -> dict[str, str]:
     """Path -> label of every place that has one."""
     return {p: label for p, label in session.execute(
-        select(LocationRow.path, LocationRow.label).where(LocationRow.label.is_not(None)))}
+        select(LocationRow.path, LocationRow.label).where(LocationRow.label.is_not(None)))
+        if label is not None}
 
 
 # ---------------------------------------------------------------- the atomic change

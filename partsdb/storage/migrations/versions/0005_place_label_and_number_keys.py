@@ -80,8 +80,8 @@ def _merge_duplicates(conn: sa.Connection) -> None:
         conn.execute(sa.text("DELETE FROM locations WHERE id = :dup"), {"dup": place_id})
 
 
-def _movements_table(reasons: str, with_undoes: bool) -> list[sa.SchemaItem]:
-    items: list[sa.SchemaItem] = [
+def _movements_table(reasons: str, with_undoes: bool) -> list[sa.schema.SchemaItem]:
+    items: list[sa.schema.SchemaItem] = [
         sa.Column("id", sa.Integer(), primary_key=True),
         sa.Column("at", sa.DateTime(), nullable=False),
         sa.Column("lot_id", sa.Integer(), sa.ForeignKey("lots.id", ondelete="RESTRICT"),
