@@ -179,7 +179,7 @@ def test_place_keys_upgrade_merges_case_duplicates(db_url: str) -> None:
             add("movements", at=AT, lot_id=lot, change=change, reason="receive")
     assert columns  # the insert above used only the 0003 columns
     engine.dispose()
-    db = open_database(db_url, notify=None)
+    db = open_database(db_url, upgrade_schema=True, notify=None)
     assert current_revision(db.engine) == head_revision()
     with db.session() as session:
         assert stock.location_paths(session) == ["C9", "c9/D1"]
@@ -215,7 +215,7 @@ def test_0005_merges_number_duplicates_and_keeps_the_ledger(db_url: str) -> None
             add("movements", at=AT, lot_id=lot, change=change, reason="receive")
         add("movements", at=AT, lot_id=lot_b, change=-1, reason="take", job="J-9")
     engine.dispose()
-    db = open_database(db_url, notify=None)
+    db = open_database(db_url, upgrade_schema=True, notify=None)
     assert current_revision(db.engine) == head_revision() == "0005"
     with db.session() as session:
         assert stock.location_paths(session) == ["C3", "C3/D02"]
