@@ -48,7 +48,10 @@ def labels(state: CliState, places: tuple[str, ...], output: str, paper: str | N
     svc.output_format(output)
     with state.database().session() as session:
         contents = svc.label_contents(session, places)
-    sheets = svc.print_labels(contents, layout, output, force)
+    from partsdb.services.files import protected_files
+
+    sheets = svc.print_labels(contents, layout, output, force,
+                              protected_files(state.database()))
     summary = svc.label_summary(contents, layout, sheets, output)
     if fmt == "json":
         emit_json(summary)

@@ -1,7 +1,7 @@
 """Drawer labels from the stock: which places get one, and drawing them to PDF or SVG.
 
 PDF goes through fpdf2 and the QR codes through segno, both in the optional ``print`` extra
-(``pip install 'partsdb[print]'``); without them the command says so in one line (exit 3).
+(``pip install 'partsdb-drawers[print]'``); without them the command says so in one line (exit 3).
 SVG is written here directly (plain XML, no library needed beyond segno for the codes).
 
 A file is written to a temporary name in the target's folder and renamed into place, so a
@@ -11,8 +11,7 @@ failed run leaves no half-written file; an existing file is refused unless ``for
 from __future__ import annotations
 
 import os
-import tempfile
-from collections.abc import Sequence
+from collections.abc import Iterable, Sequence
 from pathlib import Path
 from typing import Any
 from xml.sax.saxutils import escape
@@ -40,7 +39,7 @@ from partsdb.storage.models import DeviceRow, LocationRow, LotRow
 
 FORMATS = ("pdf", "svg")
 _MISSING = "labels: {what} needs the optional packages fpdf2 and segno; install them with " \
-           "pip install 'partsdb[print]'"
+           "pip install 'partsdb-drawers[print]'"
 
 
 # ---------------------------------------------------------------- what to label
@@ -231,33 +230,19 @@ def output_format(path: str | os.PathLike[str]) -> str:
     return suffix
 
 
-def write_file(path: str | os.PathLike[str], data: bytes, force: bool = False) -> None:
-    """Write ``data`` to ``path`` through a temporary name in the same folder and a rename."""
-    target = Path(path)
-    if target.exists() and not force:
-        raise InvalidInput(f"--output: {os.fspath(path)!r} exists; expected a new file name "
-                           "(or --force to replace it)")
-    folder = target.parent if str(target.parent) else Path(".")
-    if not folder.is_dir():
-        raise InvalidInput(f"--output: folder {os.fspath(folder)!r} does not exist")
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=folder)
-        try:
-            with os.fdopen(fd, "wb") as fh:
-                fh.write(data)
-                fh.flush()
-                os.fsync(fh.fileno())
-            os.replace(tmp, target)
-        except BaseException:
-            Path(tmp).unlink(missing_ok=True)
-            raise
-    except OSError as err:
-        raise EnvironmentProblem(f"--output: cannot write {os.fspath(path)!r} "
-                                 f"({err.strerror})") from err
+def write_file(path: str | os.PathLike[str], data: bytes, force: bool = False,
+               protect: Iterable[Path] = ()) -> None:
+    """Write ``data`` to ``path`` through the one file writer (:mod:`partsdb.services.files`):
+    an existing file only with ``force``, never a database file, temporary name and rename."""
+    from partsdb.services.files import atomic_path
+
+    with atomic_path(path, force=force, protect=protect, what="--output") as tmp:
+        tmp.write_bytes(data)
 
 
 def print_labels(labels: Sequence[LabelContent], layout: SheetLayout,
-                 output: str | os.PathLike[str], force: bool = False) -> int:
+                 output: str | os.PathLike[str], force: bool = False,
+                 protect: Iterable[Path] = ()) -> int:
     """Lay out ``labels`` and write them to ``output`` (.pdf or .svg); returns the sheet count."""
     fmt = output_format(output)
     _require("fpdf" if fmt == "pdf" else None, "segno" if layout.code else None)
@@ -270,7 +255,7 @@ def print_labels(labels: Sequence[LabelContent], layout: SheetLayout,
                 f"--output: {len(labels)} labels fill {len(sheets)} sheets and an SVG file holds "
                 "one; write a .pdf, name fewer places, or use more rows or columns")
         data = render_svg(sheets[0])
-    write_file(output, data, force)
+    write_file(output, data, force, protect)
     return len(sheets)
 
 

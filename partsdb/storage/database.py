@@ -129,7 +129,7 @@ def _supported(url: URL) -> URL:
         if find_spec("psycopg") is None:
             raise DatabaseError("--db: PostgreSQL needs the psycopg driver, which is not "
                                 "installed; install the postgres extra: "
-                                "pip install 'partsdb[postgres]'")
+                                "pip install 'partsdb-drawers[postgres]'")
     return url
 
 

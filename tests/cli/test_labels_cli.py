@@ -167,7 +167,7 @@ def test_missing_print_extra_is_one_line_and_exit_3(run, tmp_path: Path, monkeyp
     assert result.exit_code == 3
     assert result.stderr.strip().splitlines() == [
         "error: labels: PDF output needs the optional packages fpdf2 and segno; install them "
-        "with pip install 'partsdb[print]'"]
+        "with pip install 'partsdb-drawers[print]'"]
     assert not out.exists()
     # An SVG without codes needs neither package.
     assert run("labels", "--no-code", "--output", str(tmp_path / "plain.svg")).exit_code == 0
