@@ -13,7 +13,7 @@ import click
 
 from partsdb import __version__
 from partsdb.cli.common import CliState
-from partsdb.errors import PartsdbError
+from partsdb.errors import EXIT_INVALID, PartsdbError
 
 
 class PartsdbGroup(click.Group):
@@ -22,6 +22,11 @@ class PartsdbGroup(click.Group):
     def invoke(self, ctx: click.Context) -> Any:
         try:
             return super().invoke(ctx)
+        except click.BadParameter as err:
+            # A value that does not read (a unit typo, a bad choice): one line, like every
+            # other refusal, rather than click's usage block.
+            click.echo(f"error: {err.format_message()}", err=True)
+            sys.exit(EXIT_INVALID)
         except (click.exceptions.Exit, click.ClickException, click.Abort):
             raise
         except PartsdbError as err:

@@ -77,7 +77,8 @@ def copy(state: CliState, source: str, target: str, force: bool, allow_empty: bo
               show_default=True,
               help="sqlite: a SQLite file made with SQLite's online backup API (SQLite databases "
                    "only); zip: one CSV per table plus manifest.json, restorable into SQLite or "
-                   "PostgreSQL; auto: sqlite for a SQLite database, zip otherwise.")
+                   "PostgreSQL; auto: zip for a name ending in .zip or a server database, sqlite "
+                   "otherwise.")
 @click.option("--force", is_flag=True, help="Overwrite DEST if it exists.")
 @pass_state
 def backup(state: CliState, dest: str, kind: str, force: bool) -> None:

@@ -37,6 +37,11 @@ def stock() -> None:
     """
 
 
+_NUMBERS_AS_ARGUMENTS = {"ignore_unknown_options": True}
+""""-3" reaches the quantity check (one line naming the limit) instead of click's "no such
+option"; an unknown real option is then an unexpected argument, still exit 2."""
+
+
 def _quantity(text: str | int, allow_zero: bool = False) -> int:
     from partsdb.limits import check_quantity
 
@@ -62,7 +67,7 @@ def _said(verb: str, view: object) -> None:
                f"{view.quantity}{low}")
 
 
-@stock.command("receive")
+@stock.command("receive", context_settings=_NUMBERS_AS_ARGUMENTS)
 @click.argument("designation")
 @click.argument("qty", type=QTY)
 @click.option("--to", "to", required=True, metavar="LOC", help="Place, such as C2/D14.")
@@ -84,7 +89,7 @@ def receive(state: CliState, designation: str, qty: str | int, to: str, conditio
     _said("received", view)
 
 
-@stock.command("take")
+@stock.command("take", context_settings=_NUMBERS_AS_ARGUMENTS)
 @click.argument("designation")
 @click.argument("qty", type=QTY)
 @click.option("--from", "from_", required=True, metavar="LOC", help="Place, such as C2/D14.")
@@ -103,7 +108,7 @@ def take(state: CliState, designation: str, qty: str | int, from_: str, conditio
     _said("took", view)
 
 
-@stock.command("return")
+@stock.command("return", context_settings=_NUMBERS_AS_ARGUMENTS)
 @click.argument("designation")
 @click.argument("qty", type=QTY)
 @click.option("--to", "to", required=True, metavar="LOC")
@@ -126,7 +131,7 @@ def return_(state: CliState, designation: str, qty: str | int, to: str, conditio
     _said("returned", view)
 
 
-@stock.command("move")
+@stock.command("move", context_settings=_NUMBERS_AS_ARGUMENTS)
 @click.argument("designation")
 @click.argument("qty", type=QTY)
 @click.option("--from", "from_", required=True, metavar="LOC")
@@ -148,7 +153,7 @@ def move(state: CliState, designation: str, qty: str | int, from_: str, to: str,
     _said("moved to", target)
 
 
-@stock.command("count")
+@stock.command("count", context_settings=_NUMBERS_AS_ARGUMENTS)
 @click.argument("designation")
 @click.argument("qty", type=QTY)
 @click.option("--at", "at", required=True, metavar="LOC")

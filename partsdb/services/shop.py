@@ -306,10 +306,13 @@ def backup(db: Database, dest: str | os.PathLike[str], fmt: str = "auto",
     from partsdb.services.files import atomic_path, protected_files
 
     path = Path(dest)
-    if fmt == "auto":
-        fmt = "sqlite" if db.dialect == "sqlite" else "zip"
+    if fmt == "auto":  # a name ending in .zip asks for the zip; otherwise the database's own kind
+        fmt = "zip" if path.suffix.lower() == ".zip" or db.dialect != "sqlite" else "sqlite"
     if fmt not in ("sqlite", "zip"):
         raise BackupError(f"backup format: {fmt!r} is not valid; expected auto, sqlite or zip")
+    if fmt == "sqlite" and path.suffix.lower() == ".zip":
+        raise BackupError(f"backup: {str(dest)!r} ends in .zip but --format sqlite writes a "
+                          "SQLite file; expected another name or --format zip")
     if fmt == "sqlite" and db.dialect != "sqlite":
         raise BackupError(f"backup format sqlite needs a SQLite database, not {db.dialect}; "
                           "use the zip format")

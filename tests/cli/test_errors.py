@@ -44,3 +44,20 @@ def test_missing_seed_folder_is_one_line_and_exit_3(tmp_path, monkeypatch) -> No
     assert len(lines) == 1 and lines[0].startswith("error: demo seed files not found")
     assert not target.exists()
 
+
+
+@pytest.mark.parametrize(("args", "expected"), [
+    (["substitute", "--polarity", "npn", "--vce-peak", "40xV"],
+     "error: Invalid value for '--vce-peak': vce_peak: '40xV' is not valid; expected a voltage"),
+    (["check", "QZ1", "--vce", "9", "--ic", "1mA", "--ambient", "hot"],
+     "error: Invalid value for '--ambient'"),
+    (["stock", "receive", "QZ1", "-3", "--to", "C1/D01"],
+     "error: quantity: '-3' is not valid; expected a whole number from 1 to 1,000,000"),
+])
+def test_a_value_that_does_not_read_is_one_line_exit_2(tmp_path, args, expected) -> None:  # type: ignore[no-untyped-def]
+    db = tmp_path / "never.sqlite"
+    result = CliRunner().invoke(main, ["--db", str(db), *args])
+    assert result.exit_code == 2, result.output
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith(expected), lines
+    assert not db.exists()

@@ -459,3 +459,17 @@ def test_damaged_sqlite_backup_is_one_line(shop: Path, tmp_path: Path) -> None:
     result = _cli("--db", str(target), "restore", "--force", str(backup))
     assert result.exit_code == 2 and _one_error_line(result), result.output  # type: ignore[attr-defined]
     assert hashlib.sha256(target.read_bytes()).hexdigest() == before
+
+
+def test_backup_named_zip_is_a_zip(shop: Path, tmp_path: Path) -> None:
+    """A SQLite bench asked for `backup NAME.zip` gets a zip archive (PKZIP APPNOTE 4.3.7: a
+    local file header starts with PK\\x03\\x04), not a SQLite file under a .zip name."""
+    dest = tmp_path / "bench.zip"
+    result = _cli("--db", str(shop), "backup", str(dest))
+    assert result.exit_code == 0, result.output  # type: ignore[attr-defined]
+    assert dest.read_bytes()[:4] == b"PK\x03\x04"
+    plain = tmp_path / "bench.sqlite"
+    assert _cli("--db", str(shop), "backup", str(plain)).exit_code == 0  # type: ignore[attr-defined]
+    assert plain.read_bytes().startswith(b"SQLite format 3\x00")
+    refused = _cli("--db", str(shop), "backup", str(tmp_path / "x.zip"), "--format", "sqlite")
+    assert refused.exit_code == 2 and _one_error_line(refused)  # type: ignore[attr-defined]
