@@ -104,6 +104,24 @@ def _register() -> None:
                     bench.bench, ui.tui):
         main.add_command(command)
     _add_completion(main)
+    _add_late_db(main)
+
+
+def _late_db_given(ctx: click.Context, param: click.Parameter, value: str | None) -> None:
+    if value is not None:
+        ctx.ensure_object(CliState).db_url = value
+
+
+def _add_late_db(group: click.Group) -> None:
+    """`--db` after the command too (`partsdb stock where OC375 --db shop.sqlite`), the same as
+    the global option before it; `demo` has its own."""
+    for command in group.commands.values():
+        if isinstance(command, click.Group):
+            _add_late_db(command)
+        elif not any("--db" in getattr(p, "opts", ()) for p in command.params):
+            command.params.append(click.Option(
+                ["--db", "late_db"], metavar="PATH|URL", expose_value=False, is_eager=True,
+                callback=_late_db_given, help="Database, as the global --db (which it overrides)."))
 
 
 DESIGNATION_PARAMS = frozenset({"designation", "original", "substitute_part", "device_name",

@@ -41,9 +41,34 @@ class CliState:
         if self._db is None:
             from partsdb.storage.database import open_database
 
+            self._refuse_a_new_file_by_mistake()
             self._db = open_database(self.db_url, read_only=self.read_only,
                                      notify=None if self.quiet else _notice)
         return self._db
+
+    def _refuse_a_new_file_by_mistake(self) -> None:
+        """A SQLite file named with --db (or $PARTSDB_DB) that does not exist is created only
+        by the commands that make a database (`init`, `restore`): a typo in the name of a
+        shop's file must not leave a new, empty database behind. The per-user default file is
+        still created on first use."""
+        import os
+        from pathlib import Path
+
+        from partsdb.storage.database import DatabaseError
+
+        named = self.db_url or os.environ.get("PARTSDB_DB")
+        if not named or "://" in named:
+            return
+        ctx = click.get_current_context(silent=True)
+        command = ctx.command.name if ctx is not None else None
+        path = Path(named).expanduser()
+        if command not in CREATING_COMMANDS and not path.exists():
+            raise DatabaseError(f"--db: {named!r} does not exist; expected an existing database "
+                                f"file (`partsdb --db {named} init` creates one)")
+
+
+CREATING_COMMANDS = frozenset({"init", "restore", "demo"})
+"""Commands that may create the SQLite file named by --db."""
 
 
 def _notice(message: str) -> None:

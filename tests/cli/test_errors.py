@@ -61,3 +61,30 @@ def test_a_value_that_does_not_read_is_one_line_exit_2(tmp_path, args, expected)
     lines = result.stderr.strip().splitlines()
     assert len(lines) == 1 and lines[0].startswith(expected), lines
     assert not db.exists()
+
+
+def test_a_mistyped_db_file_is_not_created(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    """A look-up or a change on a --db file that does not exist creates nothing (exit 3, one
+    line naming the file and `init`); `init` creates it."""
+    typo = tmp_path / "shpo.sqlite"
+    for args in (["stock", "where", "OC375"], ["device", "add", "QZ1", "--polarity", "npn"]):
+        result = CliRunner().invoke(main, ["--db", str(typo), *args])
+        assert result.exit_code == 3, result.output
+        assert len(result.stderr.strip().splitlines()) == 1 and "init" in result.stderr
+        assert not typo.exists()
+    assert CliRunner().invoke(main, ["--db", str(typo), "-q", "init"]).exit_code == 0
+    assert typo.exists()
+
+
+def test_db_after_the_command_is_the_same_as_before_it(tmp_path) -> None:  # type: ignore[no-untyped-def]
+    shop = tmp_path / "shop.sqlite"
+    assert CliRunner().invoke(main, ["--db", str(shop), "-q", "init"]).exit_code == 0
+    added = CliRunner().invoke(main, ["device", "add", "QZ7", "--polarity", "npn", "--kind", "bjt",
+                                      "--material", "si",
+                                      "--db", str(shop)])
+    assert added.exit_code == 0, added.output
+    before = CliRunner().invoke(main, ["--db", str(shop), "device", "show", "QZ7",
+                                       "--format", "json"])
+    after = CliRunner().invoke(main, ["device", "show", "QZ7", "--format", "json", "--db",
+                                      str(shop)])
+    assert after.exit_code == 0 and after.stdout == before.stdout

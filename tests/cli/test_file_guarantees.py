@@ -67,6 +67,7 @@ def shop(tmp_path: Path) -> Path:
     """A small SQLite shop (the seed devices and stock) at tmp_path/shop.sqlite."""
     db_path = tmp_path / "shop.sqlite"
     seeds = seed_dir()
+    assert _cli("--db", str(db_path), "-q", "init").exit_code == 0  # type: ignore[attr-defined]
     assert _cli("--db", str(db_path), "-q", "import", "devices",
                 str(seeds / "devices.csv")).exit_code == 0  # type: ignore[attr-defined]
     assert _cli("--db", str(db_path), "-q", "import", "stock",
@@ -440,6 +441,7 @@ def test_passwords_never_printed(url: str) -> None:
 
 
 def test_import_from_empty_standard_input_names_it(tmp_path: Path) -> None:
+    assert _cli("--db", str(tmp_path / "x.sqlite"), "-q", "init").exit_code == 0  # type: ignore[attr-defined]
     result = _cli("--db", str(tmp_path / "x.sqlite"), "-q", "import", "devices", "-", input="")
     assert result.exit_code == 2 and "standard input" in result.output  # type: ignore[attr-defined]
     assert "partsdb-stdin" not in result.output  # type: ignore[attr-defined]
