@@ -21,7 +21,7 @@ KEYS: tuple[tuple[str, str, str], ...] = (
     ("Anywhere", "ctrl+p", "command palette: every main action by name"),
     ("Anywhere", "tab / shift+tab", "next / previous field"),
     ("Anywhere", "ctrl+l", "refresh: re-read the database (changes made elsewhere also show "
-                          "by themselves within about 2 s)"),
+                          "by themselves within about a second)"),
     ("Anywhere", "ctrl+q", "quit"),
     ("Drawers", "r t u m c", "receive, take (with a job ref.), return, move, count the selected lot"),
     ("Drawers", "e", "edit the selected lot's condition or note (written to the ledger)"),

@@ -510,6 +510,7 @@ def ledger(session: Session, designation: str | None = None, location: str | Non
     if designation:
         query = query.where(DeviceRow.id == require_row(session, designation).id)
     if location:
+        require_location(session, location)  # an unknown place is not an empty ledger
         query = query.where(_at_place(location))
     if job:
         # Case-insensitive prefix: "j-26" finds J-2611 and J-2612 (LIKE's wildcards escaped).

@@ -31,3 +31,10 @@ def test_stock_where_json_and_ledger(run) -> None:  # type: ignore[no-untyped-de
     assert {(d["location"], d["quantity"]) for d in data} == {("C2/D14", 6), ("C1/D01", 2)}
     ledger = json.loads(run("stock", "ledger", "QK55", "--job", "J-9", "--format", "json").output)
     assert [(e["reason"], e["change"]) for e in ledger] == [("take", -3)]
+
+
+def test_ledger_at_an_unknown_place_is_not_found(run) -> None:  # type: ignore[no-untyped-def]
+    """`--at` names a place: one that does not exist is exit 1, as `take --from` is, not an
+    empty ledger that looks like a quiet drawer."""
+    result = run("stock", "ledger", "--at", "C9")
+    assert result.exit_code == 1 and "location 'C9' not found" in result.output
