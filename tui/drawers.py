@@ -203,10 +203,10 @@ class DrawersView(Horizontal):
 
     def action_undo(self) -> None:
         """Undo the last movement, after a confirmation that names what it reverses."""
-        from partsdb.services import stock
+        from partsdb.services import corrections
 
         with self.db.session() as session:
-            last = stock.last_undoable(session)
+            last = corrections.last_undoable(session)
         if last is None:
             self.notify("Nothing to undo.", severity="warning")
             return
@@ -222,10 +222,10 @@ class DrawersView(Horizontal):
 
     def _undo(self, movement_id: int) -> None:
         from partsdb.errors import PartsdbError
-        from partsdb.services import stock
+        from partsdb.services import corrections
 
         try:
-            report = self.db.transact(lambda session: stock.undo(session, movement_id))
+            report = self.db.transact(lambda session: corrections.undo(session, movement_id))
         except PartsdbError as err:
             self.notify(str(err), severity="error")
             return

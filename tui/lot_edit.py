@@ -56,7 +56,7 @@ class LotEditForm(ModalScreen[str | None]):
     @on(Button.Pressed, "#ok")
     def action_submit(self) -> None:
         from partsdb.errors import PartsdbError
-        from partsdb.services import stock
+        from partsdb.services import corrections
 
         lot = self.lot
         condition = self.query_one("#le-condition", Input).value.strip().lower()
@@ -65,10 +65,10 @@ class LotEditForm(ModalScreen[str | None]):
         try:
             with self.db.session() as session:
                 if note != (lot.note or ""):
-                    stock.set_note(session, lot.designation, lot.location, note, lot.condition)
+                    corrections.set_note(session, lot.designation, lot.location, note, lot.condition)
                     changed.append("note")
                 if condition != lot.condition:
-                    stock.set_condition(session, lot.designation, lot.location, condition,
+                    corrections.set_condition(session, lot.designation, lot.location, condition,
                                         lot.condition)
                     changed.append(f"condition {lot.condition} -> {condition}")
         except PartsdbError as err:

@@ -282,11 +282,11 @@ def undo(state: CliState, movement_id: str | None, fmt: str) -> None:
     movement was undone already or the reversal would take a lot below zero.
     """
     from partsdb.limits import check_whole
-    from partsdb.services import stock as svc
+    from partsdb.services import corrections
 
     wanted = None if movement_id is None else check_whole(movement_id, "MOVEMENT_ID", 1,
                                                           2**63 - 1)
-    report = state.database().transact(lambda session: svc.undo(session, wanted))
+    report = state.database().transact(lambda session: corrections.undo(session, wanted))
     if fmt == "json":
         emit_json(report.to_json())
         return
@@ -314,9 +314,9 @@ def set_condition(state: CliState, designation: str, new_condition: str, at: str
                   condition: str | None, job: str | None, fmt: str) -> None:
     """Change a lot's condition (an 'edit' ledger entry). Conditions: new, nos (new old
     stock), used, pulled, tested."""
-    from partsdb.services import stock as svc
+    from partsdb.services import corrections
 
-    view = state.database().transact(lambda session: svc.set_condition(
+    view = state.database().transact(lambda session: corrections.set_condition(
         session, designation, at, new_condition.lower(), condition, job))
     if fmt == "json":
         emit_json(view.to_json())
@@ -334,10 +334,10 @@ def set_condition(state: CliState, designation: str, new_condition: str, at: str
 def note(state: CliState, designation: str, text: str, at: str, condition: str | None,
          fmt: str) -> None:
     """Change a lot's note ("" clears it); the old and new text go to the ledger."""
-    from partsdb.services import stock as svc
+    from partsdb.services import corrections
 
     view = state.database().transact(
-        lambda session: svc.set_note(session, designation, at, text, condition))
+        lambda session: corrections.set_note(session, designation, at, text, condition))
     if fmt == "json":
         emit_json(view.to_json())
     else:

@@ -7,7 +7,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from partsdb.limits import MAX_MOVEMENT
-from partsdb.services import catalog, stock
+from partsdb.services import catalog, corrections, stock
 from partsdb.services.stock import StockError
 from partsdb.storage.database import open_database
 
@@ -269,7 +269,7 @@ def test_undo_reverses_the_last_movement_like_a_reversing_entry(tmp_path_factory
                     _view, change = stock.count(session, part, qty, a, "new")
                     effect = {(part, a): change}
                 else:
-                    report = stock.undo(session)
+                    report = corrections.undo(session)
                     last = done[-1]
                     assert sorted(e.change for e in report.written) == \
                         sorted(-d for d in last.values())

@@ -21,7 +21,7 @@ from click.testing import CliRunner
 from sqlalchemy import func, select
 
 from partsdb.cli import main
-from partsdb.services import stock
+from partsdb.services import corrections, stock
 from partsdb.storage.database import open_database
 from partsdb.storage.models import LotRow, MovementRow
 from tests.storage.workers import Worker, seed_shop
@@ -194,7 +194,7 @@ def test_one_movement_is_undone_once_when_benches_race(db_url: str) -> None:
         other = open_database(db_url, notify=None)
         start.wait()
         try:
-            other.transact(lambda session: stock.undo(session, target.id))
+            other.transact(lambda session: corrections.undo(session, target.id))
             outcomes.append("ok")
         except stock.StockError as err:
             outcomes.append("refused" if "undone" in str(err) else f"other: {err}")

@@ -16,7 +16,7 @@ from click.testing import CliRunner
 from sqlalchemy import insert, inspect, select, text
 
 from partsdb.cli import main
-from partsdb.services import stock
+from partsdb.services import corrections, stock
 from partsdb.storage.database import (
     ReadOnlyError,
     SchemaMismatch,
@@ -224,8 +224,8 @@ def test_0005_merges_number_duplicates_and_keeps_the_ledger(db_url: str) -> None
         assert stock.ledger_mismatches(session) == []
         assert len(stock.ledger(session)) == 3  # history kept, re-pointed to the joined lot
         stock.receive(session, "ZT303", 1, "c3/d2", condition="nos", create=False)
-        stock.undo(session)
-        stock.set_condition(session, "ZT303", "C3/D2", "used", condition="new")
+        corrections.undo(session)
+        corrections.set_condition(session, "ZT303", "C3/D2", "used", condition="new")
     with db.session() as session:
         from partsdb.services import places
 
