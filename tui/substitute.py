@@ -33,7 +33,8 @@ if TYPE_CHECKING:
     from partsdb.storage.database import Database
 
 STATUS_STYLE = {"ok": "green", "suitable": "green", "marginal": "yellow",
-                "unverified": "magenta", "under-rated": "bold red", "incompatible": "red", "unknown": "dim", "flag": "yellow"}
+                "unverified": "magenta", "under-rated": "bold red", "incompatible": "red",
+                "unknown": "dim", "flag": "yellow"}
 RANK_LIMIT = 30
 
 
