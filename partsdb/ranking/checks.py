@@ -139,9 +139,9 @@ def headroom_score_stressed(h: np.ndarray, factor: Any) -> np.ndarray:
     (h = 1/f), 1.0 at twice the limit.
     """
     if np.ndim(factor) == 0:
-        inv = 1.0 / float(factor)
-        if inv > 1.0:
-            return _piecewise(h, (0.0, 1.0, inv, 2.0 * inv), (0.0, 0.3, 0.7, 1.0))
+        inv_f = 1.0 / float(factor)
+        if inv_f > 1.0:
+            return _piecewise(h, (0.0, 1.0, inv_f, 2.0 * inv_f), (0.0, 0.3, 0.7, 1.0))
         return headroom_score_plain(h)
     inv = 1.0 / np.asarray(factor, dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -319,8 +319,8 @@ def _thermal_columns(cat: CatalogColumns, req: Requirement, stress: Stress, poli
         cols["ptot"] = col
     else:
         if case.shape[0]:
-            sink = stress.heatsink if mode == "given" else None
-            rc = rth_c + case_to_ambient(sink, rcs_c, free_air_c)
+            given_sink = stress.heatsink if mode == "given" else None
+            rc = rth_c + case_to_ambient(given_sink, rcs_c, free_air_c)
             rth = rth.copy()
             rth[case] = rc
             allowed[case] = chain_power(ptot_c, tj_c, ta, rc)
@@ -395,6 +395,7 @@ def check_columns(cat: CatalogColumns, req: Requirement, stress: Stress, policy:
             # Much faster than the original (or the need) is no better: the sub-score falls
             # beyond FT_FAST_FACTOR times, to half marks at ten times that (common practice).
             ref = req.ft if req.ft is not None else ft_need
+            assert ref is not None  # the need is known here (basis not "none")
             with np.errstate(invalid="ignore", divide="ignore"):
                 over = np.log10(cat.ft / (FT_FAST_FACTOR * ref))
             fall = np.where(over > 0, 1.0 - 0.5 * np.minimum(over, 1.0), 1.0)

@@ -113,7 +113,7 @@ class CatalogColumns:
             else:
                 pin_list.append(-1)
         numbers = {"vebo": [None] * n, "hfe_ic": [None] * n, **numbers}
-        num = {name: arr(_floats(numbers[name], n) if not isinstance(numbers[name], np.ndarray)
+        num: dict[str, Any] = {name: arr(_floats(numbers[name], n) if not isinstance(numbers[name], np.ndarray)
                          else numbers[name].astype(float))
                for name in NUMBERS}
         return cls(

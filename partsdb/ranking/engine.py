@@ -179,9 +179,9 @@ def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | Non
     # The original itself is left out of its own list (by position, without a gather).
     exclude: int | None = None
     if original is not None:
-        at = int(np.searchsorted(rows, original))
-        if at < rows.shape[0] and rows[at] == original:
-            exclude = at
+        place = int(np.searchsorted(rows, original))
+        if place < rows.shape[0] and rows[place] == original:
+            exclude = place
     scored = group_scores(view, rows, requirement, stress, policy, weights, stock_qty, hist,
                            limit, keep, exclude)
     at = scored.positions

@@ -10,6 +10,7 @@ verdict to the rows, bit for bit what :func:`partsdb.ranking.checks.evaluate` gi
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
+from typing import Literal
 from dataclasses import dataclass
 
 import numpy as np
@@ -130,7 +131,7 @@ class Scores:
     rows left out cannot be among the best ``limit`` (see :func:`group_scores`)."""
 
 
-_FAST = "clip"
+_FAST: Literal["clip"] = "clip"
 """Gather mode: every code is in range by construction, and numpy's bounds-checking default
 ("raise") makes each gather over the group about 1.6 times slower."""
 
@@ -247,9 +248,9 @@ def group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress
         # (no pass over the whole group), then the other blocks on those rows only.
         ok = np.flatnonzero(joint_v == 0)
         lo, count = joint.start[ok], joint.start[ok + 1] - joint.start[ok]
-        total = int(count.sum())
+        n_within = int(count.sum())
         ends = np.cumsum(count)
-        within = joint.order.take(np.repeat(lo - (ends - count), count) + np.arange(total))
+        within = joint.order.take(np.repeat(lo - (ends - count), count) + np.arange(n_within))
         for block, part_v in zip(blocks, part_vs, strict=False):
             within = within[part_v.take(block.codes.take(within)) == 0]
         within = within[unknown_at(within) <= most]

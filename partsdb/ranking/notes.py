@@ -161,7 +161,7 @@ def rating_note(name: str, basis: str, need: float | None, offered: float | None
         if basis == "gain-bandwidth-capped":
             return (f"fT {fmt(offered, 'Hz')} against the original's {fmt(need, 'Hz')} (hFE min "
                     f"x f = {req.hfe_min:g} x {fmt(stress.freq, 'Hz')} = "
-                    f"{fmt(req.hfe_min * (stress.freq or 0.0), 'Hz')} is more than the original "
+                    f"{fmt((req.hfe_min or 0.0) * (stress.freq or 0.0), 'Hz')} is more than the original "
                     "offers, so the need is capped at the original's fT)")
         return (f"fT {fmt(offered, 'Hz')} against the original's {fmt(need, 'Hz')}"
                 + (" (no hFE min known, so --freq was not used)"
