@@ -7,27 +7,42 @@ Statuses are :func:`partsdb.derating.grade` codes.
 Checks, one per parameter and candidate (status ``ok`` / ``marginal`` / ``under-rated`` /
 ``unknown``):
 
-* **Ratings** (vceo, vcbo, ic_max, ptot). Without a circuit stress the need is the original's
-  rating and a lower rating is ``under-rated``. With a stress (``--vce-peak`` for vceo and vcbo,
-  ``--ic-peak`` for ic_max, ``--power`` for ptot) the stress is the need, graded by the rule of
-  :func:`partsdb.derating.grade`: at most factor x rating ``ok``, up to the rating
-  ``marginal``, above it ``under-rated``; being below the original's rating is then only a flag.
-  Ptot is compared as the power allowed at the ambient: linear derating to Tj max for a free-air
-  rating, the thermal chain with the heat sink for a case rating (:mod:`partsdb.thermal`).
+* **Ratings** (vceo, vcbo, vebo, ic_max, ptot). Without a circuit stress the need is the
+  original's rating and a lower rating is ``under-rated``. With a stress (``--vce-peak`` for
+  vceo and vcbo, ``--ic-peak`` for ic_max, ``--power`` for ptot) the stress is the need, graded
+  by the rule of :func:`partsdb.derating.grade` (boundaries with a relative tolerance): at most
+  factor x rating ``ok``, up to the rating ``marginal``, above it ``under-rated``; being below
+  the original's rating is then only a flag. Vebo (the reverse base-emitter voltage) is needed
+  at the original's value: a silicon part for a germanium one often fails it.
+* **ptot**, by :func:`sink_mode`. Free-air ratings derate linearly to Tj max. Case ratings go
+  through Rth j-c + c-s + s-a (:mod:`partsdb.thermal`, mounting c-s per outline class):
+  ``given`` one sink; ``free-air`` the bare outline; ``sweep`` (a case-rated original, no sink
+  given) the substitute on the original's sink, compared over :data:`partsdb.thermal.SINK_SWEEP`
+  and graded on the worst ratio; ``needed`` (``--power`` and no sink given) the largest sink
+  that keeps Tj within the policy is reported (:func:`partsdb.thermal.heatsink_needed`), and a
+  case-rated part is ``under-rated`` only when even an ideal sink is not enough.
 * **tj_max**. With a power stress the junction temperature is estimated, Tj = Ta + P x Rth, and
-  graded against the policy's Tj limit (ok), Tj max (marginal), above (under-rated). Without
-  one, a lower Tj max than the original's is under-rated.
-* **ft**. The need is the original's f_T or, with ``--freq f``, hFE min x f: above f_beta the
-  gain falls as f_T / f, so a stage needing gain G at f needs f_T >= G x f (gain-bandwidth,
-  textbook: |hfe| = hfe0 / (1 + j f / f_beta), f_T = hfe0 x f_beta).
-* **hfe**. Windows compared on a log scale: no overlap, or a minimum below half the needed
-  minimum, is ``marginal`` (common practice); a minimum above three times the needed maximum is
-  flagged as an instability risk (common practice).
+  graded against the policy's Tj limit (ok), Tj max (marginal), above (under-rated); a
+  case-rated part with no sink given has no estimate and takes the ptot check's result. Without
+  one, a lower Tj max than the original's is under-rated. An ambient at or above Tj max is
+  ``under-rated`` in every case.
+* **ft**. The need is the original's f_T or, with ``--freq f``, hFE min x f capped at the
+  original's f_T: above f_beta the gain falls as f_T / f, so a stage needing gain G at f needs
+  f_T >= G x f (gain-bandwidth, textbook: |hfe| = hfe0 / (1 + j f / f_beta), f_T = hfe0 x
+  f_beta), but the original met its own stage. Beyond 10x the original's f_T (or the need) the
+  sub-score falls, to half marks at 100x (common practice: a much faster part may oscillate).
+* **hfe**. Windows compared on a log scale: wholly below the need, or a minimum below half the
+  needed minimum, is ``under-rated``; reaching below the needed minimum, or wholly above the
+  need, ``marginal`` (common practice); test currents more than a decade apart make it at best
+  ``marginal``. A minimum above three times the needed maximum is flagged as an instability
+  risk (common practice).
 * **package**, **pinout**, **material**: same is ``ok``; a different outline, lead order or
   material needs work at the bench and is ``marginal`` (with what to do in the note).
-* A value missing on either side is ``unknown`` and lowers the candidate's confidence figure;
-  an unknown Vceo, Ic max or Ptot against a known need makes the verdict at least marginal
-  (the part cannot be confirmed), so missing data is never silently ok.
+* A value missing on either side is ``unknown`` and lowers the candidate's confidence (the share
+  of the checks with a need whose values are known); an unknown Vceo, Ic max or Ptot against a
+  known need makes the verdict ``unverified`` (the part cannot be confirmed), and a confidence
+  under the policy's ``min_confidence`` keeps the candidate from ``suitable``, so missing data
+  is never silently ok.
 
 Sub-scores (0..1, monotone non-decreasing in the candidate's headroom on every rating):
 

@@ -113,9 +113,10 @@ class CatalogColumns:
             else:
                 pin_list.append(-1)
         numbers = {"vebo": [None] * n, "hfe_ic": [None] * n, **numbers}
-        num: dict[str, Any] = {name: arr(_floats(numbers[name], n) if not isinstance(numbers[name], np.ndarray)
-                         else numbers[name].astype(float))
-               for name in NUMBERS}
+        num: dict[str, Any] = {
+            name: arr(_floats(numbers[name], n) if not isinstance(numbers[name], np.ndarray)
+                      else numbers[name].astype(float))
+            for name in NUMBERS}
         return cls(
             designation=arr(list(designation)), key=arr(keys),
             polarity=arr(_codes(polarity, POLARITIES)), kind=arr(_codes(kind, KINDS)),

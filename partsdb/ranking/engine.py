@@ -306,6 +306,8 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
     free_air = cat.free_air.take(grows).astype(float).tolist()
     tj_eff = cat.tj_effective.take(grows).astype(float).tolist()
     allowed = pick(ev.allowed_power).astype(float).tolist()
+    extra = ev.columns["ptot"].extra
+    sink_needed = [None] * k if extra is None else _floats_or_none(pick(extra))
     out = []
     for j in range(k):
         dev = devs[j]
@@ -314,7 +316,7 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
         if rejected is not None:
             flags.append(Flag("incompatible", f"not a substitute: {rejected[j]}"))
         _flags(flags, dev, req, stress, needs["ft"][j], case_rated[j], free_air[j],
-               allowed[j], tj_eff[j], sink_mode(req, stress))
+               allowed[j], tj_eff[j], sink_mode(req, stress), sink_needed[j])
         past = (history or {}).get(key)
         if past is not None and (past.worked or past.failed):
             jobs = f" (jobs {', '.join(past.jobs)})" if past.jobs else ""
@@ -357,7 +359,8 @@ def _shown(name: str, value: float | None, source: Requirement | Mapping[str, An
 
 def _flags(flags: list[Flag], dev: dict[str, Any], req: Requirement,
            stress: Stress, ft_need: float | None, case_rated: bool, free_air: float,
-           allowed: float, tj_effective: float, mode: str) -> None:
+           allowed: float, tj_effective: float, mode: str,
+           sink_needed: float | None = None) -> None:
     """The flags of one candidate: facts no check covers (a fit that needs work, or a gain far
     off the need, is its check's status, note and code, not a flag)."""
     for name, stressed in (("vceo", stress.vce_peak), ("vcbo", stress.vce_peak),
@@ -369,7 +372,8 @@ def _flags(flags: list[Flag], dev: dict[str, Any], req: Requirement,
             flags.append(Flag("below-original", below_original(name, offered, original)))
     if case_rated and dev["ptot"] is not None:
         flags.append(Flag("case-rating-converted",
-                          case_rating_message(dev, stress, free_air, allowed, mode)))
+                          case_rating_message(dev, stress, free_air, allowed, mode,
+                                              sink_needed)))
     if dev["tj_max"] is None and dev["ptot"] is not None:
         flags.append(Flag("tj-assumed", f"Tj max not in the record: {tj_effective:g} °C "
                                         f"assumed for {dev['material']} to derate Ptot"))

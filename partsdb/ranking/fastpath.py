@@ -10,8 +10,8 @@ verdict to the rows, bit for bit what :func:`partsdb.ranking.checks.evaluate` gi
 from __future__ import annotations
 
 from collections.abc import Callable, Sequence
-from typing import Literal
 from dataclasses import dataclass
+from typing import Literal
 
 import numpy as np
 

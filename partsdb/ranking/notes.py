@@ -190,16 +190,20 @@ def below_original(name: str, offered: float, original: float) -> str:
 
 
 def case_rating_message(dev: dict[str, Any], stress: Stress, free_air: float,
-                         allowed: float, mode: str = "free-air") -> str:
+                         allowed: float, mode: str = "free-air",
+                         sink_needed: float | None = None) -> str:
     mounting = mounting_resistance(dev["package"])
     if mode == "sweep":
         return (f"Ptot {fmt(dev['ptot'], 'W')} is a case rating; assumed on the original's heat "
                 f"sink ({mounting:g} K/W case-to-sink for its outline class), worst case "
                 f"{fmt(allowed, 'W')} at {stress.ambient:g} °C")
     if mode == "needed":
-        return (f"Ptot {fmt(dev['ptot'], 'W')} is a case rating; no heat sink given, so the "
-                f"sink it needs is reported ({mounting:g} K/W case-to-sink for its outline "
-                "class)")
+        need = ("no heat sink needed" if sink_needed is None else
+                "no heat sink is enough" if sink_needed <= 0 else
+                f"needs a heat sink of {sink_needed:.2g} K/W or better")
+        return (f"Ptot {fmt(dev['ptot'], 'W')} is a case rating and no heat sink was given: "
+                f"{need} at {fmt(stress.power, 'W')} ({mounting:g} K/W case-to-sink for its "
+                "outline class)")
     sink = (f"heat sink {stress.heatsink:g} K/W + {mounting:g} K/W case-to-sink"
             if mode == "given" and stress.heatsink is not None else
             f"no heat sink: {free_air:g} K/W case-to-ambient in free air "
