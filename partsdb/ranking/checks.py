@@ -13,7 +13,8 @@ Checks, one per parameter and candidate (status ``ok`` / ``marginal`` / ``under-
   by the rule of :func:`partsdb.derating.grade` (boundaries with a relative tolerance): at most
   factor x rating ``ok``, up to the rating ``marginal``, above it ``under-rated``; being below
   the original's rating is then only a flag. Vebo (the reverse base-emitter voltage) is needed
-  at the original's value: a silicon part for a germanium one often fails it.
+  at the original's value (or ``--veb-peak`` as a stress): a silicon part for a germanium one
+  often fails it.
 * **ptot**, by :func:`sink_mode`. Free-air ratings derate linearly to Tj max. Case ratings go
   through Rth j-c + c-s + s-a (:mod:`partsdb.thermal`, mounting c-s per outline class):
   ``given`` one sink; ``free-air`` the bare outline; ``sweep`` (a case-rated original, no sink
@@ -392,8 +393,8 @@ def check_columns(cat: CatalogColumns, req: Requirement, stress: Stress, policy:
         # Vcb is Vce minus Vbe: the Vce peak bounds it, so it is the stress on Vcbo too.
         cols["vcbo"] = _rating_column(cat.vcbo, req.vcbo, stress.vce_peak, policy.voltage)
     if "vebo" in names:
-        # The reverse base-emitter voltage: the original's Vebo is the need.
-        cols["vebo"] = _rating_column(cat.vebo, req.vebo, None, policy.voltage)
+        # The reverse base-emitter voltage: --veb-peak, or else the original's Vebo, is the need.
+        cols["vebo"] = _rating_column(cat.vebo, req.vebo, stress.veb_peak, policy.voltage)
     if "ic_max" in names:
         cols["ic_max"] = _rating_column(cat.ic_max, req.ic_max, stress.ic_peak, policy.current)
 

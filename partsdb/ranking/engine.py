@@ -364,7 +364,7 @@ def _flags(flags: list[Flag], dev: dict[str, Any], req: Requirement,
     """The flags of one candidate: facts no check covers (a fit that needs work, or a gain far
     off the need, is its check's status, note and code, not a flag)."""
     for name, stressed in (("vceo", stress.vce_peak), ("vcbo", stress.vce_peak),
-                           ("ic_max", stress.ic_peak)):
+                           ("vebo", stress.veb_peak), ("ic_max", stress.ic_peak)):
         original = getattr(req, name)
         offered = dev[name]
         if stressed is not None and original is not None and offered is not None \

@@ -174,6 +174,8 @@ class Stress:
     """
 
     vce_peak: float | None = None
+    veb_peak: float | None = None
+    """Highest reverse base-emitter voltage, V (the need on Vebo)."""
     ic_peak: float | None = None
     power: float | None = None
     """Dissipation in the part, W."""

@@ -60,7 +60,8 @@ def stresses(draw: Any) -> Stress:
     def maybe(strategy: Any) -> Any:
         return draw(st.one_of(st.none(), strategy))
 
-    return Stress(vce_peak=maybe(st.floats(1, 400)), ic_peak=maybe(st.floats(1e-3, 10)),
+    return Stress(vce_peak=maybe(st.floats(1, 400)), veb_peak=maybe(st.floats(0.5, 30)),
+                  ic_peak=maybe(st.floats(1e-3, 10)),
                   power=maybe(st.floats(1e-3, 20)), ambient=draw(st.floats(25, 70)),
                   freq=maybe(st.floats(100, 1e6)),
                   heatsink=maybe(st.one_of(st.floats(0.5, 20), st.just(HEATSINK_FREE_AIR))))

@@ -146,6 +146,21 @@ def test_vebo_below_the_originals_is_under_rated_and_the_ge_note_says_so() -> No
         == "unknown"
 
 
+def test_veb_peak_is_the_vebo_need_when_given() -> None:
+    # Graded like the other voltages (MIL-STD-975M Appendix A: voltage 0.75 x rating): 3.75 V
+    # on a 5 V Vebo is at the limit, 4 V marginal, 6 V under-rated.
+    ge = part("QG376", polarity="pnp", material="ge", vebo=12.0, ptot=0.15, ptot_ref="ambient",
+              tj_max=75.0, package="TO-1", pinout="EBC")
+    si = part("QS959", polarity="pnp", vebo=5.0, ptot=0.3, ptot_ref="ambient", package="TO-1",
+              pinout="EBC")
+    mil = BUILTIN_POLICIES["mil-std-975m"]
+    req = Requirement.from_device(ge)
+    for veb, status in ((3.75, "ok"), (4.0, "marginal"), (5.0, "marginal"), (6.0, "under-rated")):
+        c = assess(si, req, Stress(veb_peak=veb), mil)
+        assert (c.check("vebo").need, c.check("vebo").status) == (veb, status)
+    assert "below-original" in assess(si, req, Stress(veb_peak=3.0), mil).flag_codes()
+
+
 def replace_vebo(dev: Device, vebo: float | None) -> Device:
     from dataclasses import replace
 

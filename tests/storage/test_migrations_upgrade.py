@@ -179,7 +179,7 @@ def test_place_keys_upgrade_merges_case_duplicates(db_url: str) -> None:
     assert columns  # the insert above used only the 0003 columns
     engine.dispose()
     db = open_database(db_url, notify=None)
-    assert current_revision(db.engine) == "0004"
+    assert current_revision(db.engine) == head_revision()
     with db.session() as session:
         assert stock.location_paths(session) == ["C9", "c9/D1"]
         held = {(v.location, v.condition): v.quantity for v in stock.where(session, "ZT303")}
@@ -190,4 +190,33 @@ def test_place_keys_upgrade_merges_case_duplicates(db_url: str) -> None:
         stock.receive(session, "ZT303", 1, "C9/d1")
         assert stock.location_paths(session) == ["C9", "c9/D1"]
         assert stock.find_location(session, "C9/D1").parent_id == first  # type: ignore[union-attr]
+    db.dispose()
+
+
+def test_swap_veb_peak_upgrade_keeps_the_recorded_swaps(db_url: str) -> None:
+    """0004 -> 0005: the swap log gains veb_peak (--veb-peak); a swap recorded before keeps
+    every value and reads back with no reverse base voltage given."""
+    from partsdb.services import swaplog
+
+    engine = make_engine(resolve_url(db_url))
+    upgrade(engine, "0004")
+    t = Base.metadata.tables
+    with engine.begin() as conn:
+        conn.execute(insert(t["devices"]).values(
+            designation="ZT303", key="ZT303", kind="bjt", polarity="npn", material="si",
+            obsolete=False, updated_at=AT))
+        conn.execute(text(
+            "INSERT INTO swaps (at, original, original_key, substitute, substitute_key, job, "
+            "outcome, vce_peak, ic_peak, power, ambient, freq, heatsink, policy, note) VALUES "
+            "(:at, 'ZT300', 'ZT300', 'ZT303', 'ZT303', 'J-7', 'worked', 18.0, 0.05, NULL, 40.0, "
+            "NULL, 2.5, 'workshop', 'old row')"), {"at": AT})
+    engine.dispose()
+    db = open_database(db_url, notify=None)
+    assert current_revision(db.engine) == "0005"
+    with db.session() as session:
+        (view,) = swaplog.list_swaps(session)
+        assert (view.original, view.substitute, view.job, view.outcome, view.note) == (
+            "ZT300", "ZT303", "J-7", "worked", "old row")
+        assert (view.stress.vce_peak, view.stress.ic_peak, view.stress.ambient,
+                view.stress.heatsink, view.stress.veb_peak) == (18.0, 0.05, 40.0, 2.5, None)
     db.dispose()

@@ -520,7 +520,7 @@ async def test_substitute_offers_every_stress_the_cli_offers(shop_db: Any) -> No
     app = build_app(shop_db, start="substitute", cursor_blink=False)
     async with app.run_test(size=SIZE) as pilot:
         view = app.view("substitute")
-        typed = {"vce_peak": "18V", "ic_peak": "50mA", "power": "100mW", "ambient": "40",
+        typed = {"vce_peak": "18V", "veb_peak": "6V", "ic_peak": "50mA", "power": "100mW", "ambient": "40",
                  "freq": "20kHz", "heatsink": "5"}
         assert set(typed) == {row.name for row in STRESS_FIELDS}
         for name, text in typed.items():
@@ -530,8 +530,8 @@ async def test_substitute_offers_every_stress_the_cli_offers(shop_db: Any) -> No
         await type_text(pilot, "qx3301")
         await pilot.press("enter")
         await pilot.pause()
-        assert view.result.stress == Stress(vce_peak=18.0, ic_peak=0.05, power=0.1, ambient=40.0,
-                                            freq=2e4, heatsink=5.0)
+        assert view.result.stress == Stress(vce_peak=18.0, veb_peak=6.0, ic_peak=0.05, power=0.1,
+                                            ambient=40.0, freq=2e4, heatsink=5.0)
         # The frequency sets the fT need by gain-bandwidth (hFE min x f).
         ft = view.result.candidates[0].check("ft")
         assert ft.need == pytest.approx(view.result.requirement.hfe_min * 2e4)
