@@ -210,6 +210,7 @@ def test_swap_veb_peak_upgrade_keeps_the_recorded_swaps(db_url: str) -> None:
             "outcome, vce_peak, ic_peak, power, ambient, freq, heatsink, policy, note) VALUES "
             "(:at, 'ZT300', 'ZT300', 'ZT303', 'ZT303', 'J-7', 'worked', 18.0, 0.05, NULL, 40.0, "
             "NULL, 2.5, 'workshop', 'old row')"), {"at": AT})
+    upgrade(engine)  # explicit, as `partsdb upgrade` does (a shared PostgreSQL database)
     engine.dispose()
     db = open_database(db_url, notify=None)
     assert current_revision(db.engine) == "0005"
