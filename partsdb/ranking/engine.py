@@ -317,6 +317,13 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
             flags.append(Flag("incompatible", f"not a substitute: {rejected[j]}"))
         _flags(flags, dev, req, stress, needs["ft"][j], case_rated[j], free_air[j],
                allowed[j], tj_eff[j], sink_mode(req, stress), sink_needed[j])
+        confidence = known[j] / applicable[j] if applicable[j] else 1.0
+        if confidence < policy.min_confidence - 1e-9:
+            flags.append(Flag("low-confidence",
+                              f"only {known[j]} of {applicable[j]} checks could be compared "
+                              f"({confidence:.0%}, {policy.name} asks for at least "
+                              f"{policy.min_confidence:.0%}): at best marginal; read the "
+                              "datasheet for the missing values"))
         past = (history or {}).get(key)
         if past is not None and (past.worked or past.failed):
             jobs = f" (jobs {', '.join(past.jobs)})" if past.jobs else ""
@@ -337,7 +344,7 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
             dev["designation"], key, score[j],
             VERDICTS[INCOMPATIBLE] if rejected is not None else VERDICTS[verdict[j]], qty,
             tuple((locations or {}).get(key, ())) if qty > 0 else (), tuple(checks[j]),
-            tuple(flags), known[j] / applicable[j] if applicable[j] else 1.0, row_subs, dev,
+            tuple(flags), confidence, row_subs, dev,
             shown[j], parts, full))
     return out
 

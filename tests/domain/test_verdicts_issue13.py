@@ -247,6 +247,7 @@ def test_low_confidence_keeps_a_part_from_suitable() -> None:
     c = assess(half, Requirement.from_device(orig))
     assert c.confidence < 0.70
     assert c.verdict == "marginal"
+    assert "low-confidence" in c.flag_codes()
     lenient = policy_from_mapping("lenient", {"min_confidence": 0.5})
     assert assess(half, Requirement.from_device(orig), policy=lenient).verdict == "suitable"
 
