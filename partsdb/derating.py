@@ -22,9 +22,19 @@ from partsdb.errors import InvalidInput
 STATUSES: tuple[str, ...] = ("ok", "marginal", "under-rated", "unknown")
 """The status of one check, by code: :func:`grade` returns the index into this tuple."""
 OK, MARGINAL, UNDER, UNKNOWN = 0, 1, 2, 3
-VERDICTS: tuple[str, ...] = ("suitable", "marginal", "under-rated", "incompatible")
-"""A candidate's verdict: its worst check (ok and unknown: suitable), or incompatible when the
-polarity or kind is wrong."""
+VERDICTS: tuple[str, ...] = ("suitable", "marginal", "unverified", "under-rated", "incompatible")
+"""A candidate's verdict, in ranking order: its worst check (ok and unknown: suitable);
+``unverified`` when its Vceo, Ic max or Ptot is unknown where the need is known (it cannot be
+confirmed); ``incompatible`` when the polarity or kind is wrong."""
+SUITABLE, V_MARGINAL, UNVERIFIED, V_UNDER, INCOMPATIBLE = range(5)
+
+REL_TOL = 1e-9
+"""Relative tolerance of every grade boundary: a stress equal to a limit up to floating-point
+rounding (2.1 W against 0.7 x 3 W) is at the limit, not above it."""
+
+DEFAULT_MIN_CONFIDENCE = 0.70
+"""Share of the applicable checks that must be known for a ``suitable`` verdict (common
+practice: most of the ratings read off the datasheet); per policy key ``min_confidence``."""
 
 
 @dataclass(frozen=True)
@@ -44,6 +54,8 @@ class Policy:
     """...and, when set, at or below this absolute temperature in °C."""
     source: str
     description: str = ""
+    min_confidence: float = DEFAULT_MIN_CONFIDENCE
+    """Below this share of known checks a candidate is at best marginal."""
     extra: dict[str, Any] = field(default_factory=dict)
 
     def factors(self) -> dict[str, float | None]:
@@ -94,7 +106,8 @@ class PolicyError(InvalidInput):
 
 def policy_from_mapping(name: str, data: Mapping[str, Any]) -> Policy:
     """Build a user policy from a config table; every factor must lie in (0, 1]."""
-    known = {"voltage", "current", "power", "tj_margin", "tj_cap", "source", "description"}
+    known = {"voltage", "current", "power", "tj_margin", "tj_cap", "source", "description",
+             "min_confidence"}
     unknown = set(data) - known
     if unknown:
         raise PolicyError(f"policy {name!r}: unknown keys {sorted(unknown)}; known: {sorted(known)}")
@@ -111,7 +124,12 @@ def policy_from_mapping(name: str, data: Mapping[str, Any]) -> Policy:
         raise PolicyError(f"policy {name!r}: tj_margin = {margin!r}; expected kelvin >= 0")
     if cap is not None and not isinstance(cap, int | float):
         raise PolicyError(f"policy {name!r}: tj_cap = {cap!r}; expected a temperature in °C")
+    conf = data.get("min_confidence", DEFAULT_MIN_CONFIDENCE)
+    if isinstance(conf, bool) or not isinstance(conf, int | float) or not 0 <= conf <= 1:
+        raise PolicyError(f"policy {name!r}: min_confidence = {conf!r}; expected a fraction in "
+                          "[0, 1]")
     return Policy(name=name, tj_margin=float(margin), tj_cap=None if cap is None else float(cap),
+                  min_confidence=float(conf),
                   source=str(data.get("source", "user policy")),
                   description=str(data.get("description", "")), **values)
 
@@ -120,7 +138,8 @@ def grade(stress: Any, rating: Any, factor: Any = 1.0, *, limit: Any = None) -> 
     """Status code of a stress against a rating (an index into :data:`STATUSES`).
 
     ``OK`` when stress <= ``limit`` (default: factor x rating), ``MARGINAL`` when stress <=
-    rating, ``UNDER`` (under-rated) above the rating, ``UNKNOWN`` when a value is missing (None
+    rating (both compared with the relative tolerance :data:`REL_TOL`), ``UNDER`` (under-rated)
+    above the rating, ``UNKNOWN`` when a value is missing (None
     or NaN). Scalars give an int, arrays an int8 array of the broadcast shape; ``STATUSES[code]``
     is the word.
     """
@@ -128,15 +147,17 @@ def grade(stress: Any, rating: Any, factor: Any = 1.0, *, limit: Any = None) -> 
     if limit is None and isinstance(stress, float) and not math.isnan(stress) and r.ndim:
         # One stress for every row (a ranking): the same comparisons, fewer array calls.
         out = np.full(r.shape, UNDER, dtype=np.int8)
-        out[stress <= r] = MARGINAL
-        out[stress <= factor * r] = OK
+        slack = 1.0 + REL_TOL
+        out[stress <= r * slack] = MARGINAL
+        out[stress <= factor * r * slack] = OK
         out[np.isnan(r)] = UNKNOWN
         return out
     s = np.asarray(np.nan if stress is None else stress, dtype=float)
     r = np.asarray(np.nan if rating is None else rating, dtype=float)
     top = factor * r if limit is None else np.asarray(limit, dtype=float)
     out = np.full(np.broadcast(s, r, top).shape, UNDER, dtype=np.int8)
-    out[s <= r] = MARGINAL
-    out[s <= top] = OK
+    with np.errstate(invalid="ignore"):
+        out[s <= r + REL_TOL * np.abs(r)] = MARGINAL
+        out[s <= top + REL_TOL * np.abs(top)] = OK
     out[np.isnan(s) | np.isnan(r)] = UNKNOWN
     return int(out) if out.ndim == 0 else out

@@ -27,7 +27,7 @@ from typing import Any
 
 import numpy as np
 
-from partsdb.derating import BUILTIN_POLICIES, STATUSES, UNDER, UNKNOWN, Policy, grade
+from partsdb.derating import BUILTIN_POLICIES, REL_TOL, STATUSES, UNDER, UNKNOWN, Policy, grade
 from partsdb.device import Device
 from partsdb.thermal import (
     DEFAULT_CASE_TO_SINK,
@@ -183,8 +183,11 @@ def _limit(parameter: str, actual: float, rating: float | None, factor: float,
                      note or "no rating in the record")
     allowed = factor * rating
     ratio = actual / rating if rating > 0 else math.inf
+    headroom = allowed - actual
+    if abs(headroom) <= REL_TOL * max(abs(allowed), abs(actual)):
+        headroom = 0.0  # at the limit up to rounding, as grade() compares (0.7 x 3 W vs 2.1 W)
     return Limit(parameter, rating, allowed, actual, _finite(ratio),
-                 STATUSES[grade(actual, rating, factor)], allowed - actual, unit, note)
+                 STATUSES[grade(actual, rating, factor)], headroom, unit, note)
 
 
 def _check_number(name: str, value: float | None, allow_zero: bool = True,

@@ -14,7 +14,7 @@ from collections.abc import Iterable, Sequence
 from typing import TYPE_CHECKING, Any
 
 from partsdb.cautions import SAFETY_CAUTIONS
-from partsdb.spec_fields import REQUIREMENT_FIELDS, STRESS_FIELDS, WINDOW_ENDS
+from partsdb.spec_fields import REQUIREMENT_FIELDS, STRESS_FIELDS, WINDOW_ENDS, shown_sink
 from partsdb.units import format_quantity
 
 if TYPE_CHECKING:
@@ -53,7 +53,8 @@ def requirement_rows(result: RankResult) -> list[tuple[str, str]]:
 def stress_rows(result: RankResult) -> list[tuple[str, str]]:
     """(label, value) of each stress given (the ambient always), in table order."""
     s = result.stress
-    return [(f.label, _value(getattr(s, f.name), f.unit)) for f in STRESS_FIELDS
+    return [(f.label, (f.kind == "sink" and shown_sink(getattr(s, f.name)))
+             or _value(getattr(s, f.name), f.unit)) for f in STRESS_FIELDS
             if getattr(s, f.name) is not None]
 
 

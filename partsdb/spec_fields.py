@@ -18,9 +18,36 @@ from typing import Literal
 
 from partsdb.device import FIELD_BY_NAME
 
-SpecKind = Literal["quantity", "temperature", "choice", "text", "window"]
+SpecKind = Literal["quantity", "temperature", "choice", "text", "window", "sink"]
 """How a field is read: ``temperature`` takes °C or kelvin (``45``, ``318K``), see
-:func:`partsdb.units.parse_temperature`."""
+:func:`partsdb.units.parse_temperature`; ``sink`` a thermal resistance or ``free-air``
+(:func:`read_sink`)."""
+
+FREE_AIR = "free-air"
+"""The word ``--heatsink`` takes for no heat sink at all."""
+
+
+def shown_sink(value: float) -> str | None:
+    """``free-air`` for the infinite sink :func:`read_sink` reads it as, else None."""
+    return FREE_AIR if value == float("inf") else None
+
+
+def read_sink(text: str, name: str = "heatsink") -> float:
+    """A heat sink as given: sink-to-ambient K/W (``2``, ``1.8K/W``, 0 or more) or ``free-air``
+    (infinite: no sink). Raises :class:`partsdb.units.UnitError` naming the field."""
+    from partsdb.units import UnitError, parse_quantity
+
+    word = text.strip().lower().replace(" ", "-")
+    if word in (FREE_AIR, "freeair", "none"):
+        return float("inf")
+    expected = f"a thermal resistance in K/W such as 2K/W (0 or more), or {FREE_AIR}"
+    try:
+        value = parse_quantity(text, "K/W", name)
+    except UnitError as err:
+        raise UnitError(name, text, expected) from err
+    if value < 0:
+        raise UnitError(name, text, expected)
+    return value
 
 
 @dataclass(frozen=True)
@@ -95,6 +122,9 @@ STRESS_FIELDS: tuple[SpecField, ...] = (
     SpecField("vce_peak", "Vce peak", "V", "--vce-peak",
               "Highest collector-emitter voltage in the circuit (DC + peak), e.g. 18V.",
               short="Vce"),
+    SpecField("veb_peak", "Veb peak", "V", "--veb-peak",
+              "Highest reverse base-emitter voltage in the circuit (sets the Vebo need), e.g. 6V.",
+              short="Veb"),
     SpecField("ic_peak", "Ic peak", "A", "--ic-peak",
               "Highest collector current in the circuit, e.g. 150mA.", short="Ic"),
     SpecField("power", "Dissipation", "W", "--power", "Dissipation in the part, e.g. 300mW.",
@@ -105,8 +135,9 @@ STRESS_FIELDS: tuple[SpecField, ...] = (
     SpecField("freq", "Highest signal frequency", "Hz", "--freq",
               "Highest signal frequency the stage must amplify, e.g. 20kHz.", short="f"),
     SpecField("heatsink", "Heat sink (sink to ambient)", "K/W", "--heatsink",
-              "Heat sink, sink-to-ambient K/W (for case-rated parts; default none).",
-              short="sink", positive=False, sets_need=False),
+              "Heat sink for case-rated parts: sink-to-ambient K/W, or free-air for none "
+              "(default: the original's own sink, compared over 0.5-5 K/W).",
+              kind="sink", short="sink", positive=False, sets_need=False),
 )
 """What the circuit does to the part; each row is a field of :class:`partsdb.ranking.Stress`."""
 

@@ -42,6 +42,48 @@ FREE_AIR_CASE_TO_AMBIENT: dict[str, float] = {
 }
 DEFAULT_FREE_AIR_CASE_TO_AMBIENT = 60.0
 
+# Mounting (case-to-sink) resistance by outline class, K/W, insulated with a mica washer and
+# grease (common practice; /work/shared/DOMAIN.md "Heat sinks": 0.3-0.6 K/W for a TO-3 with
+# mica and grease, 0.5-1.5 K/W for TO-220 / TO-126 depending on washer and grease). The one
+# table of these figures; an outline not listed takes the plastic-tab figure.
+MOUNTING_CLASSES: dict[str, tuple[float, tuple[str, ...]]] = {
+    "metal can power (TO-3, TO-66)": (0.5, ("TO-3", "TO-66", "TO-204", "TO-213")),
+    "large plastic (TO-247, TO-218, TO-264)": (0.8, ("TO-247", "TO-218", "TO-264", "TO-3P")),
+    "plastic tab (TO-220, TO-126, TO-202, TO-225, SOT-32)": (
+        1.0, ("TO-220", "TO-126", "TO-202", "TO-225", "SOT-32")),
+}
+DEFAULT_MOUNTING = 1.0
+
+SINK_SWEEP: tuple[float, ...] = (0.5, 1.0, 2.0, 5.0)
+"""Sink-to-ambient K/W over which a substitute for a case-rated original is compared when the
+original's heat sink is not given (common practice: a large finned sink about 0.5 K/W, a small
+clip-on one about 5 K/W); the worst ratio decides."""
+
+
+def _outline(package: str | None) -> str:
+    return "".join(ch for ch in (package or "").upper() if ch not in " -._")
+
+
+def mounting_resistance(package: str | None) -> float:
+    """Case-to-sink K/W of an outline's class (:data:`MOUNTING_CLASSES`)."""
+    key = _outline(package)
+    for value, outlines in MOUNTING_CLASSES.values():
+        if key in {_outline(o) for o in outlines}:
+            return value
+    return DEFAULT_MOUNTING
+
+
+def heatsink_needed(tj_allowed: Any, ambient: Any, power: Any, rth_jc: Any,
+                    case_to_sink: Any) -> Any:
+    """Largest sink-to-ambient K/W that keeps the junction at ``tj_allowed`` while dissipating
+    ``power``: Rth s-a <= (Tj allowed - Ta) / P - Rth j-c - Rth c-s (DOMAIN.md, heat sinks).
+    0 or below: even an ideal sink is not enough."""
+    with np.errstate(divide="ignore", invalid="ignore"):
+        out = (np.asarray(tj_allowed, dtype=float) - np.asarray(ambient, dtype=float)) \
+            / np.asarray(power, dtype=float) - np.asarray(rth_jc, dtype=float) \
+            - np.asarray(case_to_sink, dtype=float)
+    return out if np.ndim(out) else float(out)
+
 
 def derated_power(ptot: Any, tj_max: Any, temperature: Any) -> Any:
     """Allowed dissipation at ``temperature`` (ambient or case, matching the rating)."""
@@ -81,7 +123,7 @@ def free_air_case_to_ambient(package: str | None) -> tuple[float, bool]:
 
 
 def thermal_path(ptot: Any, tj_max: Any, ptot_ref: Any, heatsink: Any | None,
-                 case_to_sink: float = DEFAULT_CASE_TO_SINK,
+                 case_to_sink: Any = DEFAULT_CASE_TO_SINK,
                  free_air: Any = DEFAULT_FREE_AIR_CASE_TO_AMBIENT) -> Any:
     """Total junction-to-ambient Rth for the mounting described.
 
@@ -96,12 +138,13 @@ def thermal_path(ptot: Any, tj_max: Any, ptot_ref: Any, heatsink: Any | None,
     return out if out.ndim else float(out)
 
 
-def case_to_ambient(heatsink: Any | None, case_to_sink: float = DEFAULT_CASE_TO_SINK,
+def case_to_ambient(heatsink: Any | None, case_to_sink: Any = DEFAULT_CASE_TO_SINK,
                     free_air: Any = DEFAULT_FREE_AIR_CASE_TO_AMBIENT) -> Any:
     """Rth from the case of a case-rated part to the ambient: case-to-sink plus the sink's
     sink-to-ambient, or with no sink (``heatsink`` None or NaN) the package's free-air figure."""
     sink = np.asarray(np.nan if heatsink is None else heatsink, dtype=float)
-    out = np.where(np.isnan(sink), np.asarray(free_air, dtype=float), case_to_sink + sink)
+    out = np.where(np.isnan(sink) | np.isinf(sink), np.asarray(free_air, dtype=float),
+                   np.asarray(case_to_sink, dtype=float) + sink)
     return out if out.ndim else float(out)
 
 

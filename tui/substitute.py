@@ -23,6 +23,7 @@ from textual.screen import ModalScreen
 from textual.widgets import Button, DataTable, Label, Select, Static
 
 from partsdb.errors import PartsdbError
+from partsdb.ranking import LABEL
 from partsdb.services import substitution
 from partsdb.spec_fields import STRESS_FIELDS
 from tui.inputs import TextField
@@ -32,7 +33,8 @@ if TYPE_CHECKING:
     from partsdb.storage.database import Database
 
 STATUS_STYLE = {"ok": "green", "suitable": "green", "marginal": "yellow",
-                "under-rated": "bold red", "incompatible": "red", "unknown": "dim", "flag": "yellow"}
+                "unverified": "magenta", "under-rated": "bold red", "incompatible": "red",
+                "unknown": "dim", "flag": "yellow"}
 RANK_LIMIT = 30
 
 
@@ -167,7 +169,7 @@ class SubstituteView(Vertical):
 
     def on_mount(self) -> None:
         table = self.query_one("#sub-table", DataTable)
-        for label in ("Substitute", "Score", "Verdict", "Stock"):
+        for label in ("Substitute", "Score", "Verdict", "Known", "Stock"):
             table.add_column(label)
 
     def load(self) -> None:
@@ -243,11 +245,13 @@ class SubstituteView(Vertical):
         table.clear()
         for c in result.candidates:
             stock = Text(str(c.in_stock), style="green") if c.in_stock else Text("0", style="dim")
+            known = Text(f"{c.confidence:.0%}",
+                         style="" if c.confidence >= result.policy.min_confidence else "yellow")
             table.add_row(c.designation, f"{c.score:.0f}",
-                          Text(c.verdict, style=STATUS_STYLE.get(c.verdict, "")), stock)
+                          Text(c.verdict, style=STATUS_STYLE.get(c.verdict, "")), known, stock)
         who = self.original or "the spec"
         line = Text(f"{len(result.candidates)} of {result.compatible} compatible for {who} "
-                    f"(policy {result.policy.name})")
+                    f"(policy {result.policy.name}); verdict first, then score")
         if note:
             line.append("  " + note, style="cyan")
         self._status(line)
@@ -289,7 +293,13 @@ class SubstituteView(Vertical):
         head.append(f"  score {c.score:.0f}  confidence {c.confidence:.0%}  ")
         head.append(f"stock {c.in_stock}" + (f" in {', '.join(c.locations[:3])}"
                                              if c.locations else ""))
-        parts: list[Any] = [head, grid]
+        gains, losses = c.gains_and_losses()
+        why = Text("score: ", style="bold")
+        why.append(" ".join(f"+{p:.0f} {LABEL.get(n, n)}" for n, p in gains), style="green")
+        if losses:
+            why.append("  ")
+            why.append(" ".join(f"-{p:.0f} {LABEL.get(n, n)}" for n, p in losses), style="red")
+        parts: list[Any] = [head, why, grid]
         parts += [problem_text(p) for p in c.problems()]
         sub_pin = (c.device or {}).get("pinout")
         if req.pinout and sub_pin and sub_pin != req.pinout:

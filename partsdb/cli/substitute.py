@@ -21,7 +21,34 @@ from partsdb.cli.common import (
     pass_state,
     print_table,
 )
-from partsdb.spec_fields import REQUIREMENT_FIELDS, STRESS_FIELDS, WINDOW_ENDS, SpecField
+from partsdb.spec_fields import (
+    REQUIREMENT_FIELDS,
+    STRESS_FIELDS,
+    WINDOW_ENDS,
+    SpecField,
+    read_sink,
+    shown_sink,
+)
+
+
+class SinkParam(click.ParamType):
+    """``--heatsink``: sink-to-ambient K/W or ``free-air`` (:func:`spec_fields.read_sink`)."""
+
+    name = "K/W|free-air"
+
+    def __init__(self, field: str) -> None:
+        self.field = field
+
+    def convert(self, value: Any, param: click.Parameter | None, ctx: click.Context | None
+                ) -> float:
+        from partsdb.units import UnitError
+
+        if isinstance(value, float):
+            return value
+        try:
+            return read_sink(str(value), self.field)
+        except UnitError as err:
+            self.fail(str(err), param, ctx)
 
 
 def _option(row: SpecField) -> Any:
@@ -32,6 +59,8 @@ def _option(row: SpecField) -> Any:
         kind = RangeParam(row.unit, row.name)
     elif row.kind == "temperature":
         kind = TemperatureParam(row.name)
+    elif row.kind == "sink":
+        kind = SinkParam(row.name)
     elif row.kind == "quantity":
         kind = QuantityParam(row.unit, row.name, positive=row.positive)
     else:
@@ -146,6 +175,7 @@ substitute.help = (substitute.help or "").replace("{stress}", _STRESS_NAMES)
 
 
 def _print_result(result: Any) -> None:
+    from partsdb.ranking import ORDER_TEXT
     from partsdb.reports import (
         key_flags,
         policy_line,
@@ -163,11 +193,12 @@ def _print_result(result: Any) -> None:
     if stress:
         click.echo("  circuit: " + ", ".join(f"{k} {v}" for k, v in stress))
     click.echo(f"  policy {policy_line(result)}")
+    click.echo(f"  order: {ORDER_TEXT}")
     rows = [(n, c.designation, f"{c.score:.0f}", c.verdict, f"{c.confidence:.0%}", c.in_stock,
-             ", ".join(c.locations) or "—", key_flags(c))
+             ", ".join(c.locations) or "—", c.why() or "—", key_flags(c))
             for n, c in enumerate(result.candidates, start=1)]
     print_table(None, ("#", "Designation", "Score", "Verdict", "Known", "Stock", "Drawers",
-                       "Key flags"), rows,
+                       "Score: top gains / losses", "Key flags"), rows,
                 caption=f"{result.compatible} compatible of {result.considered} in the catalog")
     if not result.candidates:
         click.echo("No candidate: nothing of this polarity and kind"
@@ -242,7 +273,8 @@ def swaplog_list(state: CliState, original: str | None, fmt: str) -> None:
 def _stress_text(stress: Any) -> str:
     from partsdb.units import format_quantity
 
-    parts = [f"{row.brief} {format_quantity(getattr(stress, row.name), row.unit)}"
+    parts = [f"{row.brief} " + ((row.kind == "sink" and shown_sink(getattr(stress, row.name)))
+                                or format_quantity(getattr(stress, row.name), row.unit))
              for row in STRESS_FIELDS
              if getattr(stress, row.name) is not None and row.default is None]
     # A default (the 25 °C ambient) is named only beside a stress that was given.

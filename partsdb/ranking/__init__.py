@@ -10,7 +10,7 @@ path), :mod:`.fastpath` (the grouped evaluation of large groups), :mod:`.notes` 
 Score = 100 x sum(w_i s_i) / sum(w_i) over the sub-scores of :mod:`.checks`. Default weights
 (override in the config file's ``[weights]`` table, see :mod:`partsdb.services.config`):
 
-    vceo 20, vcbo 5, ic_max 15, ptot 15, tj_max 5, ft 10, hfe 10,
+    vceo 20, vcbo 5, vebo 3, ic_max 15, ptot 15, tj_max 5, ft 10, hfe 10,
     package 8, pinout 4, material 8, stock 10, history 10
 """
 
@@ -33,13 +33,14 @@ from partsdb.ranking.model import (
     outline_key,
 )
 from partsdb.ranking.notes import lead_mapping
-from partsdb.ranking.result import Candidate, Check, Flag, Problem, RankResult
+from partsdb.ranking.result import ORDER_TEXT, Candidate, Check, Flag, Problem, RankResult
 
 __all__ = [
     "DEFAULT_WEIGHTS",
     "KINDS",
     "LABEL",
     "MATERIALS",
+    "ORDER_TEXT",
     "PARAMETERS",
     "POLARITIES",
     "STATUSES",

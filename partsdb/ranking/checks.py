@@ -7,27 +7,43 @@ Statuses are :func:`partsdb.derating.grade` codes.
 Checks, one per parameter and candidate (status ``ok`` / ``marginal`` / ``under-rated`` /
 ``unknown``):
 
-* **Ratings** (vceo, vcbo, ic_max, ptot). Without a circuit stress the need is the original's
-  rating and a lower rating is ``under-rated``. With a stress (``--vce-peak`` for vceo and vcbo,
-  ``--ic-peak`` for ic_max, ``--power`` for ptot) the stress is the need, graded by the rule of
-  :func:`partsdb.derating.grade`: at most factor x rating ``ok``, up to the rating
-  ``marginal``, above it ``under-rated``; being below the original's rating is then only a flag.
-  Ptot is compared as the power allowed at the ambient: linear derating to Tj max for a free-air
-  rating, the thermal chain with the heat sink for a case rating (:mod:`partsdb.thermal`).
+* **Ratings** (vceo, vcbo, vebo, ic_max, ptot). Without a circuit stress the need is the
+  original's rating and a lower rating is ``under-rated``. With a stress (``--vce-peak`` for
+  vceo and vcbo, ``--ic-peak`` for ic_max, ``--power`` for ptot) the stress is the need, graded
+  by the rule of :func:`partsdb.derating.grade` (boundaries with a relative tolerance): at most
+  factor x rating ``ok``, up to the rating ``marginal``, above it ``under-rated``; being below
+  the original's rating is then only a flag. Vebo (the reverse base-emitter voltage) is needed
+  at the original's value (or ``--veb-peak`` as a stress): a silicon part for a germanium one
+  often fails it.
+* **ptot**, by :func:`sink_mode`. Free-air ratings derate linearly to Tj max. Case ratings go
+  through Rth j-c + c-s + s-a (:mod:`partsdb.thermal`, mounting c-s per outline class):
+  ``given`` one sink; ``free-air`` the bare outline; ``sweep`` (a case-rated original, no sink
+  given) the substitute on the original's sink, compared over :data:`partsdb.thermal.SINK_SWEEP`
+  and graded on the worst ratio; ``needed`` (``--power`` and no sink given) the largest sink
+  that keeps Tj within the policy is reported (:func:`partsdb.thermal.heatsink_needed`), and a
+  case-rated part is ``under-rated`` only when even an ideal sink is not enough.
 * **tj_max**. With a power stress the junction temperature is estimated, Tj = Ta + P x Rth, and
-  graded against the policy's Tj limit (ok), Tj max (marginal), above (under-rated). Without
-  one, a lower Tj max than the original's is under-rated.
-* **ft**. The need is the original's f_T or, with ``--freq f``, hFE min x f: above f_beta the
-  gain falls as f_T / f, so a stage needing gain G at f needs f_T >= G x f (gain-bandwidth,
-  textbook: |hfe| = hfe0 / (1 + j f / f_beta), f_T = hfe0 x f_beta).
-* **hfe**. Windows compared on a log scale: no overlap, or a minimum below half the needed
-  minimum, is ``marginal`` (common practice); a minimum above three times the needed maximum is
-  flagged as an instability risk (common practice).
+  graded against the policy's Tj limit (ok), Tj max (marginal), above (under-rated); a
+  case-rated part with no sink given has no estimate and takes the ptot check's result. Without
+  one, a lower Tj max than the original's is under-rated. An ambient at or above Tj max is
+  ``under-rated`` in every case.
+* **ft**. The need is the original's f_T or, with ``--freq f``, hFE min x f capped at the
+  original's f_T: above f_beta the gain falls as f_T / f, so a stage needing gain G at f needs
+  f_T >= G x f (gain-bandwidth, textbook: |hfe| = hfe0 / (1 + j f / f_beta), f_T = hfe0 x
+  f_beta), but the original met its own stage. Beyond 10x the original's f_T (or the need) the
+  sub-score falls, to half marks at 100x (common practice: a much faster part may oscillate).
+* **hfe**. Windows compared on a log scale: wholly below the need, or a minimum below half the
+  needed minimum, is ``under-rated``; reaching below the needed minimum, or wholly above the
+  need, ``marginal`` (common practice); test currents more than a decade apart make it at best
+  ``marginal``. A minimum above three times the needed maximum is flagged as an instability
+  risk (common practice).
 * **package**, **pinout**, **material**: same is ``ok``; a different outline, lead order or
   material needs work at the bench and is ``marginal`` (with what to do in the note).
-* A value missing on either side is ``unknown`` and lowers the candidate's confidence figure;
-  an unknown Vceo, Ic max or Ptot against a known need makes the verdict at least marginal
-  (the part cannot be confirmed), so missing data is never silently ok.
+* A value missing on either side is ``unknown`` and lowers the candidate's confidence (the share
+  of the checks with a need whose values are known); an unknown Vceo, Ic max or Ptot against a
+  known need makes the verdict ``unverified`` (the part cannot be confirmed), and a confidence
+  under the policy's ``min_confidence`` keeps the candidate from ``suitable``, so missing data
+  is never silently ok.
 
 Sub-scores (0..1, monotone non-decreasing in the candidate's headroom on every rating):
 
@@ -45,7 +61,7 @@ Sub-scores (0..1, monotone non-decreasing in the candidate's headroom on every r
 Score = 100 x sum(w_i s_i) / sum(w_i). Default weights (override in the config file's
 ``[weights]`` table, see :mod:`partsdb.services.config`):
 
-    vceo 20, vcbo 5, ic_max 15, ptot 15, tj_max 5, ft 10, hfe 10,
+    vceo 20, vcbo 5, vebo 3, ic_max 15, ptot 15, tj_max 5, ft 10, hfe 10,
     package 8, pinout 4, material 8, stock 10, history 10
 
 Score = 100 x sum(w_i s_i) / sum(w_i); verdict: the worst check.
@@ -61,10 +77,24 @@ from typing import Any
 
 import numpy as np
 
-from partsdb.derating import UNKNOWN, Policy, grade
+from partsdb.derating import (
+    MARGINAL,
+    OK,
+    REL_TOL,
+    SUITABLE,
+    UNDER,
+    UNKNOWN,
+    UNVERIFIED,
+    V_MARGINAL,
+    V_UNDER,
+    Policy,
+    grade,
+)
 from partsdb.device import default_tj_max
 from partsdb.ranking.columns import CatalogColumns
 from partsdb.ranking.model import (
+    FT_FAST_FACTOR,
+    HFE_CURRENT_DECADES,
     HFE_LOW_FACTOR,
     MATERIALS,
     PARAMETERS,
@@ -78,12 +108,14 @@ from partsdb.ranking.model import (
     outline_key,
 )
 from partsdb.thermal import (
-    DEFAULT_CASE_TO_SINK,
+    SINK_SWEEP,
     allowed_power,
     case_to_ambient,
     chain_power,
     derated_power,
     free_air_case_to_ambient,
+    heatsink_needed,
+    mounting_resistance,
     thermal_path,
 )
 
@@ -123,9 +155,9 @@ def headroom_score_stressed(h: np.ndarray, factor: Any) -> np.ndarray:
     (h = 1/f), 1.0 at twice the limit.
     """
     if np.ndim(factor) == 0:
-        inv = 1.0 / float(factor)
-        if inv > 1.0:
-            return _piecewise(h, (0.0, 1.0, inv, 2.0 * inv), (0.0, 0.3, 0.7, 1.0))
+        inv_f = 1.0 / float(factor)
+        if inv_f > 1.0:
+            return _piecewise(h, (0.0, 1.0, inv_f, 2.0 * inv_f), (0.0, 0.3, 0.7, 1.0))
         return headroom_score_plain(h)
     inv = 1.0 / np.asarray(factor, dtype=float)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -158,6 +190,8 @@ class Column:
     ratio: np.ndarray | None = None
     basis: str = ""
     """How the need was set (for notes): rating, stress, freq, ..."""
+    extra: np.ndarray | None = None
+    """ptot: the sink-to-ambient K/W each row needs (``sink_mode`` needed; NaN: none)."""
 
 
 def _rating_column(offered: np.ndarray, original: float | None, stress: float | None,
@@ -185,6 +219,17 @@ def _rating_column(offered: np.ndarray, original: float | None, stress: float | 
     return Column(need, offered, status, sub, h, basis)
 
 
+def ft_need_of(req: Requirement, stress: Stress) -> tuple[float | None, str]:
+    """(fT need, how it was set): with ``--freq f`` hFE min x f (gain-bandwidth), capped at the
+    original's fT when one is stored (the original met its own stage); else the original's."""
+    if stress.freq is not None and req.hfe_min is not None:
+        gbw = req.hfe_min * stress.freq
+        if req.ft is not None and req.ft < gbw:
+            return req.ft, "gain-bandwidth-capped"
+        return gbw, "gain-bandwidth"
+    return req.ft, "original"
+
+
 @dataclass
 class Evaluation:
     rows: np.ndarray
@@ -197,19 +242,140 @@ class Evaluation:
     tj_estimate: np.ndarray | None
 
 
-def _requirement_power(req: Requirement, stress: Stress) -> tuple[float | None, float | None]:
-    """The original's allowed power at the ambient in the same mounting, and its Tj max used."""
+def _requirement_power(req: Requirement, stress: Stress, sink: float | None = None
+                       ) -> tuple[float | None, float | None]:
+    """The original's allowed power at the ambient in its mounting (``sink``: this
+    sink-to-ambient K/W in place of the stress's), and its Tj max used."""
     if req.ptot is None:
         return None, None
     tj = req.tj_max if req.tj_max is not None else default_tj_max(req.material)
     ref = req.ptot_ref or "ambient"
     free_air, _ = free_air_case_to_ambient(req.package)
-    rth = thermal_path(req.ptot, tj, ref, stress.heatsink, DEFAULT_CASE_TO_SINK, free_air)
+    rth = thermal_path(req.ptot, tj, ref, stress.heatsink if sink is None else sink,
+                       mounting_resistance(req.package), free_air)
     return float(allowed_power(req.ptot, tj, ref, stress.ambient, rth)), tj
 
 
-_VERDICT_OF = np.array([0, 1, 2, 0], dtype=np.int8)
-"""Verdict contribution of a status code: ok 0, marginal 1, under-rated 2, unknown 0."""
+def sink_mode(req: Requirement, stress: Stress) -> str:
+    """How case ratings are mounted: ``given`` (``--heatsink K/W``), ``free-air`` (``--heatsink
+    free-air``, or a free-air-rated original with no sink given), ``sweep`` (a case-rated
+    original, no sink given, no dissipation: the substitute goes on the original's sink, compared
+    over :data:`partsdb.thermal.SINK_SWEEP`) or ``needed`` (no sink given and ``--power``: the
+    sink a case-rated part needs is reported)."""
+    if stress.heatsink is not None:
+        return "free-air" if stress.free_air else "given"
+    if stress.power is not None:
+        return "needed"
+    return "sweep" if req.ptot_ref == "case" and req.ptot is not None else "free-air"
+
+
+_VERDICT_OF = np.array([SUITABLE, V_MARGINAL, V_UNDER, SUITABLE], dtype=np.int8)
+"""Verdict contribution of a status code: ok suitable, marginal, under-rated, unknown suitable
+(an unknown primary rating makes it unverified, see :func:`verdict_part`)."""
+
+
+def _thermal_columns(cat: CatalogColumns, req: Requirement, stress: Stress, policy: Policy,
+                     cols: dict[str, Column]) -> tuple[np.ndarray, np.ndarray | None]:
+    """The ptot and tj_max checks (see the module docstring): (allowed power, Tj estimate)."""
+    n = cat.size
+    mode = sink_mode(req, stress)
+    ta = stress.ambient
+    # Power allowed at the ambient in this mounting: free-air ratings derate linearly, case
+    # ratings go through Rth j-c + c-s + s-a (thermal.py); the two groups are computed apart
+    # so the reference is a scalar, not a string array. (thermal_path and allowed_power, taken
+    # apart so the parts that read only the ratings are computed once per catalog:
+    # CatalogColumns.rating_thermal)
+    rth, case, ptot_c, tj_c, rth_c, free_air_c, rcs_c = cat.rating_thermal
+    allowed = np.asarray(derated_power(cat.ptot, cat.tj_effective, ta), dtype=float)
+    needed = np.full(n, np.nan)
+    tj_est: np.ndarray | None = None
+    if mode == "sweep":
+        # The substitute goes on the original's heat sink, whatever it is: the worst ratio of
+        # allowed powers over the sweep decides (case-rated rows through their own mounting,
+        # free-air-rated rows at their free-air rating: a sink is not credited to them).
+        worst = np.full(n, np.inf)
+        need = np.full(n, np.nan)
+        offered = allowed.copy()
+        for sink in SINK_SWEEP:
+            orig = _requirement_power(req, stress, sink)[0]
+            cand = allowed.copy()
+            if case.shape[0]:
+                cand[case] = chain_power(ptot_c, tj_c, ta, rth_c + rcs_c + sink)
+            with np.errstate(invalid="ignore", divide="ignore"):
+                ratio = cand / orig if orig else np.full(n, np.nan)
+            better = ratio < worst
+            worst = np.where(better, ratio, worst)
+            need = np.where(better, orig if orig is not None else np.nan, need)
+            offered = np.where(better, cand, offered)
+        worst[np.isinf(worst)] = np.nan
+        unknown = np.isnan(worst)
+        status = grade(need, offered)
+        status[unknown] = UNKNOWN
+        sub = np.where(unknown, SUB_UNKNOWN_RATING, headroom_score_plain(worst))
+        cols["ptot"] = Column(need, offered, status, sub, worst, "sweep")
+        allowed = offered
+    elif mode == "needed":
+        # No invented free-air junction temperature: a case-rated row is offered the power an
+        # ideal sink allows at the policy's Tj limit, and the sink it needs is reported.
+        if case.shape[0]:
+            limit_c = np.asarray(policy.tj_limit(tj_c), dtype=float)
+            with np.errstate(invalid="ignore", divide="ignore"):
+                allowed[case] = np.maximum((limit_c - ta) / (rth_c + rcs_c), 0.0)
+            need_c = heatsink_needed(limit_c, ta, stress.power, rth_c, rcs_c)
+            # none needed when the bare outline in free air already suffices
+            needed[case] = np.where(need_c + rcs_c >= free_air_c, np.nan, need_c)
+            needed[case] = np.where(need_c <= 0, need_c, needed[case])
+        col = _rating_column(allowed, None, stress.power, policy.power)
+        if case.shape[0]:
+            # with a sink to be chosen, under-rated only when even an ideal sink is not enough
+            col.status[case] = grade(stress.power, allowed[case])
+            h_c = allowed[case] / stress.power
+            col.sub[case] = np.where(np.isnan(h_c), SUB_UNKNOWN_RATING, headroom_score_plain(h_c))
+        col.basis = "needed"
+        cols["ptot"] = col
+    else:
+        if case.shape[0]:
+            given_sink = stress.heatsink if mode == "given" else None
+            rc = rth_c + case_to_ambient(given_sink, rcs_c, free_air_c)
+            rth = rth.copy()
+            rth[case] = rc
+            allowed[case] = chain_power(ptot_c, tj_c, ta, rc)
+        req_power, _ = _requirement_power(req, stress)
+        cols["ptot"] = _rating_column(allowed, req_power, stress.power, policy.power)
+    cols["ptot"].extra = needed
+
+    tj = cat.tj_max
+    if stress.power is not None:
+        tj_est = ta + stress.power * rth
+        if mode == "needed" and case.shape[0]:
+            tj_est = tj_est.copy()
+            tj_est[case] = np.nan  # the sink is unknown: no estimate
+        limit = np.asarray(policy.tj_limit(tj), dtype=float)
+        status = grade(tj_est, tj, limit=limit)
+        with np.errstate(invalid="ignore", divide="ignore"):
+            h = (tj - ta) / (tj_est - ta)
+            factor = np.minimum(np.maximum((limit - ta) / (tj - ta), 1e-6), 1.0)
+            sub = headroom_score_stressed(h, factor)
+        unknown = status == UNKNOWN
+        sub = np.where(unknown, SUB_UNKNOWN_RATING, sub)
+        if mode == "needed" and case.shape[0]:
+            # judged with the sink it needs: the Ptot check's status and sub-score
+            status[case] = np.where(np.isnan(tj[case]), UNKNOWN, cols["ptot"].status[case])
+            sub[case] = np.where(np.isnan(tj[case]), SUB_UNKNOWN_RATING, cols["ptot"].sub[case])
+        col = Column(tj_est, tj, status, sub, h, "stress")
+    elif req.tj_max is not None:
+        col = _rating_column(tj - 25.0, req.tj_max - 25.0, None, 1.0)
+        col.need, col.offered = req.tj_max, tj
+    else:
+        col = Column(np.nan, tj, np.full(n, UNKNOWN, np.int8), np.full(n, SUB_NO_NEED), None,
+                     "none")
+    # An ambient at or above the part's Tj max leaves it no power at all.
+    hot = tj <= ta
+    if hot.any():
+        col.status = np.where(hot, UNDER, col.status).astype(np.int8)
+        col.sub = np.where(hot, 0.0, col.sub)
+    cols["tj_max"] = col
+    return allowed, tj_est
 
 
 def check_columns(cat: CatalogColumns, req: Requirement, stress: Stress, policy: Policy,
@@ -220,65 +386,36 @@ def check_columns(cat: CatalogColumns, req: Requirement, stress: Stress, policy:
     Each check depends only on its own row, so the same function serves the rows returned
     (details) and the distinct value tuples of a large group (:func:`group_scores`).
     """
-    n = cat.size
     cols: dict[str, Column] = {}
     if "vceo" in names:
         cols["vceo"] = _rating_column(cat.vceo, req.vceo, stress.vce_peak, policy.voltage)
     if "vcbo" in names:
         # Vcb is Vce minus Vbe: the Vce peak bounds it, so it is the stress on Vcbo too.
         cols["vcbo"] = _rating_column(cat.vcbo, req.vcbo, stress.vce_peak, policy.voltage)
+    if "vebo" in names:
+        # The reverse base-emitter voltage: --veb-peak, or else the original's Vebo, is the need.
+        cols["vebo"] = _rating_column(cat.vebo, req.vebo, stress.veb_peak, policy.voltage)
     if "ic_max" in names:
         cols["ic_max"] = _rating_column(cat.ic_max, req.ic_max, stress.ic_peak, policy.current)
 
     allowed: np.ndarray | None = None
     tj_est: np.ndarray | None = None
     if "ptot" in names or "tj_max" in names:
-        # Power allowed at the ambient in this mounting: free-air ratings derate linearly, case
-        # ratings go through Rth j-c + c-s + s-a (thermal.py); the two groups are computed apart
-        # so the reference is a scalar, not a string array.
-        # (thermal_path and allowed_power, taken apart so the parts that read only the
-        # ratings are computed once per catalog: CatalogColumns.rating_thermal)
-        rth, case, ptot_c, tj_c, rth_c, free_air_c = cat.rating_thermal
-        allowed = np.asarray(derated_power(cat.ptot, cat.tj_effective, stress.ambient),
-                             dtype=float)
-        if case.shape[0]:
-            rc = rth_c + case_to_ambient(stress.heatsink, DEFAULT_CASE_TO_SINK, free_air_c)
-            rth = rth.copy()
-            rth[case] = rc
-            allowed[case] = chain_power(ptot_c, tj_c, stress.ambient, rc)
-        req_power, _ = _requirement_power(req, stress)
-        cols["ptot"] = _rating_column(allowed, req_power, stress.power, policy.power)
-
-        tj = cat.tj_max
-        if stress.power is not None:
-            ta = stress.ambient
-            tj_est = ta + stress.power * rth
-            limit = np.asarray(policy.tj_limit(tj), dtype=float)
-            status = grade(tj_est, tj, limit=limit)
-            with np.errstate(invalid="ignore", divide="ignore"):
-                h = (tj - ta) / (tj_est - ta)
-                factor = np.minimum(np.maximum((limit - ta) / (tj - ta), 1e-6), 1.0)
-                sub = headroom_score_stressed(h, factor)
-            unknown = status == UNKNOWN
-            cols["tj_max"] = Column(tj_est, tj, status,
-                                     np.where(unknown, SUB_UNKNOWN_RATING, sub), h, "stress")
-        elif req.tj_max is not None:
-            col = _rating_column(tj - 25.0, req.tj_max - 25.0, None, 1.0)
-            col.need, col.offered = req.tj_max, tj
-            cols["tj_max"] = col
-        else:
-            cols["tj_max"] = Column(np.nan, tj, np.full(n, UNKNOWN, np.int8),
-                                     np.full(n, SUB_NO_NEED), None, "none")
+        allowed, tj_est = _thermal_columns(cat, req, stress, policy, cols)
 
     if "ft" in names:
-        ft_need: float | None
-        if stress.freq is not None and req.hfe_min is not None:
-            ft_need, basis = req.hfe_min * stress.freq, "gain-bandwidth"
-        else:
-            ft_need, basis = req.ft, "original"
+        ft_need, basis = ft_need_of(req, stress)
         col = _rating_column(cat.ft, ft_need, None, 1.0)
         if col.basis != "none":
             col.basis = basis
+            # Much faster than the original (or the need) is no better: the sub-score falls
+            # beyond FT_FAST_FACTOR times, to half marks at ten times that (common practice).
+            ref = req.ft if req.ft is not None else ft_need
+            assert ref is not None  # the need is known here (basis not "none")
+            with np.errstate(invalid="ignore", divide="ignore"):
+                over = np.log10(cat.ft / (FT_FAST_FACTOR * ref))
+            fall = np.where(over > 0, 1.0 - 0.5 * np.minimum(over, 1.0), 1.0)
+            col.sub = np.where(np.isnan(cat.ft), col.sub, col.sub * fall)
         cols["ft"] = col
 
     if "hfe" in names:
@@ -301,13 +438,40 @@ def check_columns(cat: CatalogColumns, req: Requirement, stress: Stress, policy:
 
 def verdict_part(cols: Mapping[str, Column], n: int) -> np.ndarray:
     """Worst status of the given checks as a verdict code; an unknown primary rating against a
-    known need counts as marginal (the part cannot be confirmed)."""
+    known need makes it ``unverified`` (the part cannot be confirmed)."""
     verdict = np.zeros(n, np.int8)
     for name, col in cols.items():
         np.maximum(verdict, _VERDICT_OF[col.status], out=verdict)
         if name in PRIMARY and col.basis != "none":
-            np.maximum(verdict, (col.status == UNKNOWN).view(np.int8), out=verdict)
+            np.maximum(verdict, (col.status == UNKNOWN).view(np.int8) * UNVERIFIED,
+                       out=verdict)
     return verdict
+
+
+def unknown_part(cols: Mapping[str, Column], n: int) -> tuple[np.ndarray, int]:
+    """(per row, how many of the given checks with a need are unknown; how many have a need)."""
+    count = np.zeros(n, np.int8)
+    applicable = 0
+    for col in cols.values():
+        if col.basis != "none":
+            applicable += 1
+            count += col.status == UNKNOWN
+    return count, applicable
+
+
+def most_unknown(applicable: int, policy: Policy) -> int:
+    """The most unknown checks a ``suitable`` candidate may have: its confidence, the share of
+    the ``applicable`` checks known, must stay at or above the policy's minimum."""
+    if applicable == 0:
+        return 0
+    return max((u for u in range(applicable + 1)
+                if (applicable - u) / applicable >= policy.min_confidence - REL_TOL), default=-1)
+
+
+def confidence_verdict(verdict: np.ndarray, unknown: np.ndarray, limit: int) -> np.ndarray:
+    """``verdict`` kept from suitable (made marginal) where more than ``limit`` checks are
+    unknown."""
+    return np.maximum(verdict, (unknown > limit).view(np.int8) * V_MARGINAL, out=verdict)
 
 
 def extras(weights: Weights, stock: np.ndarray, hist: np.ndarray) -> np.ndarray:
@@ -337,6 +501,8 @@ def evaluate(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress: St
     total += extras(weights, stock, hist)
     score = 100.0 * total / weights.total()
     verdict = verdict_part(cols, n)
+    unknown, applicable = unknown_part(cols, n)
+    verdict = confidence_verdict(verdict, unknown, most_unknown(applicable, policy))
     assert allowed is not None
     return Evaluation(rows, cols, stock_qty[rows] if stock_qty is not None else np.zeros(n, int),
                        hist, score, verdict, allowed, tj_est)
@@ -382,7 +548,17 @@ def _hfe_column(cat: CatalogColumns, req: Requirement) -> Column:
     need_hi = math.log(req.hfe_max if req.hfe_max is not None else req.hfe_min)
     gap = np.maximum(0.0, np.maximum(need_lo - hi, lo - need_hi))
     short = np.maximum(0.0, need_lo - lo)
-    status = ((gap > 0) | (short > math.log(HFE_LOW_FACTOR))).view(np.int8).copy()
+    tol = REL_TOL
+    # wholly below the need, or a minimum below half the needed minimum: under-rated; a window
+    # reaching below the need (partial overlap) or wholly above it: marginal (common practice)
+    under = (hi < need_lo - tol) | (short > math.log(HFE_LOW_FACTOR) + tol)
+    marginal = (short > tol) | (lo > need_hi + tol)
+    status = np.where(under, UNDER, np.where(marginal, MARGINAL, OK)).astype(np.int8)
+    if req.hfe_ic is not None:
+        # test currents more than a decade apart: the gains are not comparable
+        with np.errstate(invalid="ignore", divide="ignore"):
+            apart = np.abs(np.log10(cat.hfe_ic / req.hfe_ic)) > HFE_CURRENT_DECADES + tol
+        status = np.where(apart & (status == OK), MARGINAL, status).astype(np.int8)
     sub = np.minimum(np.maximum(1.0 - (gap + short) / math.log(10.0), 0.0), 1.0)
     unknown = np.isnan(lo)
     status[unknown] = UNKNOWN

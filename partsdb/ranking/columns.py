@@ -17,7 +17,11 @@ import numpy as np
 from partsdb.designations import normalize
 from partsdb.device import Device, default_tj_max
 from partsdb.ranking.model import KINDS, MATERIALS, POLARITIES, outline_key
-from partsdb.thermal import free_air_case_to_ambient, rth_from_rating
+from partsdb.thermal import free_air_case_to_ambient, mounting_resistance, rth_from_rating
+
+NUMBERS: tuple[str, ...] = ("vceo", "vcbo", "vebo", "ic_max", "ptot", "tj_max", "hfe_min",
+                            "hfe_max", "hfe_ic", "ft")
+"""The numeric device fields held as columns."""
 
 
 def _codes(values: Iterable[str | None], table: Sequence[str]) -> np.ndarray:
@@ -47,6 +51,7 @@ class CatalogColumns:
     material: np.ndarray
     vceo: np.ndarray
     vcbo: np.ndarray
+    vebo: np.ndarray
     ic_max: np.ndarray
     ptot: np.ndarray
     case_rated: np.ndarray
@@ -54,6 +59,8 @@ class CatalogColumns:
     tj_max: np.ndarray
     hfe_min: np.ndarray
     hfe_max: np.ndarray
+    hfe_ic: np.ndarray
+    """Collector current of the hFE test, A."""
     ft: np.ndarray
     package: np.ndarray
     pinout: np.ndarray
@@ -75,8 +82,8 @@ class CatalogColumns:
                     numbers: Mapping[str, Any], ptot_ref: Sequence[str | None],
                     package: Sequence[str | None], pinout: Sequence[str | None],
                     sort: bool = True) -> CatalogColumns:
-        """Build from plain sequences (``numbers``: vceo, vcbo, ic_max, ptot, tj_max, hfe_min,
-        hfe_max, ft as arrays or sequences with None/NaN for missing)."""
+        """Build from plain sequences (``numbers``: the :data:`NUMBERS` fields as arrays or
+        sequences with None/NaN for missing; vebo and hfe_ic may be left out)."""
         n = len(designation)
         keys = list(key) if key is not None else [normalize(d) for d in designation]
         order: np.ndarray | None = None
@@ -105,10 +112,11 @@ class CatalogColumns:
                 pin_list.append(pins[p])
             else:
                 pin_list.append(-1)
-        num = {name: arr(_floats(numbers[name], n) if not isinstance(numbers[name], np.ndarray)
-                         else numbers[name].astype(float))
-               for name in ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max",
-                            "ft")}
+        numbers = {"vebo": [None] * n, "hfe_ic": [None] * n, **numbers}
+        num: dict[str, Any] = {
+            name: arr(_floats(numbers[name], n) if not isinstance(numbers[name], np.ndarray)
+                      else numbers[name].astype(float))
+            for name in NUMBERS}
         return cls(
             designation=arr(list(designation)), key=arr(keys),
             polarity=arr(_codes(polarity, POLARITIES)), kind=arr(_codes(kind, KINDS)),
@@ -125,9 +133,7 @@ class CatalogColumns:
 
         return cls.from_values(col("designation"), [d.key for d in devices], col("polarity"),
                                col("kind"), col("material"),
-                               {name: col(name) for name in ("vceo", "vcbo", "ic_max", "ptot",
-                                                             "tj_max", "hfe_min", "hfe_max",
-                                                             "ft")},
+                               {name: col(name) for name in NUMBERS},
                                col("ptot_ref"), col("package"), col("pinout"))
 
     def take(self, rows: np.ndarray) -> CatalogColumns:
@@ -135,9 +141,10 @@ class CatalogColumns:
         view = CatalogColumns(
             designation=self.designation[rows], key=self.key[rows],
             polarity=self.polarity[rows], kind=self.kind[rows], material=self.material[rows],
-            vceo=self.vceo[rows], vcbo=self.vcbo[rows], ic_max=self.ic_max[rows],
-            ptot=self.ptot[rows], case_rated=self.case_rated[rows], tj_max=self.tj_max[rows],
-            hfe_min=self.hfe_min[rows], hfe_max=self.hfe_max[rows], ft=self.ft[rows],
+            vceo=self.vceo[rows], vcbo=self.vcbo[rows], vebo=self.vebo[rows],
+            ic_max=self.ic_max[rows], ptot=self.ptot[rows], case_rated=self.case_rated[rows],
+            tj_max=self.tj_max[rows], hfe_min=self.hfe_min[rows], hfe_max=self.hfe_max[rows],
+            hfe_ic=self.hfe_ic[rows], ft=self.ft[rows],
             package=self.package[rows], pinout=self.pinout[rows], packages=self.packages,
             pinouts=self.pinouts)
         # The tie-break order stays the whole catalog's when it is known (cached_property lives
@@ -198,20 +205,34 @@ class CatalogColumns:
 
     @cached_property
     def rating_thermal(self) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray,
-                                      np.ndarray]:
+                                      np.ndarray, np.ndarray]:
         """What the thermal checks read of the recorded ratings alone: Rth junction-to-reference
         of every row (from its Ptot and effective Tj max), then the case-rated rows with their
-        Ptot, Tj max, that Rth and their outline's free-air case-to-ambient figure."""
+        Ptot, Tj max, that Rth, their outline's free-air case-to-ambient figure and their
+        outline class's case-to-sink figure."""
         rth = np.asarray(rth_from_rating(self.ptot, self.tj_effective), dtype=float)
         case = np.flatnonzero(self.case_rated)
         return (rth, case, self.ptot[case], self.tj_effective[case], rth[case],
-                self.free_air[case])
+                self.free_air[case], self.case_to_sink[case])
+
+    @cached_property
+    def case_to_sink(self) -> np.ndarray:
+        """Mounting (case-to-sink) K/W of each row's outline class (:mod:`partsdb.thermal`)."""
+        table = np.array([mounting_resistance(p) for p in self.packages]
+                         + [mounting_resistance(None)])
+        return table[self.package]
 
     @cached_property
     def case_free_air(self) -> np.ndarray:
         """:attr:`free_air` where Ptot is a case rating, NaN elsewhere: all the thermal checks
         read of the outline, so rows differing only in it share their distinct tuple."""
         return np.where(self.case_rated, self.free_air, np.nan)
+
+    @cached_property
+    def case_sink(self) -> np.ndarray:
+        """:attr:`case_to_sink` where Ptot is a case rating, NaN elsewhere (as
+        :attr:`case_free_air`)."""
+        return np.where(self.case_rated, self.case_to_sink, np.nan)
 
     @cached_property
     def log_hfe(self) -> tuple[np.ndarray, np.ndarray]:
@@ -232,14 +253,13 @@ class CatalogColumns:
                    names(self.polarity, POLARITIES), names(self.kind, KINDS),
                    names(self.material, MATERIALS),
                    *([None if v != v else v for v in getattr(self, n)[rows].astype(float).tolist()]
-                     for n in _DEVICE_NUMBERS),
+                     for n in NUMBERS),
                    ["case" if c else "ambient" for c in self.case_rated[rows].tolist()],
                    names(self.package, self.packages), names(self.pinout, self.pinouts)]
         return [dict(zip(_DEVICE_KEYS, values, strict=True)) for values in zip(*columns, strict=True)]
 
 
-_DEVICE_NUMBERS = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max", "ft")
-_DEVICE_KEYS = ("designation", "key", "polarity", "kind", "material", *_DEVICE_NUMBERS,
+_DEVICE_KEYS = ("designation", "key", "polarity", "kind", "material", *NUMBERS,
                 "ptot_ref", "package", "pinout")
 """The keys of :meth:`CatalogColumns.devices_at`, in its order."""
 

@@ -29,9 +29,16 @@ from typing import Any
 
 import numpy as np
 
-from partsdb.derating import BUILTIN_POLICIES, DEFAULT_POLICY, STATUSES, VERDICTS, Policy
+from partsdb.derating import (
+    BUILTIN_POLICIES,
+    DEFAULT_POLICY,
+    INCOMPATIBLE,
+    STATUSES,
+    VERDICTS,
+    Policy,
+)
 from partsdb.device import Device
-from partsdb.ranking.checks import Evaluation, evaluate
+from partsdb.ranking.checks import Evaluation, evaluate, sink_mode
 from partsdb.ranking.columns import CatalogColumns, _name, _num
 from partsdb.ranking.fastpath import group_scores
 from partsdb.ranking.model import (
@@ -172,9 +179,9 @@ def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | Non
     # The original itself is left out of its own list (by position, without a gather).
     exclude: int | None = None
     if original is not None:
-        at = int(np.searchsorted(rows, original))
-        if at < rows.shape[0] and rows[at] == original:
-            exclude = at
+        place = int(np.searchsorted(rows, original))
+        if place < rows.shape[0] and rows[place] == original:
+            exclude = place
     scored = group_scores(view, rows, requirement, stress, policy, weights, stock_qty, hist,
                            limit, keep, exclude)
     at = scored.positions
@@ -191,7 +198,8 @@ def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | Non
         top = at[_top(scored.score, scored.verdict, view, limit, sub_exclude,
                       None if keep is None else keep[at], at)]
     ev = scored.detail(top)
-    candidates = _candidates(catalog, ev, None, requirement, stress, policy, history, locations)
+    candidates = _candidates(catalog, ev, None, requirement, stress, policy, weights, history,
+                             locations)
     compatible = int(rows.shape[0]) if keep is None else int(np.count_nonzero(keep))
     if exclude is not None and (keep is None or keep[exclude]):
         compatible -= 1
@@ -211,7 +219,8 @@ def rank(catalog: CatalogColumns, requirement: Requirement, stress: Stress | Non
             if kind != requirement.kind:
                 why.append(f"kind {kind or 'unknown'}, need {requirement.kind}")
             reasons.append("; ".join(why))
-        candidates += _candidates(catalog, rev, rtop, requirement, stress, policy, history,
+        candidates += _candidates(catalog, rev, rtop, requirement, stress, policy, weights,
+                                  history,
                                   locations, reasons)
     return RankResult(requirement, stress, policy, weights, tuple(candidates),
                       catalog.size if considered is None else considered, compatible)
@@ -222,7 +231,7 @@ def _floats_or_none(values: np.ndarray) -> list[float | None]:
 
 
 def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req: Requirement,
-                stress: Stress, policy: Policy, history: Mapping[str, PastSwaps] | None,
+                stress: Stress, policy: Policy, weights: Weights, history: Mapping[str, PastSwaps] | None,
                 locations: Mapping[str, Sequence[str]] | None,
                 rejected: Sequence[str] | None = None) -> list[Candidate]:
     """The rows at positions ``at`` of the evaluation (None: all, in order), in that order, as
@@ -259,9 +268,9 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
                                        fit_note(name, need_text, off_text, status[j]),
                                        FIT_CODES[name] if status[j] == "marginal" else ""))
                 shown[j][name] = (need_text or "—", off_text or "—")
-                if need_text is not None:
+                if col.basis != "none":
                     applicable[j] += 1
-                    known[j] += off_text is not None
+                    known[j] += status[j] != "unknown"
             continue
         if isinstance(col.need, np.ndarray):
             need_at = _floats_or_none(pick(col.need))
@@ -272,18 +281,23 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
         ratios: list[float | None] = [None] * k if col.ratio is None else [
             v if math.isfinite(v) else None for v in pick(col.ratio).astype(float).tolist()]
         basis = col.basis
+        sinks = [None] * k if col.extra is None else _floats_or_none(pick(col.extra))
         for j in range(k):
             need, off = need_at[j], offered[j]
-            if need is not None:
+            if basis != "none":
                 applicable[j] += 1
-                known[j] += off is not None
+                known[j] += status[j] != "unknown"
             checks[j].append(Check(name, need, off, ratios[j], status[j],
                                    rating_note(name, basis, need, off, req, stress, policy,
-                                               devs[j]),
-                                   gain_code(req, devs[j]) if name == "hfe" else ""))
-            shown[j][name] = (_shown(name, need, req), _shown(name, off, devs[j]))
+                                               devs[j], sinks[j], status[j]),
+                                   gain_code(req, devs[j]) if name == "hfe" else "",
+                                   sinks[j] if name == "ptot" else None))
+            shown[j][name] = (_shown(name, need, req, basis), _shown(name, off, devs[j]))
 
     subs = {name: pick(ev.columns[name].sub).astype(float).tolist() for name in PARAMETERS}
+    w = weights.as_dict()
+    total_weight = weights.total()
+    full = {name: 100.0 * weight / total_weight for name, weight in w.items()}
     stock = pick(ev.stock).tolist()
     hist = pick(ev.history).astype(float).tolist()
     score = pick(ev.score).astype(float).tolist()
@@ -292,6 +306,8 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
     free_air = cat.free_air.take(grows).astype(float).tolist()
     tj_eff = cat.tj_effective.take(grows).astype(float).tolist()
     allowed = pick(ev.allowed_power).astype(float).tolist()
+    extra = ev.columns["ptot"].extra
+    sink_needed = [None] * k if extra is None else _floats_or_none(pick(extra))
     out = []
     for j in range(k):
         dev = devs[j]
@@ -300,7 +316,14 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
         if rejected is not None:
             flags.append(Flag("incompatible", f"not a substitute: {rejected[j]}"))
         _flags(flags, dev, req, stress, needs["ft"][j], case_rated[j], free_air[j],
-               allowed[j], tj_eff[j])
+               allowed[j], tj_eff[j], sink_mode(req, stress), sink_needed[j])
+        confidence = known[j] / applicable[j] if applicable[j] else 1.0
+        if confidence < policy.min_confidence - 1e-9:
+            flags.append(Flag("low-confidence",
+                              f"only {known[j]} of {applicable[j]} checks could be compared "
+                              f"({confidence:.0%}, {policy.name} asks for at least "
+                              f"{policy.min_confidence:.0%}): at best marginal; read the "
+                              "datasheet for the missing values"))
         past = (history or {}).get(key)
         if past is not None and (past.worked or past.failed):
             jobs = f" (jobs {', '.join(past.jobs)})" if past.jobs else ""
@@ -315,18 +338,23 @@ def _candidates(cat: CatalogColumns, ev: Evaluation, at: np.ndarray | None, req:
         row_subs = {name: subs[name][j] for name in PARAMETERS}
         row_subs["stock"] = float(stock[j] > 0)
         row_subs["history"] = hist[j]
+        parts = {name: 100.0 * w[name] * row_subs[name] / total_weight for name in row_subs}
         qty = int(stock[j])
         out.append(Candidate(
             dev["designation"], key, score[j],
-            VERDICTS[3] if rejected is not None else VERDICTS[verdict[j]], qty,
+            VERDICTS[INCOMPATIBLE] if rejected is not None else VERDICTS[verdict[j]], qty,
             tuple((locations or {}).get(key, ())) if qty > 0 else (), tuple(checks[j]),
-            tuple(flags), known[j] / applicable[j] if applicable[j] else 1.0, row_subs, dev,
-            shown[j]))
+            tuple(flags), confidence, row_subs, dev,
+            shown[j], parts, full))
     return out
 
 
-def _shown(name: str, value: float | None, source: Requirement | Mapping[str, Any]) -> str:
-    """A check's need or offered value as shown (the hFE window as a window)."""
+def _shown(name: str, value: float | None, source: Requirement | Mapping[str, Any],
+           basis: str = "") -> str:
+    """A check's need or offered value as shown (the hFE window as a window; a junction
+    temperature estimate marked as one, never as a need)."""
+    if name == "tj_max" and basis == "stress":
+        return "—" if value is None else f"(est. Tj {value:.0f} °C)"
     if name == "hfe" and value is not None:
         lo, hi = (source.hfe_min, source.hfe_max) if isinstance(source, Requirement) else \
             (source["hfe_min"], source["hfe_max"])
@@ -338,11 +366,12 @@ def _shown(name: str, value: float | None, source: Requirement | Mapping[str, An
 
 def _flags(flags: list[Flag], dev: dict[str, Any], req: Requirement,
            stress: Stress, ft_need: float | None, case_rated: bool, free_air: float,
-           allowed: float, tj_effective: float) -> None:
+           allowed: float, tj_effective: float, mode: str,
+           sink_needed: float | None = None) -> None:
     """The flags of one candidate: facts no check covers (a fit that needs work, or a gain far
     off the need, is its check's status, note and code, not a flag)."""
     for name, stressed in (("vceo", stress.vce_peak), ("vcbo", stress.vce_peak),
-                           ("ic_max", stress.ic_peak)):
+                           ("vebo", stress.veb_peak), ("ic_max", stress.ic_peak)):
         original = getattr(req, name)
         offered = dev[name]
         if stressed is not None and original is not None and offered is not None \
@@ -350,12 +379,15 @@ def _flags(flags: list[Flag], dev: dict[str, Any], req: Requirement,
             flags.append(Flag("below-original", below_original(name, offered, original)))
     if case_rated and dev["ptot"] is not None:
         flags.append(Flag("case-rating-converted",
-                          case_rating_message(dev, stress, free_air, allowed)))
+                          case_rating_message(dev, stress, free_air, allowed, mode,
+                                              sink_needed)))
     if dev["tj_max"] is None and dev["ptot"] is not None:
         flags.append(Flag("tj-assumed", f"Tj max not in the record: {tj_effective:g} °C "
                                         f"assumed for {dev['material']} to derate Ptot"))
-    if dev["ft"] is not None and ft_need is not None and dev["ft"] > FT_FAST_FACTOR * ft_need:
-        flags.append(Flag("much-faster", much_faster(dev["ft"])))
+    # judged against the original's fT, or the need when there is no original's
+    ft_ref = req.ft if req.ft is not None else ft_need
+    if dev["ft"] is not None and ft_ref is not None and dev["ft"] > FT_FAST_FACTOR * ft_ref:
+        flags.append(Flag("much-faster", much_faster(dev["ft"], req.ft is not None)))
 
 
 def assess(device: Device, requirement: Requirement, stress: Stress | None = None,
@@ -376,5 +408,5 @@ def assess(device: Device, requirement: Requirement, stress: Stress | None = Non
         reasons.append(f"polarity {device.polarity}, need {requirement.polarity}")
     if device.kind != requirement.kind:
         reasons.append(f"kind {device.kind}, need {requirement.kind}")
-    return _candidates(cat, ev, None, requirement, stress, policy, None, None,
+    return _candidates(cat, ev, None, requirement, stress, policy, weights, None, None,
                        ["; ".join(reasons)] if reasons else None)[0]

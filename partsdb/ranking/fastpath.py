@@ -11,6 +11,7 @@ from __future__ import annotations
 
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass
+from typing import Literal
 
 import numpy as np
 
@@ -19,8 +20,11 @@ from partsdb.ranking.checks import (
     Column,
     Evaluation,
     check_columns,
+    confidence_verdict,
     evaluate,
     extras,
+    most_unknown,
+    unknown_part,
     verdict_part,
 )
 from partsdb.ranking.columns import CatalogColumns
@@ -32,10 +36,11 @@ from partsdb.ranking.model import Requirement, Stress, Weights
 # per distinct tuple and gathered to the rows by a code cached with the group, so a ranking
 # costs a handful of gathers over the group instead of a hundred array operations.
 _BLOCKS: tuple[tuple[tuple[str, ...], tuple[str, ...]], ...] = (
-    (("vceo", "vcbo", "ic_max"), ("vceo", "vcbo", "ic_max")),
-    (("ptot", "tj_max", "tj_effective", "case_rated", "case_free_air"), ("ptot", "tj_max")),
+    (("vceo", "vcbo", "vebo", "ic_max"), ("vceo", "vcbo", "vebo", "ic_max")),
+    (("ptot", "tj_max", "tj_effective", "case_rated", "case_free_air", "case_sink"),
+     ("ptot", "tj_max")),
     (("ft",), ("ft",)),
-    (("hfe_min", "hfe_max"), ("hfe",)),
+    (("hfe_min", "hfe_max", "hfe_ic"), ("hfe",)),
     (("package",), ("package",)),
     (("pinout",), ("pinout",)),
     (("material",), ("material",)),
@@ -126,9 +131,17 @@ class Scores:
     rows left out cannot be among the best ``limit`` (see :func:`group_scores`)."""
 
 
-_FAST = "clip"
+_FAST: Literal["clip"] = "clip"
 """Gather mode: every code is in range by construction, and numpy's bounds-checking default
 ("raise") makes each gather over the group about 1.6 times slower."""
+
+
+def _gather(col: Column, at: np.ndarray) -> Column:
+    """The column's values at ``at`` (a scalar need stays a scalar)."""
+    return Column(col.need[at] if isinstance(col.need, np.ndarray) else col.need,
+                  col.offered[at], col.status[at], col.sub[at],
+                  None if col.ratio is None else col.ratio[at], col.basis,
+                  None if col.extra is None else col.extra[at])
 
 
 def _split_columns(cat: CatalogColumns, b: int, block: _Block, req: Requirement,
@@ -146,9 +159,7 @@ def _split_columns(cat: CatalogColumns, b: int, block: _Block, req: Requirement,
         part = splits[name]
         col = check_columns(part.table, req, stress, policy, (name,))[0][name]
         at = part.codes
-        cols[name] = Column(col.need[at] if isinstance(col.need, np.ndarray) else col.need,
-                             col.offered[at], col.status[at], col.sub[at],
-                             None if col.ratio is None else col.ratio[at], col.basis)
+        cols[name] = _gather(col, at)
     return cols
 
 
@@ -180,6 +191,9 @@ def group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress
     w = weights.as_dict()
     blocks, joint = _group_blocks(cat)
     joint_v = np.zeros(len(joint.parts[0]), np.int8)
+    joint_u = np.zeros(len(joint.parts[0]), np.int8)
+    part_us: list[np.ndarray] = []
+    applicable = 0
     computed: list[tuple[_Block, dict[str, Column], np.ndarray | None, np.ndarray | None]] = []
     part_vs: list[np.ndarray] = []
     for b, ((fields_, names), block) in enumerate(zip(_BLOCKS, blocks, strict=True)):
@@ -191,16 +205,29 @@ def group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress
             cols, allowed, tj_est = check_columns(block.table, req, stress, policy, names)
         computed.append((block, cols, allowed, tj_est))
         part_v = verdict_part(cols, block.table.size)
+        part_u, block_applicable = unknown_part(cols, block.table.size)
+        applicable += block_applicable
         if b >= _VERDICT_JOINT_FROM:
             np.maximum(joint_v, part_v[joint.parts[b - _VERDICT_JOINT_FROM]], out=joint_v)
+            joint_u += part_u[joint.parts[b - _VERDICT_JOINT_FROM]]
         else:
             part_vs.append(part_v)
+            part_us.append(part_u)
+    # Confidence: more unknown checks than the policy allows keeps a row from suitable; the
+    # counts are summed over the blocks (the verdict codes are a maximum).
+    most = most_unknown(applicable, policy)
+
+    def unknown_at(at: np.ndarray) -> np.ndarray:
+        out = joint_u.take(joint.codes.take(at))
+        for block, part_u in zip(blocks, part_us, strict=False):
+            out += part_u.take(block.codes.take(at))
+        return out
 
     def verdict_at(at: np.ndarray) -> np.ndarray:
         out = joint_v.take(joint.codes.take(at))
         for block, part_v in zip(blocks, part_vs, strict=False):
             np.maximum(out, part_v.take(block.codes.take(at)), out=out)
-        return out
+        return confidence_verdict(out, unknown_at(at), most)
 
     def returnable(within: np.ndarray, worst: int, exclude_verdict: int) -> int:
         count = within.shape[0] if keep is None else int(np.count_nonzero(keep[within]))
@@ -213,7 +240,7 @@ def group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress
     scored_verdict: np.ndarray | None = None
     if limit is not None:
         # The best verdict classes holding ``limit`` returnable rows are all that can be
-        # returned (verdict codes are 0, 1, 2; a worse class sorts after every better row).
+        # returned (verdict codes are 0 to 3; a worse class sorts after every better row).
         # The suitable rows first, found through the joint checks (few rows pass them all)
         # before the ratings are read: the whole verdict is then seldom needed.
         ex_v = -1 if exclude is None else int(verdict_at(np.array([exclude]))[0])
@@ -221,11 +248,12 @@ def group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress
         # (no pass over the whole group), then the other blocks on those rows only.
         ok = np.flatnonzero(joint_v == 0)
         lo, count = joint.start[ok], joint.start[ok + 1] - joint.start[ok]
-        total = int(count.sum())
+        n_within = int(count.sum())
         ends = np.cumsum(count)
-        within = joint.order.take(np.repeat(lo - (ends - count), count) + np.arange(total))
+        within = joint.order.take(np.repeat(lo - (ends - count), count) + np.arange(n_within))
         for block, part_v in zip(blocks, part_vs, strict=False):
             within = within[part_v.take(block.codes.take(within)) == 0]
+        within = within[unknown_at(within) <= most]
         within.sort(kind="stable")  # ascending runs, one per combination: merged, not sorted
         if returnable(within, 0, ex_v) >= limit:
             positions = within
@@ -241,6 +269,11 @@ def group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress
                 np.maximum(verdict, vbuffer, out=verdict)
         np.take(joint_v, joint.codes, out=vbuffer, mode=_FAST)
         np.maximum(verdict, vbuffer, out=verdict)
+        unknown = np.take(joint_u, joint.codes, mode=_FAST)
+        for block, part_u in zip(blocks, part_us, strict=False):
+            np.take(part_u, block.codes, out=vbuffer, mode=_FAST)
+            unknown += vbuffer
+        confidence_verdict(verdict, unknown, most)
         if limit is not None:
             within = np.flatnonzero(verdict <= 1)
             if returnable(within, 1, ex_v) >= limit:
@@ -291,10 +324,7 @@ def group_scores(cat: CatalogColumns, rows: np.ndarray, req: Requirement, stress
         for block, bcols, b_allowed, b_tj in computed:
             at = block.codes[top]
             for name, col in bcols.items():
-                cols[name] = Column(col.need[at] if isinstance(col.need, np.ndarray)
-                                     else col.need, col.offered[at], col.status[at],
-                                     col.sub[at], None if col.ratio is None else col.ratio[at],
-                                     col.basis)
+                cols[name] = _gather(col, at)
             if b_allowed is not None:
                 allowed = b_allowed[at]
                 tj_est = None if b_tj is None else b_tj[at]

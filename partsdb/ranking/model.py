@@ -24,7 +24,7 @@ KINDS: tuple[str, ...] = ("bjt", "darlington")
 MATERIALS: tuple[str, ...] = ("si", "ge", "other")
 
 
-PARAMETERS: tuple[str, ...] = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "ft", "hfe",
+PARAMETERS: tuple[str, ...] = ("vceo", "vcbo", "vebo", "ic_max", "ptot", "tj_max", "ft", "hfe",
                                "package", "pinout", "material")
 # An unknown value on these, against a known need, means the part cannot be confirmed.
 PRIMARY: tuple[str, ...] = ("vceo", "ic_max", "ptot")
@@ -44,8 +44,15 @@ under this code among the JSON flags (:meth:`partsdb.ranking.Candidate.flag_code
 # a minimum above three times the needed maximum is "much higher gain".
 HFE_LOW_FACTOR = 2.0
 HFE_HIGH_FACTOR = 3.0
-# A part more than ten times faster than needed may oscillate (common practice).
+# A part more than ten times faster than the original (or the need) may oscillate (common
+# practice); its fT sub-score falls from there, to half marks at 100 times.
 FT_FAST_FACTOR = 10.0
+# hFE measured at test currents more than a decade apart are not comparable (gain falls at both
+# ends of the current range; common practice): the hFE check is then at best marginal.
+HFE_CURRENT_DECADES = 1.0
+HEATSINK_FREE_AIR = math.inf
+"""``--heatsink free-air``: no sink at all (an infinite sink-to-ambient resistance): a
+case-rated part stands in free air on its bare outline."""
 
 SUB_UNKNOWN_RATING = 0.25
 SUB_UNKNOWN_FIT = 0.4
@@ -83,12 +90,15 @@ class Requirement:
     material: str | None = None
     vceo: float | None = None
     vcbo: float | None = None
+    vebo: float | None = None
     ic_max: float | None = None
     ptot: float | None = None
     ptot_ref: str | None = None
     tj_max: float | None = None
     hfe_min: float | None = None
     hfe_max: float | None = None
+    hfe_ic: float | None = None
+    """Collector current of the hFE test, A."""
     ft: float | None = None
     package: str | None = None
     pinout: str | None = None
@@ -106,7 +116,8 @@ class Requirement:
             raise SpecError(f"material: {self.material!r} is not valid; expected si, ge or other")
         if self.ptot_ref is not None and self.ptot_ref not in ("ambient", "case"):
             raise SpecError(f"ptot_ref: {self.ptot_ref!r} is not valid; expected ambient or case")
-        for name in ("vceo", "vcbo", "ic_max", "ptot", "hfe_min", "hfe_max", "ft"):
+        for name in ("vceo", "vcbo", "vebo", "ic_max", "ptot", "hfe_min", "hfe_max", "hfe_ic",
+                     "ft"):
             _check_positive(name, getattr(self, name))
         if self.tj_max is not None and not (isinstance(self.tj_max, int | float)
                                             and math.isfinite(self.tj_max) and self.tj_max > 25):
@@ -132,9 +143,10 @@ class Requirement:
     def from_device(cls, device: Device) -> Requirement:
         """Like-for-like: the original's own record is the requirement."""
         return cls(polarity=device.polarity, kind=device.kind, material=device.material,
-                   vceo=device.vceo, vcbo=device.vcbo, ic_max=device.ic_max, ptot=device.ptot,
-                   ptot_ref=device.ptot_ref, tj_max=device.tj_max, hfe_min=device.hfe_min,
-                   hfe_max=device.hfe_max, ft=device.ft, package=device.package,
+                   vceo=device.vceo, vcbo=device.vcbo, vebo=device.vebo, ic_max=device.ic_max,
+                   ptot=device.ptot, ptot_ref=device.ptot_ref, tj_max=device.tj_max,
+                   hfe_min=device.hfe_min, hfe_max=device.hfe_max, hfe_ic=device.hfe_ic,
+                   ft=device.ft, package=device.package,
                    pinout=device.pinout, designation=device.designation, source="stored")
 
     def overridden(self, **given: Any) -> Requirement:
@@ -162,6 +174,8 @@ class Stress:
     """
 
     vce_peak: float | None = None
+    veb_peak: float | None = None
+    """Highest reverse base-emitter voltage, V (the need on Vebo)."""
     ic_peak: float | None = None
     power: float | None = None
     """Dissipation in the part, W."""
@@ -169,7 +183,9 @@ class Stress:
     freq: float | None = None
     """Highest signal frequency the stage must amplify, Hz."""
     heatsink: float | None = None
-    """Sink-to-ambient thermal resistance for case-rated parts, K/W (None: no sink)."""
+    """Sink-to-ambient thermal resistance for case-rated parts, K/W; :data:`HEATSINK_FREE_AIR`
+    (infinite) for no sink at all; None: not given (a case-rated original's own sink is
+    assumed, see :mod:`partsdb.ranking.checks`)."""
 
     def __post_init__(self) -> None:
         for row in STRESS_FIELDS:
@@ -180,10 +196,10 @@ class Stress:
             raise SpecError(f"ambient: {self.ambient!r} is not valid; expected a temperature in °C "
                             "between -80 and 250")
         if self.heatsink is not None and not (isinstance(self.heatsink, int | float)
-                                              and math.isfinite(self.heatsink)
+                                              and not math.isnan(self.heatsink)
                                               and self.heatsink >= 0):
             raise SpecError(f"heatsink: {self.heatsink!r} is not valid; expected a thermal "
-                            "resistance in K/W, 0 or more")
+                            "resistance in K/W, 0 or more, or free-air")
 
     @classmethod
     def from_values(cls, values: Mapping[str, Any]) -> Stress:
@@ -201,8 +217,16 @@ class Stress:
         return any(getattr(self, row.name) is not None for row in STRESS_FIELDS
                    if row.sets_need)
 
+    @property
+    def free_air(self) -> bool:
+        """True for ``--heatsink free-air``."""
+        return self.heatsink is not None and math.isinf(self.heatsink)
+
     def to_json(self) -> dict[str, Any]:
-        return {row.name: getattr(self, row.name) for row in STRESS_FIELDS}
+        out = {row.name: getattr(self, row.name) for row in STRESS_FIELDS}
+        if self.free_air:
+            out["heatsink"] = "free-air"
+        return out
 
 
 @dataclass(frozen=True)
@@ -211,6 +235,7 @@ class Weights:
 
     vceo: float = 20.0
     vcbo: float = 5.0
+    vebo: float = 3.0
     ic_max: float = 15.0
     ptot: float = 15.0
     tj_max: float = 5.0

@@ -13,6 +13,7 @@ from typing import Any
 from partsdb.derating import Policy
 from partsdb.ranking.model import (
     FT_FAST_FACTOR,
+    HFE_CURRENT_DECADES,
     HFE_HIGH_FACTOR,
     HFE_LOW_FACTOR,
     LABEL,
@@ -21,7 +22,7 @@ from partsdb.ranking.model import (
     Stress,
     outline_key,
 )
-from partsdb.thermal import DEFAULT_CASE_TO_SINK, FREE_AIR_CASE_TO_AMBIENT
+from partsdb.thermal import FREE_AIR_CASE_TO_AMBIENT, SINK_SWEEP, mounting_resistance
 
 _SI_STEPS: tuple[tuple[float, str], ...] = (
     (1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, ""), (1e-3, "m"), (1e-6, "µ"), (1e-9, "n"),
@@ -84,17 +85,39 @@ def fit_note(name: str, need: str | None, offered: str | None, status: str) -> s
         return (f"material {need} -> {offered}: Vbe about "
                 + ("0.6-0.7 V instead of 0.2-0.3 V" if offered == "si" else
                    "0.2-0.3 V instead of 0.6-0.7 V")
-                + "; re-check the bias (partsdb bias)")
+                + "; re-check the bias (partsdb bias)"
+                + ("; germanium circuits often reverse-bias the base-emitter junction past "
+                   "a silicon part's Vebo (about 5 V): see the Vebo check"
+                   if offered == "si" else ""))
     return f"material {need} -> {offered}: re-check the bias (partsdb bias)"
 
 
-_POLICY_FACTOR = {"vceo": "voltage", "vcbo": "voltage", "ic_max": "current", "ptot": "power"}
-_STRESS_NAME = {"vceo": "Vce peak", "vcbo": "Vce peak", "ic_max": "Ic peak", "ptot": "dissipation"}
+_POLICY_FACTOR = {"vceo": "voltage", "vcbo": "voltage", "vebo": "voltage", "ic_max": "current",
+                  "ptot": "power"}
+_STRESS_NAME = {"vceo": "Vce peak", "vcbo": "Vce peak", "vebo": "Veb peak", "ic_max": "Ic peak",
+                "ptot": "dissipation"}
 
 
 def rating_note(name: str, basis: str, need: float | None, offered: float | None,
-                 req: Requirement, stress: Stress, policy: Policy, dev: dict[str, Any]) -> str:
+                 req: Requirement, stress: Stress, policy: Policy, dev: dict[str, Any],
+                 sink_needed: float | None = None, status: str = "") -> str:
     unit = UNIT[name]
+    hot = name == "tj_max" and offered is not None and stress.ambient >= offered
+    if hot:
+        return (f"ambient {stress.ambient:g} °C is at or above Tj max {offered:.0f} °C: the part "
+                "can dissipate nothing there")
+    if name == "tj_max" and basis == "stress" and need is None and offered is not None \
+            and dev.get("ptot_ref") == "case":
+        return ("no Tj estimate: the heat sink is not known; judged with the sink the Ptot "
+                "check names")
+    if name == "ptot" and basis == "needed" and offered is not None:
+        return _needed_note(offered, stress, policy, dev, sink_needed)
+    if name == "ptot" and basis == "sweep" and need is not None and offered is not None:
+        return (f"on the original's heat sink (assumed, not given: compared over "
+                f"{', '.join(f'{x:g}' for x in SINK_SWEEP)} K/W sink-to-ambient with each "
+                f"outline's mounting resistance; worst case shown): allows "
+                f"{fmt(offered, 'W')} against the original's {fmt(need, 'W')} at "
+                f"{stress.ambient:g} °C")
     if need is None:
         return "no requirement (the original's value is unknown and no stress given)"
     if offered is None:
@@ -112,6 +135,16 @@ def rating_note(name: str, basis: str, need: float | None, offered: float | None
         cand = (f"{dev['hfe_min']:g}..{dev['hfe_max']:g}" if dev["hfe_max"] is not None
                 else f"{dev['hfe_min']:g}")
         text = f"window {cand} against {win} (log scale)"
+        if dev.get("hfe_ic") is not None and req.hfe_ic is not None:
+            text += (f"; hFE measured at {fmt(dev['hfe_ic'], 'A')} against "
+                     f"{fmt(req.hfe_ic, 'A')}")
+            if stress.ic_peak is not None:
+                text += f" (stage current {fmt(stress.ic_peak, 'A')})"
+            if abs(math.log10(dev["hfe_ic"] / req.hfe_ic)) > HFE_CURRENT_DECADES:
+                text += ": more than a decade apart, so the gains are not comparable (at best " \
+                        "marginal; common practice)"
+        if status == "under-rated":
+            text += "; the window lies below the need: under-rated (common practice)"
         code = gain_code(req, dev)
         if code == "high-gain":
             need_hi = req.hfe_max if req.hfe_max is not None else req.hfe_min
@@ -125,6 +158,11 @@ def rating_note(name: str, basis: str, need: float | None, offered: float | None
             return (f"fT {fmt(offered, 'Hz')} against hFE min x f = {req.hfe_min:g} x "
                     f"{fmt(stress.freq, 'Hz')} = {fmt(need, 'Hz')} (gain-bandwidth, "
                     "textbook: gain falls as fT/f above f_beta)")
+        if basis == "gain-bandwidth-capped":
+            return (f"fT {fmt(offered, 'Hz')} against the original's {fmt(need, 'Hz')} (hFE min "
+                    f"x f = {req.hfe_min:g} x {fmt(stress.freq, 'Hz')} = "
+                    f"{fmt((req.hfe_min or 0.0) * (stress.freq or 0.0), 'Hz')} is more than the original "
+                    "offers, so the need is capped at the original's fT)")
         return (f"fT {fmt(offered, 'Hz')} against the original's {fmt(need, 'Hz')}"
                 + (" (no hFE min known, so --freq was not used)"
                    if stress.freq is not None else ""))
@@ -135,8 +173,10 @@ def rating_note(name: str, basis: str, need: float | None, offered: float | None
         return (f"{what} {fmt(need, unit)} is {pct(need / offered)} of {rating} "
                 f"{fmt(offered, unit)}; {policy.name} allows {pct(factor)}")
     if name == "ptot":
+        where = ("with no heat sink (free air)" if stress.free_air or stress.heatsink is None
+                 else f"on a {stress.heatsink:g} K/W heat sink")
         return (f"allowed power at {stress.ambient:g} °C {fmt(offered, 'W')} against the "
-                f"original's {fmt(need, 'W')} in the same mounting")
+                f"original's {fmt(need, 'W')}, {where}")
     return f"{LABEL[name]} {fmt(offered, unit)} against the original's {fmt(need, unit)}"
 
 
@@ -150,9 +190,22 @@ def below_original(name: str, offered: float, original: float) -> str:
 
 
 def case_rating_message(dev: dict[str, Any], stress: Stress, free_air: float,
-                         allowed: float) -> str:
-    sink = (f"heat sink {stress.heatsink:g} K/W + {DEFAULT_CASE_TO_SINK:g} K/W case-to-sink"
-            if stress.heatsink is not None else
+                         allowed: float, mode: str = "free-air",
+                         sink_needed: float | None = None) -> str:
+    mounting = mounting_resistance(dev["package"])
+    if mode == "sweep":
+        return (f"Ptot {fmt(dev['ptot'], 'W')} is a case rating; assumed on the original's heat "
+                f"sink ({mounting:g} K/W case-to-sink for its outline class), worst case "
+                f"{fmt(allowed, 'W')} at {stress.ambient:g} °C")
+    if mode == "needed":
+        need = ("no heat sink needed" if sink_needed is None else
+                "no heat sink is enough" if sink_needed <= 0 else
+                f"needs a heat sink of {sink_needed:.2g} K/W or better")
+        return (f"Ptot {fmt(dev['ptot'], 'W')} is a case rating and no heat sink was given: "
+                f"{need} at {fmt(stress.power, 'W')} ({mounting:g} K/W case-to-sink for its "
+                "outline class)")
+    sink = (f"heat sink {stress.heatsink:g} K/W + {mounting:g} K/W case-to-sink"
+            if mode == "given" and stress.heatsink is not None else
             f"no heat sink: {free_air:g} K/W case-to-ambient in free air "
             f"for {dev['package'] or 'an unknown outline'}"
             + ("" if outline_key(dev["package"]) in _TABLED_OUTLINES else " (assumed)"))
@@ -160,9 +213,29 @@ def case_rating_message(dev: dict[str, Any], stress: Stress, free_air: float,
             f"thermal chain ({sink}) to {fmt(allowed, 'W')} at {stress.ambient:g} °C")
 
 
-def much_faster(ft: float) -> str:
-    return (f"fT {fmt(ft, 'Hz')} is over {FT_FAST_FACTOR:g}x the need: it may oscillate; keep "
-            "leads short, add a base stopper if needed (common practice)")
+def much_faster(ft: float, of_original: bool = True) -> str:
+    return (f"fT {fmt(ft, 'Hz')} is over {FT_FAST_FACTOR:g}x "
+            + ("the original's" if of_original else "the need")
+            + ": it may oscillate; keep leads short, add a base stopper if needed (common "
+            "practice)")
+
+
+def _needed_note(offered: float, stress: Stress, policy: Policy, dev: dict[str, Any],
+                 sink: float | None) -> str:
+    power = fmt(stress.power, "W")
+    if dev.get("ptot_ref") != "case":
+        factor = policy.power
+        return (f"dissipation {power} is {pct((stress.power or 0.0) / offered)} of allowed "
+                f"power {fmt(offered, 'W')} in free air; {policy.name} allows {pct(factor)}")
+    if sink is None:
+        return (f"dissipation {power}: no heat sink needed (the bare outline keeps Tj within "
+                f"{policy.name}'s limit)")
+    if sink <= 0:
+        return (f"dissipation {power} is more than even an ideal heat sink allows at "
+                f"{policy.name}'s Tj limit ({fmt(offered, 'W')})")
+    return (f"dissipation {power}: needs a heat sink of {sink:.2g} K/W or better "
+            f"(sink-to-ambient, at {stress.ambient:g} °C, {policy.name}'s Tj limit; "
+            "Rth s-a <= (Tj allowed - Ta)/P - Rth j-c - Rth c-s)")
 
 
 

@@ -14,8 +14,12 @@ from typing import Any
 
 from partsdb.cautions import SAFETY_CAUTIONS
 from partsdb.derating import Policy
-from partsdb.ranking.model import Requirement, Stress, Weights
+from partsdb.ranking.model import LABEL, Requirement, Stress, Weights
 from partsdb.ranking.notes import unknown_data_message
+
+ORDER_TEXT = ("verdict first (suitable, marginal, unverified, under-rated), then score "
+              "(higher first); the score's parts are points per criterion")
+"""How a ranking is ordered, as the faces say it above the list."""
 
 
 @dataclass(frozen=True, slots=True)
@@ -34,12 +38,20 @@ class Check:
     code: str = ""
     """A short code for what needs doing when the check is not ok (``re-form-leads``,
     ``other-outline``, ``material-change``, ``low-gain``, ``high-gain``), else ""."""
+    heatsink_needed: float | None = None
+    """ptot only: the largest sink-to-ambient K/W that keeps the junction within the policy
+    (``--power`` given, no ``--heatsink``, case rating); None when no sink is needed (or the
+    question does not arise), 0 or below when no sink suffices."""
 
     def to_json(self) -> dict[str, Any]:
         # (the code travels in the candidate's "flags" and "problems"; this object's keys are
         # a published contract)
-        return {"parameter": self.parameter, "need": self.need, "offered": self.offered,
-                "ratio": self.ratio, "status": self.status, "note": self.note}
+        out = {"parameter": self.parameter, "need": self.need, "offered": self.offered,
+               "ratio": self.ratio, "status": self.status, "note": self.note}
+        if self.parameter == "ptot":
+            out["heatsink_needed"] = (None if self.heatsink_needed is None
+                                      else round(self.heatsink_needed, 3))
+        return out
 
 
 @dataclass(frozen=True, slots=True)
@@ -99,6 +111,32 @@ class Candidate:
     device: Mapping[str, Any] = field(default_factory=dict)
     shown: Mapping[str, tuple[str, str]] = field(default_factory=dict)
     """Per check parameter, (need, offered) as shown with units (for :meth:`problems`)."""
+    score_parts: Mapping[str, float] = field(default_factory=dict)
+    """Points each criterion adds to the score, 100 x w_i x s_i / sum(w): they sum to it."""
+    full_points: Mapping[str, float] = field(default_factory=dict)
+    """Points each criterion would add at full marks, 100 x w_i / sum(w)."""
+
+    def gains_and_losses(self, count: int = 2) -> tuple[list[tuple[str, float]],
+                                                        list[tuple[str, float]]]:
+        """The ``count`` criteria adding the most points, and the ``count`` losing the most
+        against full marks (points short of 100 x w_i / sum(w)), largest first."""
+        if not self.score_parts:
+            return [], []
+        gains = sorted(self.score_parts.items(), key=lambda kv: (-kv[1], kv[0]))[:count]
+        losses = [(name, self.full_points.get(name, points) - points)
+                  for name, points in self.score_parts.items()]
+        losses = [kv for kv in losses if kv[1] > 0.05]
+        losses.sort(key=lambda kv: (-kv[1], kv[0]))
+        return [g for g in gains if g[1] > 0.05], losses[:count]
+
+    def why(self) -> str:
+        """The two largest gains and losses in points, such as ``+20 Vceo +15 Ic max / -8 fT
+        -5 hFE``."""
+        gains, losses = self.gains_and_losses()
+        text = " ".join(f"+{p:.0f} {LABEL.get(n, n)}" for n, p in gains)
+        if losses:
+            text += " / " + " ".join(f"-{p:.0f} {LABEL.get(n, n)}" for n, p in losses)
+        return text
 
     def check(self, parameter: str) -> Check:
         return next(c for c in self.checks if c.parameter == parameter)
@@ -142,6 +180,7 @@ class Candidate:
                 "flags": self._flags_json(),
                 "problems": [p.to_json() for p in self.problems()],
                 "subscores": {k: round(v, 3) for k, v in self.subscores.items()},
+                "score_parts": {k: round(v, 3) for k, v in self.score_parts.items()},
                 "device": dict(self.device)}
 
 

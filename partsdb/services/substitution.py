@@ -43,14 +43,15 @@ from partsdb.ranking import (
     rank,
 )
 from partsdb.services import catalog as catalog_service
-from partsdb.spec_fields import SPEC_NAMES, STRESS_FIELDS
+from partsdb.spec_fields import SPEC_NAMES, STRESS_FIELDS, read_sink
 from partsdb.storage.database import Database
 from partsdb.storage.models import SwapRow
 
 if TYPE_CHECKING:
     from partsdb.search import SearchIndex
 
-_NUMBER_COLUMNS = ("vceo", "vcbo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max", "ft")
+_NUMBER_COLUMNS = ("vceo", "vcbo", "vebo", "ic_max", "ptot", "tj_max", "hfe_min", "hfe_max",
+                   "hfe_ic", "ft")
 _CACHE: dict[str, tuple[tuple[Any, ...], dict[str, CatalogColumns]]] = {}
 """Per database: (catalog version, columns by part: "all" or "npn/bjt" and so on)."""
 _LOCK = threading.Lock()
@@ -305,7 +306,9 @@ def build_requirement(session: Session, designation: str | None,
         raise SpecError("no original designation and no --polarity/--kind spec given; name a "
                         "stored device or give the spec, such as --polarity npn --vceo 30V")
     if "ptot" in given and "ptot_ref" not in given:
-        given["ptot_ref"] = "ambient"  # a datasheet Ptot without a note is a free-air rating
+        # A free-air and a case rating differ several times over: never guessed.
+        raise SpecError(f"ptot_ref: not given for ptot {given['ptot']:g} W; expected ambient "
+                        "(free-air rating) or case (--ptot-ref ambient|case)")
     return Requirement(**given, designation=designation, source="given")
 
 
@@ -361,6 +364,7 @@ def parse_stress(texts: Mapping[str, str]) -> Stress:
         if text:
             try:
                 values[row.name] = (parse_temperature(text, row.name) if row.kind == "temperature"
+                                    else read_sink(text, row.name) if row.kind == "sink"
                                     else parse_quantity(text, row.unit, row.name))
             except UnitError as err:
                 raise SpecError(str(err)) from err

@@ -164,6 +164,7 @@ class SwapRow(Base):
     job: Mapped[str] = mapped_column(String(64))
     outcome: Mapped[str | None] = mapped_column(String(16))
     vce_peak: Mapped[float | None] = mapped_column(Float)
+    veb_peak: Mapped[float | None] = mapped_column(Float)
     ic_peak: Mapped[float | None] = mapped_column(Float)
     power: Mapped[float | None] = mapped_column(Float)
     ambient: Mapped[float | None] = mapped_column(Float)

@@ -60,10 +60,14 @@ def test_grade_on_both_sides_of_each_boundary() -> None:
         assert isinstance(code, int)  # a scalar gives an int, not a 0-d array
         return STATUSES[code]
 
+    # Boundaries are compared with a relative tolerance of 1e-9 (derating.REL_TOL): a stress
+    # equal to the limit up to rounding is at the limit; one a millionth above is beyond it.
     assert word(30.0) == "ok"
-    assert word(math.nextafter(30.0, 99)) == "marginal"
+    assert word(math.nextafter(30.0, 99)) == "ok"
+    assert word(30.0 * (1 + 1e-6)) == "marginal"
     assert word(40.0) == "marginal"
-    assert word(math.nextafter(40.0, 99)) == "under-rated"
+    assert word(math.nextafter(40.0, 99)) == "marginal"
+    assert word(40.0 * (1 + 1e-6)) == "under-rated"
     assert word(float("nan")) == "unknown"
     assert STATUSES[grade(10.0, None, factor)] == "unknown"
     codes = grade(np.array([30.0, 35.0, 41.0, np.nan]), rating, factor)
@@ -114,3 +118,24 @@ def test_cold_ambient_keeps_the_rating_and_lowers_the_junction() -> None:
     # in the cold a workshop-graded power is judged against the full rating: 0.43 W <= 0.7 x 0.625 = 0.4375 W
     assert STATUSES[grade(0.43, derated_power(0.625, 150.0, -20.0), 0.70)] == "ok"
     assert STATUSES[grade(0.43, derated_power(0.625, 150.0, 60.0), 0.70)] == "marginal"  # 0.45 W at 60 °C
+
+
+@pytest.mark.parametrize(("rating", "key", "policy_name"), [
+    # MIL-STD-975M Appendix A, bipolar transistors: voltage 0.75, current 0.75, power 0.50.
+    (40.0, "voltage", "mil-std-975m"), (3.0, "current", "mil-std-975m"),
+    (3.0, "power", "mil-std-975m"),
+    # The workshop rule (common practice): 0.80 / 0.80 / 0.70; 0.7 x 3 W = 2.1 W is not exact
+    # in binary (2.0999999999999996), the case issue 13 reports.
+    (3.0, "power", "workshop"), (0.1, "current", "workshop"), (45.0, "voltage", "workshop"),
+])
+def test_policy_limits_hold_on_both_sides(rating: float, key: str, policy_name: str) -> None:
+    policy = BUILTIN_POLICIES[policy_name]
+    factor = getattr(policy, key)
+    limit = float(f"{factor * rating:.12g}")  # the limit as a technician types it (2.1)
+    assert STATUSES[grade(limit, rating, factor)] == "ok"
+    assert STATUSES[grade(limit * (1 + 1e-6), rating, factor)] == "marginal"
+    assert STATUSES[grade(float(f"{rating:.12g}"), rating, factor)] == "marginal"
+    assert STATUSES[grade(rating * (1 + 1e-6), rating, factor)] == "under-rated"
+    # the array path gives the same words
+    codes = grade(np.array([limit, limit * (1 + 1e-6), rating * (1 + 1e-6)]), rating, factor)
+    assert [STATUSES[c] for c in codes] == ["ok", "marginal", "under-rated"]

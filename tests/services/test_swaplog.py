@@ -10,7 +10,7 @@ from typing import Any
 
 import pytest
 
-from partsdb.ranking import Stress
+from partsdb.ranking import SpecError, Stress
 from partsdb.services import catalog, stock, swaplog
 from partsdb.services.catalog import NotFound
 from partsdb.services.substitution import (
@@ -120,8 +120,12 @@ def test_requirement_sources_and_errors(shop: Any) -> None:
     with shop.session() as session:
         assert build_requirement(session, "QW1").source == "stored"
         assert build_requirement(session, "QW1", {"vceo": 10.0}).source == "mixed"
-        given = build_requirement(session, "GONE", {"polarity": "pnp", "ptot": 1.0})
+        given = build_requirement(session, "GONE", {"polarity": "pnp", "ptot": 1.0,
+                                                    "ptot_ref": "ambient"})
         assert (given.source, given.ptot_ref) == ("given", "ambient")
+        # issue 13: a free-air and a case rating differ several times over; never guessed
+        with pytest.raises(SpecError, match="ptot_ref"):
+            build_requirement(session, "GONE", {"polarity": "pnp", "ptot": 1.0})
         with pytest.raises(NotFound, match=r"no stored device 'QW9'.*QW"):
             build_requirement(session, "QW9")
 

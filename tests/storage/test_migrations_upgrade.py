@@ -216,7 +216,7 @@ def test_0005_merges_number_duplicates_and_keeps_the_ledger(db_url: str) -> None
         add("movements", at=AT, lot_id=lot_b, change=-1, reason="take", job="J-9")
     engine.dispose()
     db = open_database(db_url, upgrade_schema=True, notify=None)
-    assert current_revision(db.engine) == head_revision() == "0005"
+    assert current_revision(db.engine) == head_revision()
     with db.session() as session:
         assert stock.location_paths(session) == ["C3", "C3/D02"]
         assert [(v.location, v.quantity) for v in stock.where(session, "ZT303")] == \
@@ -233,4 +233,34 @@ def test_0005_merges_number_duplicates_and_keeps_the_ledger(db_url: str) -> None
         assert [(v.condition, v.quantity, v.label) for v in stock.where(session, "ZT303")] \
             == [("used", 8, "Si NPN general"), ("nos", 0, "Si NPN general")]
         assert stock.ledger_mismatches(session) == []
+    db.dispose()
+
+
+def test_swap_veb_peak_upgrade_keeps_the_recorded_swaps(db_url: str) -> None:
+    """0005 -> 0006: the swap log gains veb_peak (--veb-peak); a swap recorded before keeps
+    every value and reads back with no reverse base voltage given."""
+    from partsdb.services import swaplog
+
+    engine = make_engine(resolve_url(db_url))
+    upgrade(engine, "0005")
+    t = Base.metadata.tables
+    with engine.begin() as conn:
+        conn.execute(insert(t["devices"]).values(
+            designation="ZT303", key="ZT303", kind="bjt", polarity="npn", material="si",
+            obsolete=False, updated_at=AT))
+        conn.execute(text(
+            "INSERT INTO swaps (at, original, original_key, substitute, substitute_key, job, "
+            "outcome, vce_peak, ic_peak, power, ambient, freq, heatsink, policy, note) VALUES "
+            "(:at, 'ZT300', 'ZT300', 'ZT303', 'ZT303', 'J-7', 'worked', 18.0, 0.05, NULL, 40.0, "
+            "NULL, 2.5, 'workshop', 'old row')"), {"at": AT})
+    upgrade(engine)  # explicit, as `partsdb upgrade` does (a shared PostgreSQL database)
+    engine.dispose()
+    db = open_database(db_url, upgrade_schema=True, notify=None)
+    assert current_revision(db.engine) == "0006"
+    with db.session() as session:
+        (view,) = swaplog.list_swaps(session)
+        assert (view.original, view.substitute, view.job, view.outcome, view.note) == (
+            "ZT300", "ZT303", "J-7", "worked", "old row")
+        assert (view.stress.vce_peak, view.stress.ic_peak, view.stress.ambient,
+                view.stress.heatsink, view.stress.veb_peak) == (18.0, 0.05, 40.0, 2.5, None)
     db.dispose()

@@ -522,7 +522,7 @@ async def test_substitute_offers_every_stress_the_cli_offers(shop_db: Any) -> No
     app = build_app(shop_db, start="substitute", cursor_blink=False)
     async with app.run_test(size=SIZE) as pilot:
         view = app.view("substitute")
-        typed = {"vce_peak": "18V", "ic_peak": "50mA", "power": "100mW", "ambient": "40",
+        typed = {"vce_peak": "18V", "veb_peak": "6V", "ic_peak": "50mA", "power": "100mW", "ambient": "40",
                  "freq": "20kHz", "heatsink": "5"}
         assert set(typed) == {row.name for row in STRESS_FIELDS}
         for name, text in typed.items():
@@ -532,8 +532,8 @@ async def test_substitute_offers_every_stress_the_cli_offers(shop_db: Any) -> No
         await type_text(pilot, "qx3301")
         await pilot.press("enter")
         await pilot.pause()
-        assert view.result.stress == Stress(vce_peak=18.0, ic_peak=0.05, power=0.1, ambient=40.0,
-                                            freq=2e4, heatsink=5.0)
+        assert view.result.stress == Stress(vce_peak=18.0, veb_peak=6.0, ic_peak=0.05, power=0.1,
+                                            ambient=40.0, freq=2e4, heatsink=5.0)
         # The frequency sets the fT need by gain-bandwidth (hFE min x f).
         ft = view.result.candidates[0].check("ft")
         assert ft.need == pytest.approx(view.result.requirement.hfe_min * 2e4)
@@ -586,3 +586,42 @@ async def test_hostile_quantities_in_the_stock_form_are_refused_and_the_app_keep
             assert "1,000,000" in static_text(form.query_one("#sfe-quantity", Static))
     assert quantity_at(shop_db, "QX3302", "C1/D2") == before
     assert ledger_size(shop_db) == entries
+
+
+async def test_substitute_list_shows_confidence_and_the_order(shop_db: Any) -> None:
+    """Issue 13: the list shows each candidate's confidence; the detail names the order and the
+    score's largest gains and losses; `--heatsink free-air` is accepted as typed."""
+    app = build_app(shop_db, start="substitute", cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        view = app.view("substitute")
+        app.query_one("#ss-heatsink").focus()
+        await type_text(pilot, "free-air")
+        app.query_one("#sub-query").focus()
+        await type_text(pilot, "qx3301")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert view.result.stress.free_air
+        table = view.query_one("#sub-table")
+        labels = [str(col.label) for col in table.columns.values()]
+        assert "Known" in labels
+        known = labels.index("Known")
+        for row, c in enumerate(view.result.candidates):
+            assert str(table.get_row_at(row)[known]) == f"{c.confidence:.0%}"
+        status = static_text(view.query_one("#sub-status", Static))
+        assert "verdict first, then score" in status
+        detail = static_text(view.query_one("#sub-detail", Static))
+        gains, _ = view.result.candidates[0].gains_and_losses()
+        assert f"+{gains[0][1]:.0f}" in detail
+
+
+async def test_spec_ptot_without_its_reference_is_refused(shop_db: Any) -> None:
+    """Issue 13: a spec giving Ptot must say whether it is a free-air or a case rating."""
+    app = build_app(shop_db, start="substitute", cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        view = app.view("substitute")
+        app.query_one("#sub-spec").focus()
+        await type_text(pilot, "polarity=npn ptot=40W")
+        await pilot.press("enter")
+        await pilot.pause()
+        status = static_text(view.query_one("#sub-status", Static))
+        assert "ptot_ref" in status and view.result is None
