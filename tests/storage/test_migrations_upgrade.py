@@ -65,9 +65,9 @@ def _old_database(url: str) -> dict[str, list[tuple[object, ...]]]:
     return old_rows
 
 
-ADDED_LATER = {"key", "label", "reorder_to", "undoes"}
+ADDED_LATER = {"key", "label", "reorder_to", "undoes", "veb_peak"}
 """Columns added after revision 0001 (locations.key, 0004; locations.label, devices.reorder_to,
-movements.undoes, 0005): not there to fill or read."""
+movements.undoes, 0005; swaps.veb_peak, 0006): not there to fill or read."""
 
 
 def _without_later_columns(name: str, rows: list[tuple[object, ...]]) -> list[tuple[object, ...]]:
