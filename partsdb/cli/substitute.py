@@ -265,16 +265,51 @@ def swaplog_add(state: CliState, original: str, substitute_part: str, job: str,
                + (f", {view.outcome}" if view.outcome else "") + ")")
 
 
-@swaplog.command("list")
-@click.argument("original", required=False)
+@swaplog.command("set")
+@click.argument("swap_id", metavar="ID", type=click.IntRange(min=1))
+@click.option("--outcome", type=click.Choice(["worked", "failed", "unknown"]), required=True,
+              help="How the swap turned out (unknown clears a recorded outcome).")
+@click.option("--note", default=None, help="Replace the swap's note with this text.")
 @format_option("table", "json")
 @pass_state
-def swaplog_list(state: CliState, original: str | None, fmt: str) -> None:
-    """List recorded swaps, newest first (only those for ORIGINAL when given)."""
+def swaplog_set(state: CliState, swap_id: int, outcome: str, note: str | None,
+                fmt: str) -> None:
+    """Set the outcome (and note) of recorded swap ID after the fact."""
     from partsdb.services import swaplog as service
 
     with state.database().session() as session:
-        views = service.list_swaps(session, original)
+        view = service.set_outcome(session, swap_id, outcome, note)
+    if fmt == "json":
+        emit_json(view.to_json())
+        return
+    click.echo(f"swap #{view.id}: {view.original} -> {view.substitute} (job {view.job}): "
+               f"{view.outcome or 'outcome unknown'}")
+
+
+@swaplog.command("list")
+@click.argument("original", required=False)
+@click.option("--substitute", "substitute_part", default=None, metavar="DESIGNATION",
+              help="Only swaps that fitted this part.")
+@click.option("--job", default=None, help="Only swaps of this job reference.")
+@click.option("--outcome", type=click.Choice(["worked", "failed", "unknown"]), default=None,
+              help="Only swaps with this outcome (unknown: none recorded yet).")
+@click.option("--since", type=click.DateTime(["%Y-%m-%d"]), default=None,
+              help="Only swaps recorded on or after this day (YYYY-MM-DD).")
+@click.option("--until", type=click.DateTime(["%Y-%m-%d"]), default=None,
+              help="Only swaps recorded on or before this day (YYYY-MM-DD).")
+@format_option("table", "json")
+@pass_state
+def swaplog_list(state: CliState, original: str | None, substitute_part: str | None,
+                 job: str | None, outcome: str | None, since: Any, until: Any,
+                 fmt: str) -> None:
+    """List recorded swaps, newest first (only those for ORIGINAL when given; the options
+    narrow further)."""
+    from partsdb.services import swaplog as service
+
+    with state.database().session() as session:
+        views = service.list_swaps(session, original, substitute=substitute_part, job=job,
+                                   outcome=outcome, since=since.date() if since else None,
+                                   until=until.date() if until else None)
     if fmt == "json":
         emit_json([v.to_json() for v in views])
         return
