@@ -83,6 +83,7 @@ def _register() -> None:
         circuit,
         designations,
         exchange_cmds,
+        kit_cmd,
         labels_cmd,
         shop,
         stock_cmds,
@@ -93,7 +94,7 @@ def _register() -> None:
     for command in (*catalog_cmds.COMMANDS, *exchange_cmds.COMMANDS, *stock_cmds.COMMANDS,
                     designations.decode, designations.find, circuit.check, circuit.bias,
                     circuit.spice, substitute.substitute, substitute.swaplog, substitute.policies,
-                    shop.copy, shop.backup, shop.restore, shop.upgrade, labels_cmd.labels,
+                    shop.copy, shop.backup, shop.restore, shop.upgrade, labels_cmd.labels, kit_cmd.kit,
                     bench.bench, ui.tui):
         main.add_command(command)
     _add_completion(main)
