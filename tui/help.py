@@ -31,6 +31,7 @@ KEYS: tuple[tuple[str, str, str], ...] = (
     ("Substitute", "enter", "rank substitutes for the original typed in the search field"),
     ("Substitute", "t / w / o", "take one of the selected candidate / record the swap / save the report"),
     ("Bench", "enter or ctrl+r", "solve the stage for both transistors"),
+    ("Bench", "ctrl+s", "write the job sheet of the solved pair with this stage (.pdf/.html/.md)"),
     ("Ledger", "type in a filter", "device, place, job, from/to date (YYYY-MM-DD)"),
     ("Swaps", "type in a filter", "original, substitute, job, outcome, from/to date"),
     ("Swaps", "o", "set the outcome and note of the highlighted swap (! = audit finding)"),
