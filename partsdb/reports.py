@@ -1,6 +1,6 @@
-"""Printable job sheets of a substitution ranking, in Markdown and in HTML.
+"""Printable ranking reports of a substitution ranking, in Markdown and in HTML.
 
-A job sheet is the bench's record of a repair decision: what was required (and from where), the
+A ranking report is the record of a substitution search: what was required (and from where), the
 circuit stress, the derating policy and its factors, the ranked substitutes with their flags,
 the safety cautions, and blank lines for the job reference, date, technician and signature.
 Pure: takes a :class:`partsdb.ranking.RankResult`, returns text. Every value placed in HTML goes
@@ -107,12 +107,12 @@ def key_flags(candidate: Candidate) -> str:
 
 def _title(result: RankResult) -> str:
     name = result.requirement.designation
-    return f"Substitution job sheet: {name}" if name else "Substitution job sheet"
+    return f"Substitution ranking report: {name}" if name else "Substitution ranking report"
 
 
 def render_markdown(result: RankResult, job: str | None = None, date: str | None = None,
                     technician: str | None = None) -> str:
-    """The job sheet as Markdown."""
+    """The ranking report as Markdown."""
     out: list[str] = [f"# {_md(_title(result))}", ""]
     out += [f"Requirement from {source_text(result)}.", ""]
     out += ["| Parameter | Need |", "|---|---|"]
@@ -184,7 +184,7 @@ th, td { border: 1px solid #555; padding: 0.2em 0.5em; text-align: left; vertica
 
 def render_html(result: RankResult, job: str | None = None, date: str | None = None,
                 technician: str | None = None) -> str:
-    """The job sheet as a standalone, printable HTML page (every value escaped)."""
+    """The ranking report as a standalone, printable HTML page (every value escaped)."""
     e = html.escape
     title = e(_title(result))
     parts = ["<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',

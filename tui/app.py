@@ -1,4 +1,4 @@
-"""The partsdb terminal UI: five views over one database, built by one factory.
+"""The partsdb terminal UI: six views over one database, built by one factory.
 
 ``build_app(db)`` is what both ``partsdb tui`` (through :func:`run_app`) and the tests use, so
 the app under test is the app people run. Views only call :mod:`partsdb.services` and the
@@ -25,6 +25,7 @@ from tui.drawers import DrawersView
 from tui.help import HelpScreen
 from tui.ledger import LedgerView
 from tui.substitute import SubstituteView
+from tui.swaplog import SwapLogView
 
 if TYPE_CHECKING:
     from collections.abc import Callable
@@ -38,6 +39,7 @@ VIEWS: tuple[tuple[str, str, str], ...] = (
     ("substitute", "f4", "Substitute"),
     ("bench", "f5", "Bench"),
     ("ledger", "f6", "Ledger"),
+    ("swaps", "f7", "Swaps"),
 )
 
 
@@ -57,7 +59,7 @@ class ViewBar(Static):
 
 
 class PartsdbApp(App[None]):
-    """Drawers, Devices, Substitute, Bench and Ledger over one open database."""
+    """Drawers, Devices, Substitute, Bench, Ledger and Swaps over one open database."""
 
     CSS_PATH = "partsdb.tcss"
     TITLE = "partsdb"
@@ -65,9 +67,9 @@ class PartsdbApp(App[None]):
     BINDINGS: ClassVar[list[BindingType]] = [
         Binding("f1", "help", "Help"),
         Binding("question_mark", "help", "Help", show=False),
-        # The view keys are drawn by the ViewBar just above the footer (one line for all five
+        # The view keys are drawn by the ViewBar just above the footer (one line for all six
         # at 80 columns); the Textual footer below it lists the current view's actions.
-        # Priority: the app switches the view the moment F2-F6 arrives. Without it the key
+        # Priority: the app switches the view the moment F2-F7 arrives. Without it the key
         # first travels to the focused field and back, and a character typed right behind it
         # (tmux delivers both in one read) went to the old view's field and was lost.
         *[Binding(key, f"show('{ident}')", label, show=False, priority=True)
@@ -102,6 +104,7 @@ class PartsdbApp(App[None]):
             yield SubstituteView(self.db, id="substitute")
             yield BenchView(self.db, id="bench")
             yield LedgerView(self.db, id="ledger")
+            yield SwapLogView(self.db, id="swaps")
         yield ViewBar(id="view-bar")
         yield Footer(compact=True)
 
@@ -229,7 +232,8 @@ class PartsdbApp(App[None]):
         if hasattr(view, "load"):
             view.load()
         focus = {"drawers": "#lots-table", "devices": "#dev-search", "substitute": "#sub-query",
-                 "bench": "#bn-original", "ledger": "#lg-device"}.get(ident)
+                 "bench": "#bn-original", "ledger": "#lg-device",
+                 "swaps": "#swaps-table"}.get(ident)
         targets = view.query(focus) if focus else None
         # Focus now, not through focus() (which defers it to a later message): a key typed
         # right after F3/F4 may already be queued behind this one, and must reach the new

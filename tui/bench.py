@@ -47,12 +47,15 @@ STATUS_STYLE = {"ok": "green", "marginal": "yellow", "under-rated": "bold red", 
 class BenchView(Horizontal):
     """Stage form on the left; both operating points, the fix and the plot on the right."""
 
-    BINDINGS: ClassVar[list[BindingType]] = [Binding("ctrl+r", "solve", "Solve")]
+    BINDINGS: ClassVar[list[BindingType]] = [Binding("ctrl+r", "solve", "Solve"),
+                                              Binding("ctrl+s", "job_sheet", "Job sheet")]
 
     def __init__(self, db: Database, **kwargs: Any) -> None:
         super().__init__(**kwargs)
         self.db = db
         self.report: BiasReport | None = None
+        self.ambient = 25.0
+        """The ambient the report was solved at (for the job sheet)."""
         self._networks_loaded = False
 
     def compose(self) -> ComposeResult:
@@ -104,11 +107,32 @@ class BenchView(Horizontal):
         error = self.query_one("#bench-error", Static)
         try:
             self.report, devices, ambient = self._solve()
+            self.ambient = ambient
         except (ValueError, LookupError) as err:
             error.update(Text("NOT SOLVED: " + str(err), style="bold yellow"))
             return
         error.update("")
         self._show(self.report, devices, ambient)
+
+    def action_job_sheet(self) -> None:
+        """Write the job sheet of the solved pair with this stage (a small form asks for the
+        job reference and the file)."""
+        from partsdb.services.jobsheet import StageSpec
+        from tui.jobsheet_form import JobSheetForm
+
+        report = self.report
+        if report is None or report.substitute is None:
+            self.app.notify("Solve a stage with an original and a substitute first.",
+                            timeout=3)
+            return
+        stage = StageSpec(report.stage, self.ambient)
+
+        def done(path: str | None) -> None:
+            if path:
+                self.app.notify(f"Job sheet written to {path}", timeout=5)
+
+        self.app.push_screen(JobSheetForm(self.db, report.original.device,
+                                          report.substitute.device, stage), done)
 
     def _text(self, ident: str) -> str:
         return self.query_one(f"#bn-{ident}", TextField).value.strip()

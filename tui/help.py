@@ -16,7 +16,8 @@ from textual.widgets import Static
 from partsdb.cautions import SAFETY_CAUTIONS
 
 KEYS: tuple[tuple[str, str, str], ...] = (
-    ("Anywhere", "F2 / F3 / F4 / F5 / F6", "Drawers / Devices / Substitute / Bench / Ledger"),
+    ("Anywhere", "F2 / F3 / F4 / F5 / F6 / F7",
+     "Drawers / Devices / Substitute / Bench / Ledger / Swaps"),
     ("Anywhere", "F1 or ?", "this help (Esc closes it)"),
     ("Anywhere", "ctrl+p", "command palette: every main action by name"),
     ("Anywhere", "tab / shift+tab", "next / previous field"),
@@ -33,7 +34,10 @@ KEYS: tuple[tuple[str, str, str], ...] = (
     ("Substitute", "enter", "rank substitutes for the original typed in the search field"),
     ("Substitute", "t / w / o", "take one of the selected candidate / record the swap / save the report"),
     ("Bench", "enter or ctrl+r", "solve the stage for both transistors"),
+    ("Bench", "ctrl+s", "write the job sheet of the solved pair with this stage (.pdf/.html/.md)"),
     ("Ledger", "type in a filter", "device, place, job, from/to date (YYYY-MM-DD)"),
+    ("Swaps", "type in a filter", "original, substitute, job, outcome, from/to date"),
+    ("Swaps", "o", "set the outcome and note of the highlighted swap (! = audit finding)"),
     ("Forms", "enter or ctrl+s / esc", "save / cancel; nothing is written until every field is valid"),
 )
 

@@ -88,6 +88,7 @@ def _register() -> None:
         circuit,
         designations,
         exchange_cmds,
+        kit_cmd,
         labels_cmd,
         places_cmds,
         shop,
@@ -100,7 +101,7 @@ def _register() -> None:
                     *places_cmds.COMMANDS,
                     designations.decode, designations.find, circuit.check, circuit.bias,
                     circuit.spice, substitute.substitute, substitute.swaplog, substitute.policies,
-                    shop.copy, shop.backup, shop.restore, shop.upgrade, labels_cmd.labels,
+                    shop.copy, shop.backup, shop.restore, shop.upgrade, labels_cmd.labels, kit_cmd.kit,
                     bench.bench, ui.tui):
         main.add_command(command)
     _add_completion(main)

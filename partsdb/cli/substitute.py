@@ -119,15 +119,23 @@ _STRESS_NAMES = ", ".join(row.option for row in STRESS_FIELDS)
 @click.option("--in-stock", is_flag=True, help="Only parts in the drawers.")
 @click.option("--limit", type=click.IntRange(min=1), default=15, show_default=True,
               help="How many substitutes to list.")
-@format_option("table", "json", "md", "html")
+@format_option("table", "json", "md", "html", "pdf")
 @click.option("--output", type=click.Path(dir_okay=False, path_type=Path), default=None,
-              help="Write the md/html job sheet to this file instead of the screen.")
-@click.option("--job", default=None, help="Job reference to print on the md/html job sheet.")
+              help="Write the md/html ranking report (or, with --pick, the md/html/pdf job "
+                   "sheet) to this file instead of the screen.")
+@click.option("--job", default=None, help="Job reference to print on the report or job sheet.")
+@click.option("--pick", default=None, metavar="CANDIDATE",
+              help="The substitute chosen: print its one-page job sheet (needs --job).")
+@click.option("--stage", "stage_text", default=None, metavar="OPTIONS",
+              help="With --pick: the stage as the bias options, e.g. \"divider --vcc 9V "
+                   "--r1 47k --r2 10k --rc 2k2 --re 470\": the sheet gets the predicted "
+                   "operating point and resistor change.")
 @click.option("--force", is_flag=True, help="Replace the --output file if it exists.")
 @pass_state
 def substitute(state: CliState, designation: str | None, policy_name: str | None,
                show_rejected: bool, in_stock: bool, limit: int, fmt: str, output: Path | None,
-               job: str | None, force: bool, **values: Any) -> None:
+               job: str | None, pick: str | None, stage_text: str | None, force: bool,
+               **values: Any) -> None:
     """Rank substitutes for DESIGNATION (its stored record is the requirement) or for a spec.
 
     Give circuit stress ({stress}) to judge
@@ -138,11 +146,18 @@ def substitute(state: CliState, designation: str | None, policy_name: str | None
     from partsdb.ranking import SpecError
     from partsdb.services.substitution import rank_substitutes
 
-    if output is not None and fmt not in ("md", "html"):
-        fail(f"--output: writes md or html job sheets; use --format md or --format html "
-             f"(got {fmt})")
     spec = _spec(values)
     stress = _stress(values)
+    if pick is not None or stage_text is not None:
+        _job_sheet(state, designation, pick, job, stage_text, spec, stress, policy_name, fmt,
+                   output, force)
+        return
+    if fmt == "pdf":
+        fail("--format: pdf is for a job sheet; give --pick CANDIDATE --job REF (the ranking "
+             "report is md or html)")
+    if output is not None and fmt not in ("md", "html"):
+        fail(f"--output: writes md or html ranking reports; use --format md or --format html "
+             f"(got {fmt})")
     try:
         result = rank_substitutes(state.database(), designation, spec, stress, policy_name,
                                   limit=limit, in_stock_only=in_stock,
@@ -166,12 +181,42 @@ def substitute(state: CliState, designation: str | None, policy_name: str | None
 
             written = write_report(result, output, job=job, fmt=fmt, force=force,
                                    protect=protected_files(state.database()))
-            click.echo(f"job sheet written to {written}", err=True)
+            click.echo(f"ranking report written to {written}", err=True)
         return
     _print_result(result)
 
 
 substitute.help = (substitute.help or "").replace("{stress}", _STRESS_NAMES)
+
+
+def _job_sheet(state: CliState, designation: str | None, pick: str | None, job: str | None,
+               stage_text: str | None, spec: dict[str, Any], stress: Any,
+               policy_name: str | None, fmt: str, output: Path | None, force: bool) -> None:
+    """``--pick``: the one-page job sheet of the chosen substitute (service-built)."""
+    from partsdb.services import jobsheet
+
+    if pick is None:
+        fail("--stage: only with --pick CANDIDATE (the job sheet of the part chosen)")
+    if designation is None:
+        fail("--pick: needs the ORIGINAL designation the pick replaces")
+    if job is None:
+        fail("--job: missing; a job sheet needs the job reference (such as J-2611)")
+    if fmt == "table":
+        fmt = "md"
+    if fmt not in jobsheet.FORMATS:
+        fail(f"--format: {fmt} is not a job-sheet format; expected md, html or pdf")
+    if fmt == "pdf" and output is None:
+        fail("--output: a pdf job sheet needs a file name, e.g. --output job.pdf")
+    sheet = jobsheet.make_job_sheet(state.database(), designation, pick, job=job, spec=spec,
+                                    stress=stress, policy=policy_name, stage=stage_text)
+    if output is None:
+        click.echo(jobsheet.render(sheet, fmt).decode("utf-8"), nl=False)
+        return
+    from partsdb.services.files import protected_files
+
+    written = jobsheet.write_job_sheet(sheet, output, fmt, force=force,
+                                       protect=protected_files(state.database()))
+    click.echo(f"job sheet written to {written}")
 
 
 def _print_result(result: Any) -> None:
@@ -251,16 +296,51 @@ def swaplog_add(state: CliState, original: str, substitute_part: str, job: str,
                + (f", {view.outcome}" if view.outcome else "") + ")")
 
 
-@swaplog.command("list")
-@click.argument("original", required=False)
+@swaplog.command("set")
+@click.argument("swap_id", metavar="ID", type=click.IntRange(min=1))
+@click.option("--outcome", type=click.Choice(["worked", "failed", "unknown"]), required=True,
+              help="How the swap turned out (unknown clears a recorded outcome).")
+@click.option("--note", default=None, help="Replace the swap's note with this text.")
 @format_option("table", "json")
 @pass_state
-def swaplog_list(state: CliState, original: str | None, fmt: str) -> None:
-    """List recorded swaps, newest first (only those for ORIGINAL when given)."""
+def swaplog_set(state: CliState, swap_id: int, outcome: str, note: str | None,
+                fmt: str) -> None:
+    """Set the outcome (and note) of recorded swap ID after the fact."""
     from partsdb.services import swaplog as service
 
     with state.database().session() as session:
-        views = service.list_swaps(session, original)
+        view = service.set_outcome(session, swap_id, outcome, note)
+    if fmt == "json":
+        emit_json(view.to_json())
+        return
+    click.echo(f"swap #{view.id}: {view.original} -> {view.substitute} (job {view.job}): "
+               f"{view.outcome or 'outcome unknown'}")
+
+
+@swaplog.command("list")
+@click.argument("original", required=False)
+@click.option("--substitute", "substitute_part", default=None, metavar="DESIGNATION",
+              help="Only swaps that fitted this part.")
+@click.option("--job", default=None, help="Only swaps of this job reference.")
+@click.option("--outcome", type=click.Choice(["worked", "failed", "unknown"]), default=None,
+              help="Only swaps with this outcome (unknown: none recorded yet).")
+@click.option("--since", type=click.DateTime(["%Y-%m-%d"]), default=None,
+              help="Only swaps recorded on or after this day (YYYY-MM-DD).")
+@click.option("--until", type=click.DateTime(["%Y-%m-%d"]), default=None,
+              help="Only swaps recorded on or before this day (YYYY-MM-DD).")
+@format_option("table", "json")
+@pass_state
+def swaplog_list(state: CliState, original: str | None, substitute_part: str | None,
+                 job: str | None, outcome: str | None, since: Any, until: Any,
+                 fmt: str) -> None:
+    """List recorded swaps, newest first (only those for ORIGINAL when given; the options
+    narrow further)."""
+    from partsdb.services import swaplog as service
+
+    with state.database().session() as session:
+        views = service.list_swaps(session, original, substitute=substitute_part, job=job,
+                                   outcome=outcome, since=since.date() if since else None,
+                                   until=until.date() if until else None)
     if fmt == "json":
         emit_json([v.to_json() for v in views])
         return

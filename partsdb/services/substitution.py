@@ -11,7 +11,7 @@ for ``show_rejected``, which lists the other groups too.
 
 The workflow around a ranking lives here too, for every face: resolving the original a
 technician typed (:func:`resolve_original`), reading a spec line (:func:`parse_spec`) and the
-stress inputs (:func:`parse_stress`), and writing the job sheet to a file (:func:`write_report`).
+stress inputs (:func:`parse_stress`), and writing the ranking report to a file (:func:`write_report`).
 """
 
 from __future__ import annotations
@@ -377,7 +377,7 @@ REPORT_FORMATS: dict[str, str] = {".md": "md", ".html": "html", ".htm": "html"}
 def write_report(result: RankResult, path: str | Path, job: str | None = None,
                  fmt: str | None = None, date: str | None = None, *, force: bool = False,
                  protect: Iterable[Path] = ()) -> Path:
-    """Write the job sheet of ``result`` to ``path`` (Markdown or HTML, by ``fmt`` or by the
+    """Write the ranking report of ``result`` to ``path`` (Markdown or HTML, by ``fmt`` or by the
     file's suffix) through the one file writer (:mod:`partsdb.services.files`): an existing file
     only with ``force``, never one of ``protect`` (the open database's files), written to a
     temporary name beside it and renamed. Returns the path written."""

@@ -9,7 +9,7 @@ past repairs to revisit.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from datetime import datetime
+from datetime import date, datetime, timedelta
 from typing import Any
 
 from sqlalchemy import select
@@ -17,17 +17,23 @@ from sqlalchemy.orm import Session
 
 from partsdb.derating import Policy
 from partsdb.designations import normalize
-from partsdb.errors import InvalidInput
+from partsdb.errors import InvalidInput, NotFoundError
 from partsdb.ranking import Candidate, Requirement, SpecError, Stress, assess
 from partsdb.services import catalog
 from partsdb.spec_fields import STRESS_FIELDS
 from partsdb.storage.models import SwapRow
 
 OUTCOMES = ("worked", "failed")
+SET_OUTCOMES = (*OUTCOMES, "unknown")
+"""What ``set_outcome`` takes: ``unknown`` clears a recorded outcome (stored as NULL)."""
 
 
 class SwapError(InvalidInput):
     """A swap-log entry refused; the message names the field and value."""
+
+
+class SwapNotFound(NotFoundError):
+    """No swap with that id."""
 
 
 @dataclass(frozen=True)
@@ -99,12 +105,57 @@ def add(session: Session, original: str, substitute: str, job: str,
     return _view(row)
 
 
-def list_swaps(session: Session, original: str | None = None) -> list[SwapView]:
-    """Recorded swaps, newest first; only those for ``original`` when given."""
+def list_swaps(session: Session, original: str | None = None, *,
+               substitute: str | None = None, job: str | None = None,
+               outcome: str | None = None, since: date | None = None,
+               until: date | None = None) -> list[SwapView]:
+    """Recorded swaps, newest first, filtered by each criterion given: the original and the
+    substitute (by designation key), the job reference (exact, ignoring case), the outcome
+    (``unknown``: none recorded) and the day recorded (``since`` and ``until`` both included,
+    days in UTC as stored)."""
     query = select(SwapRow).order_by(SwapRow.at.desc(), SwapRow.id.desc())
     if original:
         query = query.where(SwapRow.original_key == normalize(original))
+    if substitute:
+        query = query.where(SwapRow.substitute_key == normalize(substitute))
+    if job:
+        from sqlalchemy import func
+
+        query = query.where(func.lower(SwapRow.job) == job.strip().lower())
+    if outcome is not None:
+        if outcome not in SET_OUTCOMES:
+            raise SwapError(f"outcome: {outcome!r} is not valid; expected worked, failed or "
+                            "unknown")
+        query = query.where(SwapRow.outcome.is_(None) if outcome == "unknown"
+                            else SwapRow.outcome == outcome)
+    if since is not None and until is not None and since > until:
+        raise SwapError(f"since: {since.isoformat()} is after until {until.isoformat()}; "
+                        "expected since on or before until")
+    if since is not None:
+        query = query.where(SwapRow.at >= datetime.combine(since, datetime.min.time()))
+    if until is not None:
+        query = query.where(SwapRow.at < datetime.combine(until + timedelta(days=1),
+                                                          datetime.min.time()))
     return [_view(r) for r in session.scalars(query)]
+
+
+def set_outcome(session: Session, swap_id: int, outcome: str,
+                note: str | None = None) -> SwapView:
+    """Set how swap ``swap_id`` turned out (worked, failed, or unknown to clear it); ``note``
+    replaces the note when given. Raises :class:`SwapNotFound` for an unknown id."""
+    from partsdb.limits import check_text
+
+    if outcome not in SET_OUTCOMES:
+        raise SwapError(f"outcome: {outcome!r} is not valid; expected worked, failed or unknown")
+    row = session.get(SwapRow, swap_id)
+    if row is None:
+        raise SwapNotFound(f"swap: #{swap_id} is not in the swap log; expected an id from "
+                           "'partsdb swaplog list'")
+    row.outcome = None if outcome == "unknown" else outcome
+    if note is not None:
+        row.note = check_text("note", note) if note.strip() else None
+    session.flush()
+    return _view(row)
 
 
 @dataclass

@@ -65,6 +65,10 @@ def readme_shop(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> Path:
     build_demo(db_file).dispose()
     monkeypatch.setenv("PARTSDB_DB", str(db_file))
     monkeypatch.chdir(tmp_path)
+    # Files the README shows as ```csv NAME blocks exist where its commands read them.
+    text = README.read_text(encoding="utf-8")
+    for name, body in re.findall(r"^```csv (\S+)\n(.*?)^```", text, flags=re.S | re.M):
+        (tmp_path / name).write_text(body, encoding="utf-8")
     opened: list[Any] = []
     for face in (common, ui):
         monkeypatch.setattr(face, "launch_tui", lambda state: opened.append(state.database()))

@@ -29,7 +29,7 @@ def _result() -> RankResult:
 
 def test_markdown_job_sheet_holds_the_record() -> None:
     text = render_markdown(_result(), job="J-77")
-    assert "# Substitution job sheet: QR0" in text
+    assert "# Substitution ranking report: QR0" in text
     assert "stored record" in text
     assert "mil-std-975m: voltage 75%" in text and "MIL-STD-975M" in text
     assert "| Vce peak | 25 V |" in text

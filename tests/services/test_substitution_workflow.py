@@ -111,7 +111,7 @@ def test_write_report_refuses_and_keeps_existing_files(shop: Any, tmp_path: Path
     out.mkdir()
     target = write_report(result, out / "sheet.md", job="J-9")
     text = target.read_text(encoding="utf-8")
-    assert text.startswith("# Substitution job sheet: QW1001") and "J-9" in text
+    assert text.startswith("# Substitution ranking report: QW1001") and "J-9" in text
     assert write_report(result, out / "sheet.html").read_text().startswith("<!DOCTYPE html>")
     with pytest.raises(SpecError, match=r"expected a name ending in \.md or \.html"):
         write_report(result, out / "sheet.txt")

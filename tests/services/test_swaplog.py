@@ -6,6 +6,7 @@ common practice); parts are invented.
 
 from __future__ import annotations
 
+from datetime import date
 from typing import Any
 
 import pytest
@@ -143,3 +144,51 @@ def test_service_ranking_with_stock_and_stress(shop: Any) -> None:
 def test_worked_example_text(shop: Any) -> None:
     text = worked_example(shop)
     assert "QW1" in text and "QW3" in text and "C1/D1" in text
+
+
+def _three_swaps(db: Any) -> None:
+    """Three swaps on known days (the stored time set directly: the service stamps 'now')."""
+    from datetime import datetime
+
+    from partsdb.storage.models import SwapRow
+
+    with db.session() as session:
+        a = swaplog.add(session, "QW1", "QW2", "J-1", outcome="worked")
+        b = swaplog.add(session, "QW1", "QW3", "J-2")
+        c = swaplog.add(session, "OLD77", "QW3", "j-3", outcome="failed")
+        for view, day in ((a, 1), (b, 10), (c, 20)):
+            session.get(SwapRow, view.id).at = datetime(2026, 3, day, 23, 59)
+
+
+def test_list_filters_each_criterion(shop: Any) -> None:
+    _three_swaps(shop)
+    with shop.session() as session:
+        def jobs(**kw: Any) -> list[str]:
+            return [v.job for v in swaplog.list_swaps(session, **kw)]
+
+        assert jobs(substitute="qw-3") == ["j-3", "J-2"]
+        assert jobs(job="J-3") == ["j-3"]
+        assert jobs(outcome="unknown") == ["J-2"]
+        assert jobs(outcome="worked") == ["J-1"]
+        # Both ends of the day range are included (a swap at 23:59 of the last day counts).
+        assert jobs(since=date(2026, 3, 10), until=date(2026, 3, 20)) == ["j-3", "J-2"]
+        assert jobs(since=date(2026, 3, 11)) == ["j-3"]
+        assert jobs(until=date(2026, 3, 1)) == ["J-1"]
+        assert jobs(original="QW1", substitute="QW3") == ["J-2"]
+        with pytest.raises(swaplog.SwapError, match="since: 2026-03-05 is after until"):
+            swaplog.list_swaps(session, since=date(2026, 3, 5), until=date(2026, 3, 1))
+
+
+def test_set_outcome_after_the_fact(shop: Any) -> None:
+    _three_swaps(shop)
+    with shop.session() as session:
+        swap_id = swaplog.list_swaps(session, job="J-2")[0].id
+        view = swaplog.set_outcome(session, swap_id, "failed", "oscillated at 10 MHz")
+    assert view.outcome == "failed" and view.note == "oscillated at 10 MHz"
+    with shop.session() as session:
+        again = swaplog.set_outcome(session, swap_id, "unknown")
+        assert again.outcome is None and again.note == "oscillated at 10 MHz"
+        with pytest.raises(swaplog.SwapNotFound, match="#999"):
+            swaplog.set_outcome(session, 999, "worked")
+        with pytest.raises(swaplog.SwapError, match="outcome: 'maybe'"):
+            swaplog.set_outcome(session, swap_id, "maybe")
