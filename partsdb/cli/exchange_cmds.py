@@ -16,9 +16,125 @@ def _report(report: object) -> None:
     click.echo(f"imported: {report.summary()}")
 
 
-@click.group("import")
+class _ImportGroup(click.Group):
+    """`partsdb import FILE` is `partsdb import sheet FILE`; `import devices`/`import stock`
+    stay subcommands (a file called "devices" is given as ./devices)."""
+
+    def parse_args(self, ctx: click.Context, args: list[str]) -> list[str]:
+        first = next((a for a in args if not a.startswith("-") or a == "-"), None)
+        if first is not None and first not in self.commands and not any(
+                a in ("--help", "-h") for a in args[:1]):
+            args = ["sheet", *args]
+        return super().parse_args(ctx, args)
+
+
+@click.group("import", cls=_ImportGroup)
 def import_group() -> None:
-    """Import CSV files; a file with any bad row writes nothing and lists every bad line."""
+    """Import files; a file with any bad row writes nothing and lists every bad line.
+    `partsdb import FILE` reads your own parts sheet (devices and, when present, drawers and
+    counts); `import devices` and `import stock` read the exact export columns."""
+
+
+def _pairs(values: tuple[str, ...], option: str) -> dict[str, str]:
+    from partsdb.services.sheet import parse_pairs
+
+    return parse_pairs(list(values), option)
+
+
+def _sheet_output(report: object, fmt: str, quiet: bool) -> None:
+    from partsdb.cli.common import emit_json
+    from partsdb.services.sheet import SheetReport
+
+    assert isinstance(report, SheetReport)
+    if fmt == "json":
+        emit_json(report.to_json())
+        return
+    for notice in report.notices:
+        click.echo(f"note: {notice}", err=True)
+    if not quiet:
+        mapped = [f"{c.header} -> {c.field}" + (f" [{c.unit}]" if c.unit else "")
+                  if c.field else f"{c.header} (ignored)" for c in report.columns]
+        click.echo("columns: " + ", ".join(mapped), err=True)
+    for row in report.assumed:
+        click.echo(f"assumed: line {row['line']}: {row['designation']}: "
+                   + ", ".join(row["assumed"]), err=True)
+    for row in report.warnings:
+        click.echo(f"warning: line {row['line']}: {row['designation']}: {row['message']}",
+                   err=True)
+    if report.dry_run:
+        for label, rows in (("add", report.added), ("update", report.updated),
+                            ("unchanged", report.unchanged)):
+            for row in rows:
+                where = f" at {row['location']} ({row['condition']})" if row["what"] == "lot" else ""
+                text = f"{label}: line {row['line']}: {row['what']} {row['designation']}{where}"
+                if "changes" in row:
+                    text += ": " + ", ".join(f"{k} {old!r} -> {new!r}"
+                                             for k, (old, new) in row["changes"].items())
+                elif "quantity" in row:
+                    text += f": {row['quantity']} pcs"
+                click.echo(text)
+    click.echo(("would import: " if report.dry_run else "imported: ") + report.summary())
+
+
+@import_group.command("sheet")
+@click.argument("file", type=click.Path(dir_okay=False))
+@click.option("--map", "maps", multiple=True, metavar='"HEADER=FIELD"',
+              help="Read the column HEADER as FIELD (repeatable).")
+@click.option("--unit", "units", multiple=True, metavar="FIELD=UNIT",
+              help="Unit of the bare numbers in FIELD's column, e.g. ic_max=mA (repeatable); a "
+                   "cell's own unit still wins.")
+@click.option("--ignore", "ignores", multiple=True, metavar="COLUMN",
+              help="Leave this column out (repeatable).")
+@click.option("--ignore-unknown", is_flag=True, help="Leave out every column that maps to no field.")
+@click.option("--profile", default=None,
+              help="Use [import.profiles.NAME] of the config file (map, unit, ignore); options "
+                   "given here add to it.")
+@click.option("--sheet", "sheet_name", default=None, help="Sheet of an .xlsx/.ods (default: the first).")
+@click.option("--strict", is_flag=True,
+              help="Refuse rows with warnings (implausible values, contradictions).")
+@click.option("--dry-run", is_flag=True,
+              help="Show what would be added, updated and left alone; write nothing.")
+@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text",
+              help="json: added, updated, unchanged, warnings, errors (rows with line numbers).")
+@pass_state
+def import_sheet(state: CliState, file: str, maps: tuple[str, ...], units: tuple[str, ...],
+                 ignores: tuple[str, ...], ignore_unknown: bool, profile: str | None,
+                 sheet_name: str | None, strict: bool, dry_run: bool, fmt: str) -> None:
+    """Import your own parts sheet (CSV with any usual delimiter and encoding, .xlsx or .ods):
+    headers such as "Type", "Vce (V)", "Ic (mA)", "hFE", "Case", "Drawer", "Qty" are
+    recognised; rows with a drawer and a count become lots; all or nothing. `partsdb import
+    FILE` is short for this. FILE `-` reads standard input (CSV)."""
+    from partsdb.services import sheet
+    from partsdb.services.exchange import ImportRejected
+    from partsdb.services.files import input_path
+
+    options = sheet.SheetOptions(strict=strict, sheet=sheet_name)
+    if profile is not None:
+        from partsdb.services.config import load_import_profile
+
+        table = load_import_profile(profile)
+        options.map.update(table.get("map", {}))
+        options.units.update(table.get("unit", {}))
+        options.ignore.extend(table.get("ignore", []))
+        options.ignore_unknown = bool(table.get("ignore_unknown", False))
+    options.map.update(_pairs(maps, "--map"))
+    options.units.update(_pairs(units, "--unit"))
+    options.ignore.extend(ignores)
+    options.ignore_unknown = options.ignore_unknown or ignore_unknown
+    try:
+        with input_path(file) as path, state.database().session() as session:
+            report = sheet.import_sheet(session, path, options, dry_run=dry_run)
+            if dry_run:
+                session.rollback()
+    except ImportRejected as err:
+        if fmt != "json":
+            raise
+        from partsdb.cli.common import emit_json
+
+        emit_json({"added": [], "updated": [], "unchanged": [], "warnings": [],
+                   "errors": [{"line": line, "message": msg} for line, msg in err.problems]})
+        raise SystemExit(err.exit_code) from None
+    _sheet_output(report, fmt, state.quiet)
 
 
 @import_group.command("devices")
