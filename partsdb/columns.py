@@ -16,7 +16,7 @@ from dataclasses import dataclass, field
 
 from partsdb.device import FIELD_BY_NAME, FIELDS
 from partsdb.errors import InvalidInput
-from partsdb.units import PREFIXES, UNIT_SPELLINGS
+from partsdb.units import PREFIXES, UNIT_SPELLINGS, format_quantity
 
 SHEET_STOCK_COLUMNS: tuple[str, ...] = ("location", "quantity", "condition")
 """Columns of a parts sheet that describe a lot rather than the device."""
@@ -267,13 +267,22 @@ as mA); few discrete BJTs exceed 50 A, 300 W or 2 kV (common practice)."""
 BARE_HINT_UNITS: dict[str, str] = {"ic_max": "mA", "ptot": "mW", "vceo": "mV"}
 
 
+_FAMILIES: dict[str, str] = {}
+
+
 def outline_family(outline: str | None) -> str | None:
     """The outline without its letter suffix ("TO-220AB" -> "TO-220"), as the table keys."""
     if not outline:
         return None
+    found = _FAMILIES.get(outline)
+    if found is not None:
+        return found
     m = re.match(r"^([A-Z]+-\d+)", outline)
     base = m.group(1) if m else outline
-    return outline if outline in OUTLINE_PTOT_REF else base
+    family = outline if outline in OUTLINE_PTOT_REF else base
+    if len(_FAMILIES) < 10_000:
+        _FAMILIES[outline] = family
+    return family
 
 
 def infer_ptot_ref(outline: str | None) -> str | None:
@@ -286,8 +295,6 @@ def plausibility_warnings(package: str | None, ptot_ref: str | None, ic_max: flo
                           ptot: float | None) -> list[str]:
     """Values a record's outline cannot plausibly carry (a small-signal outline with over
     10 A or over 2 W in free air); plain sentences, common practice."""
-    from partsdb.units import format_quantity
-
     family = outline_family(package)
     if not family or OUTLINE_PTOT_REF.get(family) != "ambient":
         return []

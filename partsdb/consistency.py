@@ -11,6 +11,7 @@ frequency checks are heuristics derived below, and their sentences say "common p
 
 from __future__ import annotations
 
+from partsdb.columns import plausibility_warnings
 from partsdb.designations import Decoded, decode
 from partsdb.device import Device
 from partsdb.units import format_quantity
@@ -155,8 +156,6 @@ def consistency_warnings(device: Device) -> list[str]:
     """Plain sentences where ``device`` contradicts its designation or its outline (values a
     small-signal outline cannot plausibly carry, :func:`partsdb.columns.plausibility_warnings`);
     empty when it agrees."""
-    from partsdb.columns import plausibility_warnings
-
     found = plausibility_warnings(device.package, device.ptot_ref, device.ic_max, device.ptot) \
         if device.package else []
     d = decode(device.designation)

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import click
 
-from partsdb.cli.common import CliState, pass_state
+from partsdb.cli.common import CliState, busy, pass_state
 
 
 def _report(report: object) -> None:
@@ -122,7 +122,8 @@ def import_sheet(state: CliState, file: str, maps: tuple[str, ...], units: tuple
     options.ignore.extend(ignores)
     options.ignore_unknown = options.ignore_unknown or ignore_unknown
     try:
-        with input_path(file) as path, state.database().session() as session:
+        with busy(state, "importing", fmt == "json"), input_path(file) as path, \
+                state.database().session() as session:
             report = sheet.import_sheet(session, path, options, dry_run=dry_run)
             if dry_run:
                 session.rollback()
@@ -149,7 +150,8 @@ def import_devices(state: CliState, file: str, strict: bool) -> None:
     from partsdb.services import exchange
     from partsdb.services.files import input_path
 
-    with input_path(file) as path, state.database().session() as session:
+    with busy(state, "importing devices"), input_path(file) as path, \
+            state.database().session() as session:
         report = exchange.import_devices(session, path, strict=strict)
     _report(report)
 
@@ -164,7 +166,8 @@ def import_stock(state: CliState, file: str) -> None:
     from partsdb.services import exchange
     from partsdb.services.files import input_path
 
-    with input_path(file) as path, state.database().session() as session:
+    with busy(state, "importing lots"), input_path(file) as path, \
+            state.database().session() as session:
         report = exchange.import_stock(session, path)
     _report(report)
 
@@ -186,8 +189,9 @@ def export_devices(state: CliState, file: str, force: bool) -> None:
     from partsdb.services.files import atomic_open, protected_files
 
     db = state.database()
-    with atomic_open(file, force=force, protect=protected_files(db),
-                     what="export devices") as handle, db.session() as session:
+    with busy(state, "exporting devices"), atomic_open(
+            file, force=force, protect=protected_files(db), what="export devices") as handle, \
+            db.session() as session:
         n = exchange.export_devices(session, handle)
     click.echo(f"exported {n} device(s) to {'standard output' if file == '-' else file}",
                err=file == "-")
@@ -203,8 +207,9 @@ def export_stock(state: CliState, file: str, force: bool) -> None:
     from partsdb.services.files import atomic_open, protected_files
 
     db = state.database()
-    with atomic_open(file, force=force, protect=protected_files(db),
-                     what="export stock") as handle, db.session() as session:
+    with busy(state, "exporting lots"), atomic_open(
+            file, force=force, protect=protected_files(db), what="export stock") as handle, \
+            db.session() as session:
         n = exchange.export_stock(session, handle)
     click.echo(f"exported {n} lot(s) to {'standard output' if file == '-' else file}",
                err=file == "-")
