@@ -54,6 +54,7 @@ LEGACY_ENCODING = "cp1252"
 programs write on such systems; common practice)."""
 
 REQUIRED = ("designation", "polarity")
+PREVIEW_ROWS = 8
 ASSUMED_COLUMNS = {"kind": "bjt", "material": "si"}
 
 
@@ -79,6 +80,8 @@ class SheetReport:
     notices: list[str] = field(default_factory=list)
     columns: list[MappedColumn] = field(default_factory=list)
     dry_run: bool = False
+    preview: list[dict[str, Any]] = field(default_factory=list)
+    """The first devices as they will be stored (field -> value, SI base units)."""
 
     def counts(self, what: str) -> tuple[int, int, int]:
         return tuple(sum(1 for r in rows if r["what"] == what)  # type: ignore[return-value]
@@ -323,6 +326,10 @@ def import_sheet(session: Session, path: str | Path | None = None,
     unique = _select(parsed, firsts)
     unique_keys = [keys[i] for i in firsts]
     unique_warnings = [warnings[i] for i in firsts]
+    head = min(PREVIEW_ROWS, unique.n)
+    values = {name: unique.plain(name, 0, head) for name in FIELD_NAMES}
+    report.preview = [{"line": firsts[i] + 2, **{k: v[i] for k, v in values.items()}}
+                      for i in range(head)]
     _plan_devices(session, unique, unique_keys, unique_warnings, firsts, report)
     _plan_lots(session, lots, lot_lines, report)
     if dry_run:
