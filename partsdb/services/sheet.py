@@ -12,9 +12,10 @@ first (or a named) sheet of an .xlsx/.ods workbook through pandas.
 
 from __future__ import annotations
 
+import codecs
 import csv
-import io
-from collections.abc import Iterator, Mapping
+import itertools
+from collections.abc import Iterable, Iterator, Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
@@ -22,6 +23,8 @@ from typing import TYPE_CHECKING, Any
 from sqlalchemy.orm import Session
 
 from partsdb.columns import (
+    BARE_LIMITS,
+    SHEET_STOCK_COLUMNS,
     MappedColumn,
     bare_warning,
     infer_ptot_ref,
@@ -54,6 +57,7 @@ LEGACY_ENCODING = "cp1252"
 programs write on such systems; common practice)."""
 
 REQUIRED = ("designation", "polarity")
+BARE_FIELDS = tuple(BARE_LIMITS)
 PREVIEW_ROWS = 8
 ASSUMED_COLUMNS = {"kind": "bjt", "material": "si"}
 
@@ -109,19 +113,36 @@ class SheetReport:
 # ---------------------------------------------------------------- reading
 
 def decode_bytes(data: bytes) -> tuple[str, str | None]:
-    """The text of a file and a notice when a legacy encoding was assumed.
+    """The text of a file and a notice when a legacy encoding was assumed (see
+    :func:`detect_encoding`)."""
+    encoding, notice = _encoding_of(data[:4], [data])
+    return data.decode(encoding, errors="replace").removeprefix("\ufeff"), notice
 
-    A byte-order mark decides (UTF-8, UTF-16 LE/BE); otherwise UTF-8 if the bytes are valid
-    UTF-8, else :data:`LEGACY_ENCODING` (every byte decodes), named in the notice."""
-    if data.startswith(b"\xef\xbb\xbf"):
-        return data[3:].decode("utf-8"), None
-    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
-        return data.decode("utf-16"), None
+
+def _encoding_of(head: bytes, blocks: Iterable[bytes]) -> tuple[str, str | None]:
+    if head.startswith(b"\xef\xbb\xbf"):
+        return "utf-8-sig", None
+    if head.startswith((b"\xff\xfe", b"\xfe\xff")):
+        return "utf-16", None
+    decoder = codecs.getincrementaldecoder("utf-8")()
     try:
-        return data.decode("utf-8"), None
+        for block in blocks:
+            decoder.decode(block)
+        decoder.decode(b"", final=True)
     except UnicodeDecodeError:
-        return (data.decode(LEGACY_ENCODING, errors="replace"),
-                f"the file is not UTF-8; read as {LEGACY_ENCODING} (Windows Western European)")
+        return LEGACY_ENCODING, (f"the file is not UTF-8; read as {LEGACY_ENCODING} "
+                                 "(Windows Western European)")
+    return "utf-8", None
+
+
+def detect_encoding(path: Path) -> tuple[str, str | None]:
+    """The encoding of a text file: a byte-order mark decides (UTF-8, UTF-16 LE/BE); otherwise
+    UTF-8 if every byte sequence is valid UTF-8 (checked a block at a time), else
+    :data:`LEGACY_ENCODING` (every byte decodes), named in the notice."""
+    with path.open("rb") as handle:
+        head = handle.read(4)
+        handle.seek(0)
+        return _encoding_of(head, iter(lambda: handle.read(1 << 20), b""))
 
 
 def sniff_delimiter(text: str) -> str:
@@ -137,58 +158,76 @@ def sniff_delimiter(text: str) -> str:
         return best if counts[best] else ","
 
 
-def _check_rows(text: str, delimiter: str) -> None:
+def _check_rows(path: Path, encoding: str, delimiter: str) -> None:
     """Every row has as many cells as the header (RFC 4180 quoting: a quoted line break stays in
-    its cell); the header names no column twice."""
+    its cell); read as a stream, never the whole file at once."""
     problems: list[tuple[int, str]] = []
-    reader = csv.reader(io.StringIO(text, newline=""), delimiter=delimiter)
-    header: list[str] | None = None
-    start = 1
-    for row in reader:
-        line, start = start, reader.line_num + 1
-        if not row:
-            continue
-        if header is None:
-            header = row
-            continue
-        if len(row) != len(header):
-            problems.append((line, f"{len(row)} cell(s) where the header has {len(header)}; "
-                                   f"expected one cell per column (delimiter {delimiter!r}; "
-                                   "quote a cell that holds it)"))
-            if len(problems) > 200:
-                break
+    with path.open(encoding=encoding, errors="replace", newline="") as handle:
+        reader = csv.reader(handle, delimiter=delimiter)
+        header: list[str] | None = None
+        start = 1
+        for row in reader:
+            line, start = start, reader.line_num + 1
+            if not row:
+                continue
+            if header is None:
+                header = row
+                continue
+            if len(row) != len(header):
+                problems.append((line, f"{len(row)} cell(s) where the header has {len(header)}; "
+                                       f"expected one cell per column (delimiter {delimiter!r}; "
+                                       "quote a cell that holds it)"))
+                if len(problems) > 200:
+                    break
     if problems:
         raise ImportRejected(problems)
 
 
-def read_table(path: str | Path, sheet: str | None = None) -> tuple[pd.DataFrame, list[str]]:
-    """A sheet as text cells (blank cells ""), and notices (encoding assumed, delimiter)."""
+def read_table(path: str | Path, sheet: str | None = None
+               ) -> tuple[Iterator[pd.DataFrame], list[str]]:
+    """A sheet as frames of text cells (blank cells ""), :data:`CHUNK_ROWS` rows at a time, and
+    notices (encoding assumed, delimiter). A workbook is one frame."""
     import pandas as pd
 
     path = Path(path)
     engine = SPREADSHEET_SUFFIXES.get(path.suffix.lower())
     if engine is not None:
-        return _read_workbook(path, engine, sheet), []
+        return iter([_read_workbook(path, engine, sheet)]), []
     try:
-        data = path.read_bytes()
+        encoding, notice = detect_encoding(path)
+        with path.open(encoding=encoding, errors="replace", newline="") as handle:
+            head = handle.read(64 * 1024)
     except FileNotFoundError:
         raise ImportRejected([(0, f"file {str(path)!r} not found")]) from None
     except OSError as err:
         raise ImportRejected([(0, f"file {str(path)!r} cannot be read ({err.strerror})")]) from None
-    text, notice = decode_bytes(data)
     notices = [notice] if notice else []
-    if not text.strip():
+    if not head.strip():
         raise ImportRejected([(0, f"file {str(path)!r} is empty")])
-    delimiter = sniff_delimiter(text)
+    delimiter = sniff_delimiter(head.removeprefix("\ufeff"))
     if delimiter != ",":
         notices.append(f"cells separated by {'tab' if delimiter == chr(9) else repr(delimiter)}")
-    _check_rows(text, delimiter)
-    try:
-        frame = pd.read_csv(io.StringIO(text), sep=delimiter, dtype=str, keep_default_na=False,
-                            skipinitialspace=True)
-    except (pd.errors.ParserError, pd.errors.EmptyDataError) as err:
-        raise ImportRejected([(0, f"file {str(path)!r} is not a readable CSV: {err}")]) from None
-    return frame, notices
+    _check_rows(path, encoding, delimiter)
+
+    def frames() -> Iterator[pd.DataFrame]:
+        try:
+            reader = pd.read_csv(path, sep=delimiter, dtype=str, keep_default_na=False,
+                                 skipinitialspace=True, encoding=encoding,
+                                 encoding_errors="replace", chunksize=CHUNK_ROWS)
+            with reader:
+                first = True
+                for frame in reader:
+                    first = False
+                    yield frame
+                if first:
+                    header = pd.read_csv(path, sep=delimiter, dtype=str, nrows=0,
+                                         encoding=encoding, encoding_errors="replace")
+                    yield pd.DataFrame(columns=list(header.columns), dtype=str)
+        except (pd.errors.ParserError, pd.errors.EmptyDataError) as err:
+            raise ImportRejected([(0, f"file {str(path)!r} is not a readable CSV: "
+                                      f"{err}")]) from None
+
+    return frames(), notices
 
 
 def _read_workbook(path: Path, engine: str, sheet: str | None) -> pd.DataFrame:
@@ -232,20 +271,92 @@ def _chunks(frame: pd.DataFrame) -> Iterator[pd.DataFrame]:
         yield frame.iloc[start:start + CHUNK_ROWS]
 
 
+class _Prepared:
+    """Turns each frame of the sheet's text cells into a frame of device fields (mapped,
+    defaults filled, outlines normalised), keeping what is not a device field (the lot columns)
+    and what was assumed or looks like a unit slip, by row position in the file."""
+
+    def __init__(self, mapping: list[MappedColumn], notices: list[str]) -> None:
+        self.mapping = mapping
+        self.renames = {c.header: c.field for c in mapping if c.field}
+        self.fields = [c.field for c in mapping if c.field]
+        self.unitless = [c.field for c in mapping
+                         if c.field in BARE_FIELDS and c.unit is None]
+        self.notices = notices
+        self.assumed: dict[int, list[str]] = {}
+        self.extra: dict[int, list[str]] = {}
+        self.stock: dict[str, list[str]] = {
+            name: [] for name in SHEET_STOCK_COLUMNS if name in self.fields}
+        self.offset = 0
+        self._outlines: dict[str, str] = {}
+
+    def frames(self, raw_frames: Iterator[pd.DataFrame]) -> Iterator[pd.DataFrame]:
+        for raw in raw_frames:
+            text = self.prepare(raw)
+            self.offset += len(text)
+            yield text
+            del raw, text
+
+    def prepare(self, raw: pd.DataFrame) -> pd.DataFrame:
+        text = raw.rename(columns=self.renames)[self.fields].astype(str)
+        text = _undo_guard(text)
+        at = self.offset
+        for name in self.stock:
+            self.stock[name].extend(text[name].tolist())
+        for name, default in ASSUMED_COLUMNS.items():
+            if name not in text.columns:
+                text[name] = default
+                if at == 0:
+                    self.notices.append(f"no {name} column: every row taken as {name} {default}")
+                continue
+            cells = text[name].tolist()
+            blank = [pos for pos, cell in enumerate(cells) if not cell.strip()]
+            for pos in blank:
+                cells[pos] = default
+                self.assumed.setdefault(at + pos, []).append(f"{name} {default}")
+            if blank:
+                text[name] = cells
+        if "package" in text.columns:
+            raw_outlines = text["package"].tolist()
+            for v in set(raw_outlines) - set(self._outlines):
+                self._outlines[v] = normalize_outline(v.strip()) or ""
+            outlines = [self._outlines[v] for v in raw_outlines]
+            text["package"] = outlines
+            refs = text["ptot_ref"].tolist() if "ptot_ref" in text.columns else [""] * len(text)
+            inferred = {o: infer_ptot_ref(o) for o in set(outlines)}
+            for pos, (ref, outline) in enumerate(zip(refs, outlines, strict=True)):
+                if not ref.strip() and (guess := inferred.get(outline)):
+                    refs[pos] = guess
+                    self.assumed.setdefault(at + pos, []).append(
+                        f"ptot_ref {guess} ({outline}, common practice)")
+            text["ptot_ref"] = refs
+        for name in self.unitless:
+            # A bare number too large for the field in a column that names no unit.
+            import pandas as pd
+
+            numbers = pd.to_numeric(text[name], errors="coerce")
+            for pos in (numbers > BARE_LIMITS[name]).to_numpy().nonzero()[0].tolist():
+                message = bare_warning(name, float(numbers.iat[pos]))
+                if message:
+                    self.extra.setdefault(at + pos, []).append(message)
+        return text[[c for c in text.columns if c in FIELD_BY_NAME]]
+
+
 def import_sheet(session: Session, path: str | Path | None = None,
                  options: SheetOptions | None = None, dry_run: bool = False,
                  frame: pd.DataFrame | None = None) -> SheetReport:
     """Import a parts sheet; all or nothing (ImportRejected lists every bad row by line,
     column and reason). ``dry_run`` reads and checks everything and writes nothing."""
-    import numpy as np
-
     options = options or SheetOptions()
     notices: list[str] = []
     if frame is None:
         if path is None:
             raise ValueError("import_sheet needs a path or a frame")
-        frame, notices = read_table(path, options.sheet)
-    mapping = map_headers([str(c) for c in frame.columns], options.map, options.units,
+        raw_frames, notices = read_table(path, options.sheet)
+    else:
+        raw_frames = _chunks(frame)
+    first = next(raw_frames)
+    mapping = map_headers([str(c) for c in first.columns], options.map, options.units,
                           options.ignore, options.ignore_unknown)
     report = SheetReport(notices=notices, columns=mapping.columns, dry_run=dry_run)
     by_field = mapping.by_field()
@@ -256,55 +367,17 @@ def import_sheet(session: Session, path: str | Path | None = None,
     if "quantity" in by_field and "location" not in by_field:
         raise ImportRejected([(1, "a quantity column needs a location column (drawer or place "
                                   "path) beside it")])
-    text = frame.rename(columns={c.header: c.field for c in mapping.columns if c.field})
-    text = text[[c.field for c in mapping.columns if c.field]].astype(str)
-    text = _undo_guard(text)
-    assumed: dict[int, list[str]] = {}
-    for name, default in ASSUMED_COLUMNS.items():
-        if name not in text.columns:
-            text[name] = default
-            notices.append(f"no {name} column: every row taken as {name} {default}")
-        else:
-            cells = text[name].tolist()
-            blank = [pos for pos, cell in enumerate(cells) if not cell.strip()]
-            for pos in blank:
-                cells[pos] = default
-                assumed.setdefault(pos, []).append(f"{name} {default}")
-            if blank:
-                text[name] = cells
-    if "package" in text.columns:
-        raw = text["package"].tolist()
-        outlines = {v: normalize_outline(v.strip()) or "" for v in set(raw)}
-        text["package"] = [outlines[v] for v in raw]
-        if "ptot_ref" not in text.columns:
-            text["ptot_ref"] = ""
-        refs = text["ptot_ref"].tolist()
-        inferred = {o: infer_ptot_ref(o) for o in set(outlines.values())}
-        for pos, (ref, outline) in enumerate(zip(refs, text["package"].tolist(), strict=True)):
-            if not ref.strip() and (guess := inferred.get(outline)):
-                refs[pos] = guess
-                assumed.setdefault(pos, []).append(
-                    f"ptot_ref {guess} ({outline}, common practice)")
-        text["ptot_ref"] = refs
+    prep = _Prepared(mapping.columns, notices)
     scales = {c.field: c.scale for c in mapping.columns if c.field and c.scale != 1.0}
-    device_columns = [c for c in text.columns if c in FIELD_BY_NAME]
-    parsed, problems = _parse_frames(_chunks(text[device_columns]), scales, check=False)
-
-    # A bare number too large for the field, in a column that names no unit: a warning.
-    unitless = [name for name in ("ic_max", "ptot", "vceo")
-                if name in by_field and by_field[name].unit is None]
-    extra: dict[int, list[str]] = {}
-    for name in unitless:
-        values = parsed.values[name]
-        for pos in np.flatnonzero(values > 0).tolist():
-            message = bare_warning(name, float(values[pos]))
-            if message and text[name].iat[pos].strip().replace(".", "", 1).isdigit():
-                extra.setdefault(pos, []).append(message)
+    parsed, problems = _parse_frames(prep.frames(itertools.chain([first], raw_frames)), scales,
+                                     check=False)
+    del first
+    assumed, extra = prep.assumed, prep.extra
 
     designations: list[str | None] = parsed.values["designation"]
     keys = [normalize(d) if d else "" for d in designations]
-    lots, lot_lines = _lots(text, keys, designations, problems)
-    firsts = _first_rows(parsed, keys, "location" in text.columns, problems)
+    lots, lot_lines = _lots(prep.stock, parsed.n, keys, designations, problems)
+    firsts = _first_rows(parsed, keys, "location" in prep.stock, problems)
 
     warnings = _consistency(parsed, problems, options.strict, ImportReport())
     for pos, found in extra.items():
@@ -397,20 +470,20 @@ def _select(parsed: _Columns, rows: list[int]) -> _Columns:
     return out
 
 
-def _lots(text: pd.DataFrame, keys: list[str], designations: list[str | None],
-          problems: dict[int, list[str]]
+def _lots(columns: dict[str, list[str]], n: int, keys: list[str],
+          designations: list[str | None], problems: dict[int, list[str]]
           ) -> tuple[list[tuple[str, str, int, str, str | None]], list[int]]:
     """Lot rows (designation, location, quantity, condition, note) and their line numbers."""
     from partsdb.services import stock
 
-    if "location" not in text.columns:
+    if "location" not in columns:
         return [], []
     rows: list[tuple[str, str, int, str, str | None]] = []
     lines: list[int] = []
     seen: dict[tuple[str, str, str], int] = {}
-    locations = text["location"].tolist()
-    quantities = text["quantity"].tolist() if "quantity" in text.columns else [""] * len(text)
-    conditions = text["condition"].tolist() if "condition" in text.columns else [""] * len(text)
+    locations = columns["location"]
+    quantities = columns.get("quantity") or [""] * n
+    conditions = columns.get("condition") or [""] * n
     for pos, (place, qty_text, cond) in enumerate(zip(locations, quantities, conditions,
                                                       strict=True)):
         msgs: list[str] = []
