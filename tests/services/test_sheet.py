@@ -187,3 +187,40 @@ def test_reading_bytes_and_delimiters() -> None:
         assert sniff_delimiter(f"a{sep}b{sep}c\n1{sep}2{sep}3\n") == sep
     # RFC 4180: a quoted field may hold the delimiter and a line break
     assert sniff_delimiter('a;b\n"x;\ny";2\n') == ";"
+
+
+def test_formats_utf16_tab_quoted_newline_crlf_and_ods(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
+    # UTF-16 with a BOM, tab-separated, CRLF line ends, a quoted cell holding a line break
+    # (RFC 4180, 2.6)
+    text = ("Type\tPolarity\tNotes\r\nQF1\tnpn\t\"two\nlines\"\r\n"
+            "QF2\tPNP\tplain\r\n")
+    path = tmp_path / "u16.txt"
+    path.write_bytes(text.encode("utf-16"))
+    with empty_db.session() as session:
+        report = import_sheet(session, path)
+    assert "cells separated by tab" in report.notices
+    assert devices(empty_db)["QF1"].notes == "two\nlines"
+    pytest.importorskip("odf")
+    import pandas as pd
+
+    ods = tmp_path / "sheet.ods"
+    pd.DataFrame({"Part": ["QF3"], "Pol": ["p"], "Ic (mA)": [20]}).to_excel(
+        ods, index=False, engine="odf")
+    with empty_db.session() as session:
+        import_sheet(session, ods)
+    assert devices(empty_db)["QF3"].ic_max == pytest.approx(0.020)
+
+
+def test_a_workbook_without_the_extra_is_one_clear_line(empty_db, tmp_path: Path,  # type: ignore[no-untyped-def]
+                                                       monkeypatch: pytest.MonkeyPatch) -> None:
+    import importlib.util
+
+    from partsdb.errors import EnvironmentProblem
+
+    real = importlib.util.find_spec
+    monkeypatch.setattr(importlib.util, "find_spec",
+                        lambda name, *a: None if name == "openpyxl" else real(name, *a))
+    (tmp_path / "x.xlsx").write_bytes(b"PK")
+    with pytest.raises(EnvironmentProblem, match=r"partsdb-drawers\[spreadsheets\]"), \
+            empty_db.session() as session:
+        import_sheet(session, tmp_path / "x.xlsx")
