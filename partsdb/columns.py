@@ -63,7 +63,7 @@ def header_key(text: str) -> str:
 
 def _build_table() -> dict[str, str]:
     table: dict[str, str] = {}
-    own = [(f.name, (f.name, f.label)) for f in FIELDS]
+    own: list[tuple[str, tuple[str, ...]]] = [(f.name, (f.name, f.label)) for f in FIELDS]
     own += [(c, (c,)) for c in SHEET_STOCK_COLUMNS]
     for name, spellings in [*own, *SPELLINGS.items()]:
         for spelling in spellings:

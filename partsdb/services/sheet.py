@@ -388,8 +388,9 @@ def import_sheet(session: Session, path: str | Path | None = None,
     if problems:
         raise ImportRejected([(pos + 2, "; ".join(msgs)) for pos, msgs in sorted(problems.items())])
     for pos in firsts:
-        if warnings[pos]:
-            for w in warnings[pos].split("\n"):
+        stored = warnings[pos]
+        if stored:
+            for w in stored.split("\n"):
                 report.warnings.append({"line": pos + 2, "designation": designations[pos],
                                         "message": w})
     for pos, what in sorted(assumed.items()):
