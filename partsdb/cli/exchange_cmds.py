@@ -104,6 +104,7 @@ def import_sheet(state: CliState, file: str, maps: tuple[str, ...], units: tuple
     headers such as "Type", "Vce (V)", "Ic (mA)", "hFE", "Case", "Drawer", "Qty" are
     recognised; rows with a drawer and a count become lots; all or nothing. `partsdb import
     FILE` is short for this. FILE `-` reads standard input (CSV)."""
+    from partsdb.errors import InvalidInput
     from partsdb.services import sheet
     from partsdb.services.exchange import ImportRejected
     from partsdb.services.files import input_path
@@ -127,13 +128,16 @@ def import_sheet(state: CliState, file: str, maps: tuple[str, ...], units: tuple
             report = sheet.import_sheet(session, path, options, dry_run=dry_run)
             if dry_run:
                 session.rollback()
-    except ImportRejected as err:
+    except InvalidInput as err:
         if fmt != "json":
             raise
         from partsdb.cli.common import emit_json
+        from partsdb.services.sheet import error_rows
 
-        emit_json({"added": [], "updated": [], "unchanged": [], "warnings": [],
-                   "errors": [{"line": line, "message": msg} for line, msg in err.problems]})
+        problems = err.problems if isinstance(err, ImportRejected) else \
+            [(1, line) for line in str(err).splitlines()]
+        emit_json({"added": [], "updated": [], "unchanged": [], "warnings": [], "assumed": [],
+                   "errors": error_rows(problems)})
         raise SystemExit(err.exit_code) from None
     _sheet_output(report, fmt, state.quiet)
 

@@ -385,8 +385,9 @@ def import_sheet(session: Session, path: str | Path | None = None,
             problems.setdefault(pos, []).extend(f"{m} (--strict)" for m in found)
         elif pos not in problems:
             warnings[pos] = "\n".join([*(warnings[pos] or "").split("\n"), *found]).strip()
-    if problems:
-        raise ImportRejected([(pos + 2, "; ".join(msgs)) for pos, msgs in sorted(problems.items())])
+    if problems:  # one entry per reason, so each names its own column
+        raise ImportRejected([(pos + 2, msg) for pos, msgs in sorted(problems.items())
+                              for msg in msgs])
     for pos in firsts:
         stored = warnings[pos]
         if stored:
@@ -574,6 +575,19 @@ def _plan_lots(session: Session, lots: list[tuple[str, str, int, str, str | None
         else:
             report.unchanged.append(entry)
     return held
+
+
+def error_rows(problems: list[tuple[int, str]]) -> list[dict[str, Any]]:
+    """Refusal problems as JSON rows: one per reason, with its line and (when the reason names
+    one) its column."""
+    from partsdb.columns import KNOWN_COLUMNS
+
+    out: list[dict[str, Any]] = []
+    for line, reason in problems:
+        column = reason.split(":", 1)[0].strip()
+        out.append({"line": line, "column": column if column in KNOWN_COLUMNS else None,
+                    "message": reason})
+    return out
 
 
 def parse_pairs(values: Mapping[str, str] | list[str], option: str) -> dict[str, str]:

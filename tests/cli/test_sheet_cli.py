@@ -55,7 +55,11 @@ def test_bad_rows_are_listed_and_nothing_is_written(run, tmp_path: Path) -> None
     assert "line 3: polarity: 'xnp' is not valid" in result.output
     assert "line 4: vceo: 'fast' is not valid" in result.output
     data = json.loads(run("import", str(path), "--format", "json").stdout)
-    assert [e["line"] for e in data["errors"]] == [3, 4]
+    assert [(e["line"], e["column"]) for e in data["errors"]] == \
+        [(3, "polarity"), (4, "vceo"), (4, "quantity")]
+    header = json.loads(run("import", str(path), "--format", "json", "--map", "Vce=nothing").stdout)
+    assert header["errors"][0]["line"] == 1 and "'nothing' is not a known field" in \
+        header["errors"][0]["message"]
     assert json.loads(run("device", "list", "--format", "json").stdout) == []
 
 
