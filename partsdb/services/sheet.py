@@ -530,6 +530,11 @@ def _plan_devices(session: Session, parsed: _Columns, keys: list[str],
     """Sort the devices into added / updated (with each changing field, old -> new) /
     unchanged against what is stored; reads only."""
     stored = catalog._stored_rows(session, keys) if catalog.count_devices(session) else {}
+    if not stored:  # every device is new: no field values to compare
+        names: list[Any] = parsed.values["designation"]
+        report.added.extend({"line": row + 2, "what": "device", "designation": name}
+                            for row, name in zip(rows, names, strict=True))
+        return
     for start in range(0, parsed.n, 20_000):
         stop = min(parsed.n, start + 20_000)
         cols = {name: parsed.plain(name, start, stop) for name in FIELD_NAMES}
