@@ -165,8 +165,8 @@ def import_devices(state: CliState, file: str, strict: bool) -> None:
 @pass_state
 def import_stock(state: CliState, file: str) -> None:
     """Import lots: columns designation, location, quantity, condition, note. Each row sets
-    that lot to the quantity given (a count, recorded in the ledger). FILE `-` reads standard
-    input."""
+    that lot to the quantity given: a new lot enters the ledger as a receipt, a changed one as
+    a count (both noted "import"). FILE `-` reads standard input."""
     from partsdb.services import exchange
     from partsdb.services.files import input_path
 
