@@ -11,12 +11,13 @@ frequency checks are heuristics derived below, and their sentences say "common p
 
 from __future__ import annotations
 
+from partsdb.columns import plausibility_warnings
 from partsdb.designations import Decoded, decode
 from partsdb.device import Device
 from partsdb.units import format_quantity
 
 CHECKED_FIELDS: tuple[str, ...] = ("designation", "kind", "polarity", "material", "ptot", "ptot_ref",
-                                   "tj_max", "ft")
+                                   "tj_max", "ft", "package", "ic_max")
 """The only Device fields :func:`consistency_warnings` reads (the importer sets just these on one
 reused record; a test holds the checker to this list)."""
 
@@ -152,9 +153,13 @@ def _frequency(device: Device, d: Decoded) -> list[str]:
 
 
 def consistency_warnings(device: Device) -> list[str]:
-    """Plain sentences where ``device`` contradicts its designation (empty when it agrees)."""
+    """Plain sentences where ``device`` contradicts its designation or its outline (values a
+    small-signal outline cannot plausibly carry, :func:`partsdb.columns.plausibility_warnings`);
+    empty when it agrees."""
+    found = plausibility_warnings(device.package, device.ptot_ref, device.ic_max, device.ptot) \
+        if device.package else []
     d = decode(device.designation)
     if d.scheme == "unknown":
-        return []
+        return found
     return [*_family(device, d), *_material(device, d), *_polarity(device, d),
-            *_power(device, d), *_frequency(device, d)]
+            *_power(device, d), *_frequency(device, d), *found]

@@ -98,6 +98,15 @@ def default_tj_max(material: str | None) -> float:
     """Tj max assumed for a part of this material with none recorded (unknown: silicon's)."""
     return DEFAULT_TJ_MAX.get(material or "si", DEFAULT_TJ_MAX["si"])
 
+# The usual words a sheet uses for a choice, per field (common practice).
+CHOICE_ALIASES: dict[str, dict[str, str]] = {
+    "kind": {"darl": "darlington", "transistor": "bjt", "bipolar": "bjt"},
+    "polarity": {"p": "pnp", "n": "npn"},
+    "material": {"germanium": "ge", "silicon": "si", "g": "ge", "s": "si"},
+    "ptot_ref": {"free-air": "ambient", "free air": "ambient", "air": "ambient", "ta": "ambient",
+                 "tc": "case", "heatsink": "case"},
+}
+
 TRUE_WORDS = frozenset({"yes", "y", "true", "t", "1"})
 FALSE_WORDS = frozenset({"no", "n", "false", "f", "0", ""})
 
@@ -209,9 +218,7 @@ def parse_field(name: str, value: object) -> Any:
         return clean_designation(text) if name == "designation" else check_text(name, text)
     if spec.kind == "choice":
         text = str(value).strip().lower()
-        aliases = {"germanium": "ge", "silicon": "si", "darl": "darlington", "free-air": "ambient",
-                   "free air": "ambient", "air": "ambient"}
-        text = aliases.get(text, text)
+        text = CHOICE_ALIASES.get(name, {}).get(text, text)
         if text not in spec.choices:
             raise UnitError(name, value, "one of " + ", ".join(spec.choices))
         return text

@@ -17,7 +17,8 @@ CONDITIONS: tuple[str, ...] = ("new", "nos", "used", "pulled", "tested")
 * ``tested``: pulled and measured good.
 """
 
-REASONS: tuple[str, ...] = ("receive", "take", "return", "move", "count", "undo", "edit", "merge")
+REASONS: tuple[str, ...] = ("receive", "take", "return", "move", "count", "undo", "edit", "merge",
+                            "import")
 """Why a ledger entry was written: the five stock operations, ``undo`` (compensates the
 movement it names in ``undoes``), ``edit`` (a lot's condition or note changed, no parts moved)
 and ``merge`` (a place merged into another; its lots moved with it)."""

@@ -157,8 +157,8 @@ def _with_unit_pattern(unit: str) -> Any:
     return _WITH_UNIT[unit]
 
 
-def parse_quantities(cells: Sequence[str], unit: str, field: str = "value"
-                     ) -> tuple[np.ndarray, dict[int, UnitError]]:
+def parse_quantities(cells: Sequence[str], unit: str, field: str = "value",
+                     bare_scale: float = 1.0) -> tuple[np.ndarray, dict[int, UnitError]]:
     """:func:`parse_quantity` over a column of text cells (already stripped), for imports.
 
     Returns the values in the base unit (NaN for a blank cell, "" or "—", and for a refused
@@ -166,6 +166,9 @@ def parse_quantities(cells: Sequence[str], unit: str, field: str = "value"
     :func:`parse_quantity` does (a test holds it to that), faster: plain numbers go through
     numpy in one conversion, the common "40V" / "300 MHz" form through one compiled pattern,
     and only the rest (R-notation, prefix-as-decimal-point, junk) cell by cell.
+
+    ``bare_scale`` multiplies the bare numbers only (a column whose header says "mA": 1e-3);
+    a cell with its own unit is read by that unit.
     """
     import numpy as np
 
@@ -180,6 +183,8 @@ def parse_quantities(cells: Sequence[str], unit: str, field: str = "value"
             numbers[plain] = raw[plain].astype(float)
         except ValueError:  # a stray "." or "1-2": read those one by one below
             numbers[plain] = [_float_or_nan(cell) for cell in raw[plain].tolist()]
+        if bare_scale != 1.0:
+            numbers[plain] *= bare_scale
     pending = ~blank & ~np.isfinite(numbers)  # "1e999" is refused, as parse_quantity does
     pattern = _with_unit_pattern(unit)
     if pattern is not None and pending.any():

@@ -45,6 +45,22 @@ def test_every_config_key_is_documented() -> None:
     # The keys a policy table takes (derating.policy_from_mapping refuses any other).
     for key in ("voltage", "current", "power", "tj_margin", "tj_cap", "source", "description"):
         assert key in keys, key
+    from partsdb.services.config import PROFILE_KEYS
+
+    for key in PROFILE_KEYS:
+        assert key in keys, key
+
+
+def test_every_header_spelling_and_outline_is_documented() -> None:
+    from partsdb.columns import KNOWN_COLUMNS, OUTLINE_PTOT_REF, SPELLINGS
+
+    text = (DOCS / "csv-columns.md").read_text(encoding="utf-8")
+    for name in KNOWN_COLUMNS:
+        row = next(line for line in text.splitlines() if line.startswith(f"| {name} |"))
+        for spelling in SPELLINGS.get(name, ()):
+            assert f"`{spelling}`" in row, (name, spelling)
+    for outline in OUTLINE_PTOT_REF:
+        assert re.search(rf"[| ,]{re.escape(outline)}[,| ]", text), outline
 
 
 def test_every_exit_code_is_documented() -> None:

@@ -260,6 +260,7 @@ class DevicesView(Vertical):
         Binding("slash", "focus_search", "Search", key_display="/"),
         Binding("a", "add", "Add"),
         Binding("e", "edit", "Edit"),
+        Binding("i", "import_sheet", "Import"),
         Binding("s", "substitute", "Substitutes"),
         Binding("down", "focus_list", "List", show=False),
     ]
@@ -465,6 +466,19 @@ class DevicesView(Vertical):
             self.notify("Select a device to edit first.", severity="warning")
             return
         self.app.push_screen(DeviceForm(self.db, device), self._after_form)
+
+    def action_import_sheet(self) -> None:
+        from tui.import_form import ImportForm
+
+        self.app.push_screen(ImportForm(self.db), self._after_import)
+
+    def _after_import(self, result: str | None) -> None:
+        if result is None:
+            return
+        self.notify(result)
+        self.shell.absorb_own_change()
+        self.shell.catalog_changed()
+        self.refresh_data(True)
 
     def action_substitute(self) -> None:
         device = self.selected_device()

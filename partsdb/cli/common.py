@@ -10,11 +10,12 @@ Exit codes (``partsdb.errors``): 0 success, 1 not found, 2 bad usage or invalid 
 
 from __future__ import annotations
 
+import contextlib
 import json
 import math
 import re
 import sys
-from collections.abc import Callable, Iterable, Sequence
+from collections.abc import Callable, Iterable, Iterator, Sequence
 from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, Any, NoReturn
 
@@ -241,3 +242,35 @@ def launch_tui(state: CliState) -> None:
     from tui.app import run_app
 
     run_app(state.database())
+
+
+PROGRESS_DELAY_S = 2.0
+"""A long command shows its progress bar only after this long (a quick one never flickers)."""
+
+
+@contextlib.contextmanager
+def busy(state: CliState, what: str, json_mode: bool = False,
+         delay: float = PROGRESS_DELAY_S) -> Iterator[None]:
+    """A rich progress bar (pulsing, with the time taken) on stderr while a long import, export,
+    copy, backup or restore runs: shown after ``delay`` seconds, only when stderr is a terminal,
+    never with --quiet or in JSON mode; removed when the work ends."""
+    if state.quiet or json_mode or not sys.stderr.isatty():
+        yield
+        return
+    import threading
+
+    from rich.console import Console
+    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
+    progress = Progress(TextColumn("{task.description}"), BarColumn(), TimeElapsedColumn(),
+                        console=Console(file=sys.stderr), transient=True)
+    progress.add_task(what, total=None)
+    timer = threading.Timer(delay, progress.start)
+    timer.daemon = True
+    timer.start()
+    try:
+        yield
+    finally:
+        timer.cancel()
+        timer.join()
+        progress.stop()

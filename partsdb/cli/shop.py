@@ -8,7 +8,7 @@ from __future__ import annotations
 
 import click
 
-from partsdb.cli.common import CliState, emit_json, fail, format_option, pass_state
+from partsdb.cli.common import CliState, busy, emit_json, fail, format_option, pass_state
 
 
 def _notice(state: CliState) -> object:
@@ -60,7 +60,9 @@ def copy(state: CliState, source: str, target: str, force: bool, allow_empty: bo
         target_db = open_database(target, read_only=state.read_only,
                                   notify=notify)  # type: ignore[arg-type]
         try:
-            report = copy_database(source_db, target_db, force=force, allow_empty=allow_empty)
+            with busy(state, "copying", fmt == "json"):
+                report = copy_database(source_db, target_db, force=force,
+                                       allow_empty=allow_empty)
         finally:
             target_db.dispose()
     finally:
@@ -92,7 +94,8 @@ def backup(state: CliState, dest: str, kind: str, force: bool) -> None:
     """
     from partsdb.services.shop import backup as make_backup
 
-    report = make_backup(state.database(), dest, fmt=kind, force=force)
+    with busy(state, "backing up"):
+        report = make_backup(state.database(), dest, fmt=kind, force=force)
     rows = ", ".join(f"{n} {t}" for t, n in report.tally.rows.items())
     click.echo(f"backed up {state.database().describe()} to {report.path} ({report.format}, "
                f"schema {report.revision}): {rows}; stock total {report.tally.stock_total}")
@@ -114,7 +117,8 @@ def restore(state: CliState, src: str, force: bool, allow_empty: bool) -> None:
     """
     from partsdb.services.shop import restore as load_backup
 
-    report = load_backup(state.database(), src, force=force, allow_empty=allow_empty)
+    with busy(state, "restoring"):
+        report = load_backup(state.database(), src, force=force, allow_empty=allow_empty)
     _print_report(report, "restored")
 
 

@@ -23,6 +23,11 @@ another file. A missing file is not an error (built-in policies, default weights
     gap = 2             # mm between labels
     code = true         # a QR code of the place path on each label
 
+    [import.profiles.workshop]      # `partsdb import FILE --profile workshop`
+    map = { "Art.-Nr." = "designation", "Fach" = "location" }
+    unit = { ic_max = "mA", ft = "MHz" }
+    ignore = ["Preis"]
+
 Every error names the file, the key and the value.
 """
 
@@ -68,11 +73,11 @@ def load_config(path: Path | None = None) -> dict[str, Any]:
         raise ConfigError(f"{path}: not valid TOML ({err})") from err
     except OSError as err:
         raise ConfigError(f"{path}: cannot be read ({err.strerror})") from err
-    known = {"policies", "weights", "labels"}
+    known = {"policies", "weights", "labels", "import"}
     unknown = sorted(set(data) - known)
     if unknown:
         raise ConfigError(f"{path}: unknown table(s) {', '.join(unknown)}; known: "
-                          "policies, weights, labels")
+                          "policies, weights, labels, import")
     return data
 
 
@@ -152,3 +157,37 @@ def load_label_settings(path: Path | None = None) -> dict[str, Any]:
             raise ConfigError(f"{path}: labels.{key} = {value!r}; expected "
                               f"{'true or false' if kind is bool else 'text' if kind is str else 'a number'}")
     return dict(data)
+
+
+PROFILE_KEYS = ("map", "unit", "ignore", "ignore_unknown")
+
+
+def load_import_profile(name: str, path: Path | None = None) -> dict[str, Any]:
+    """The ``[import.profiles.NAME]`` table, checked: ``map`` (header = field), ``unit``
+    (field = unit), ``ignore`` (list of headers), ``ignore_unknown`` (true/false)."""
+    path = path or config_path()
+    data = load_config(path).get("import", {})
+    if not isinstance(data, dict) or set(data) - {"profiles"}:
+        raise ConfigError(f"{path}: import: expected only [import.profiles.NAME] tables")
+    profiles = data.get("profiles", {})
+    if not isinstance(profiles, dict) or name not in profiles:
+        known = ", ".join(profiles) if isinstance(profiles, dict) and profiles else "none"
+        raise ConfigError(f"profile: {name!r} is not in {path}; known profiles: {known} "
+                          "(add one under [import.profiles.NAME])")
+    table = profiles[name]
+    if not isinstance(table, dict):
+        raise ConfigError(f"{path}: import.profiles.{name} = {table!r}; expected a table")
+    where = f"{path}: import.profiles.{name}"
+    for key, value in table.items():
+        if key not in PROFILE_KEYS:
+            raise ConfigError(f"{where}.{key}: unknown key; known: {', '.join(PROFILE_KEYS)}")
+        if key in ("map", "unit") and not (isinstance(value, dict) and all(
+                isinstance(k, str) and isinstance(v, str) for k, v in value.items())):
+            raise ConfigError(f"{where}.{key} = {value!r}; expected a table of text values "
+                              + ("(header = field)" if key == "map" else "(field = unit)"))
+        if key == "ignore" and not (isinstance(value, list)
+                                    and all(isinstance(v, str) for v in value)):
+            raise ConfigError(f"{where}.ignore = {value!r}; expected a list of column headers")
+        if key == "ignore_unknown" and not isinstance(value, bool):
+            raise ConfigError(f"{where}.ignore_unknown = {value!r}; expected true or false")
+    return dict(table)

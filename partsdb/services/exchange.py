@@ -218,15 +218,16 @@ def _stripped(cells: pd.Series) -> list[str]:
     return [cell.strip() for cell in cells.tolist()]
 
 
-def _parse_quantity_column(name: str, cells: pd.Series, problems: dict[int, list[str]]
-                           ) -> np.ndarray:
+def _parse_quantity_column(name: str, cells: pd.Series, problems: dict[int, list[str]],
+                           scale: float = 1.0) -> np.ndarray:
     """A quantity or count column read by :func:`partsdb.units.parse_quantities`, then held to
     the field's own rules (positive; a count whole and 0 or more) as parse_field holds a cell."""
     import numpy as np
 
     spec = FIELD_BY_NAME[name]
     text = _stripped(cells)
-    numbers, errors = parse_quantities(text, spec.unit if spec.kind == "quantity" else "", name)
+    numbers, errors = parse_quantities(text, spec.unit if spec.kind == "quantity" else "", name,
+                                       bare_scale=scale)
     for pos, err in errors.items():
         problems.setdefault(pos, []).append(str(err))
     if spec.kind == "count":
@@ -288,7 +289,8 @@ def _text_column(cells: pd.Series) -> list[str | None]:
     return [cell.strip() or None for cell in cells.tolist()]
 
 
-def _parse_chunk(frame: pd.DataFrame) -> tuple[dict[str, Any], dict[int, list[str]]]:
+def _parse_chunk(frame: pd.DataFrame, scales: dict[str, float] | None = None
+                 ) -> tuple[dict[str, Any], dict[int, list[str]]]:
     """Parsed columns of one frame of text cells, and problems by row position in the frame."""
     problems: dict[int, list[str]] = {}
     n = len(frame)
@@ -298,7 +300,8 @@ def _parse_chunk(frame: pd.DataFrame) -> tuple[dict[str, Any], dict[int, list[st
             continue
         cells = frame[spec.name].astype(str)
         if spec.kind in ("quantity", "count"):
-            columns[spec.name] = _parse_quantity_column(spec.name, cells, problems)
+            columns[spec.name] = _parse_quantity_column(spec.name, cells, problems,
+                                                        (scales or {}).get(spec.name, 1.0))
         elif spec.kind == "choice":
             columns[spec.name] = _parse_choice_column(spec.name, cells, problems)
         elif spec.kind == "bool":
@@ -372,13 +375,15 @@ class _Columns:
         return out.tolist()
 
 
-def _parse_frames(frames: Iterator[pd.DataFrame]) -> tuple[_Columns, dict[int, list[str]]]:
+def _parse_frames(frames: Iterator[pd.DataFrame], scales: dict[str, float] | None = None,
+                  check: bool = True) -> tuple[_Columns, dict[int, list[str]]]:
     """Parse every chunk before anything is written; problems keyed by row position in the file."""
     parsed = _Columns()
     problems: dict[int, list[str]] = {}
     for frame in frames:
-        _check_header(frame)
-        columns, found = _parse_chunk(frame)
+        if check:
+            _check_header(frame)
+        columns, found = _parse_chunk(frame, scales)
         offset = parsed.n
         problems.update((offset + pos, msgs) for pos, msgs in found.items())
         parsed.add(columns, len(frame))
@@ -549,9 +554,10 @@ def import_stock(session: Session, path: str | Path | None = None,
     if problems:
         raise ImportRejected(problems)
     report = ImportReport()
-    changed = stock.import_lots(session, rows)
+    added, changed = stock.import_lots(session, rows, new_reason="import")
+    report.added = added
     report.updated = changed
-    report.unchanged = len(rows) - changed
+    report.unchanged = len(rows) - changed - added
     return report
 
 

@@ -541,23 +541,52 @@ def ledger_mismatches(session: Session) -> list[tuple[int, int, int]]:
             if int(sums.get(lot_id, 0) or 0) != qty]
 
 
-def import_lots(session: Session, rows: Iterable[tuple[str, str, int, str, str | None]]) -> int:
+def plan_lots(session: Session, rows: Iterable[tuple[str, str, int, str, str | None]]
+              ) -> list[int | None]:
+    """The quantity each (designation, location, quantity, condition, note) row's lot holds now,
+    None for a lot that does not exist yet; reads only."""
+    out: list[int | None] = []
+    for designation, path, _qty, condition, _note in rows:
+        device = _row_or_none(session, designation)
+        location = find_location(session, path)
+        lot = (_lot(session, device, location, _check_condition(condition))
+               if device is not None and location is not None else None)
+        out.append(None if lot is None else lot.quantity)
+    return out
+
+
+def _row_or_none(session: Session, designation: str) -> DeviceRow | None:
+    from partsdb.designations import normalize
+
+    return session.scalars(select(DeviceRow).where(DeviceRow.key == normalize(designation))).first()
+
+
+def import_lots(session: Session, rows: Iterable[tuple[str, str, int, str, str | None]],
+                new_reason: str = "import") -> tuple[int, int]:
     """Set lots from (designation, location, quantity, condition, note) rows, via the ledger.
 
     Each row sets the lot to the given quantity (a count), so re-importing the same file
-    changes nothing. Returns the number of lots whose quantity changed.
+    changes nothing. Stock arriving in a lot that did not exist is written to the ledger as its
+    own movement kind, ``new_reason`` (``import``), a changed lot as a count with the note
+    "import". Returns (lots added,
+    lots whose quantity changed).
     """
-    changed = 0
+    added = changed = 0
     for designation, path, qty, condition, note in rows:
         device = require_row(session, designation)
         location = ensure_location(session, path)
-        lot = _get_or_create_lot(session, device, location, _check_condition(condition), note)
+        cond = _check_condition(condition)
+        lot = _lot(session, device, location, cond)
+        new = lot is None
+        if lot is None:
+            lot = _get_or_create_lot(session, device, location, cond, note)
         if note is not None and lot.note != note:
             lot.note = note
-        if lot.quantity != qty:
+        if new:
+            added += 1
+            if qty:
+                _apply(session, lot, qty, new_reason, None, "import", "cannot import")
+        elif lot.quantity != qty:
             _apply(session, lot, qty - lot.quantity, "count", None, "import", "cannot import")
             changed += 1
-    return changed
-
-
-# ---------------------------------------------------------------- undo
+    return added, changed

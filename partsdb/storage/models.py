@@ -143,7 +143,7 @@ class MovementRow(Base):
 
     __table_args__ = (
         CheckConstraint("reason IN ('receive', 'take', 'return', 'move', 'count', 'undo', "
-                        "'edit', 'merge')", name="ck_movements_reason"),
+                        "'edit', 'merge', 'import')", name="ck_movements_reason"),
         Index("ix_movements_lot", "lot_id"),
         Index("ix_movements_job", "job"),
         Index("uq_movements_undoes", "undoes", unique=True),

@@ -10,6 +10,7 @@ the spec here: each command must exit 0. Narrow, explicit exceptions:
   test server named by PARTSDB_TEST_PG; without one, those lines are skipped (reported);
 - ``~/.local/share/partsdb/partsdb.sqlite`` (the default bench file on Linux) stands for the
   demo database;
+- the example files of docs/examples/ are copied into the working folder (as in a checkout);
 - commands that open the terminal UI (``tui``, ``demo`` without --no-ui) run up to the moment the
   UI would start (the UI itself is tested with Textual's pilot in tests/tui).
 """
@@ -69,6 +70,9 @@ def readme_shop(tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> Path:
     text = README.read_text(encoding="utf-8")
     for name, body in re.findall(r"^```csv (\S+)\n(.*?)^```", text, flags=re.S | re.M):
         (tmp_path / name).write_text(body, encoding="utf-8")
+    import shutil
+
+    shutil.copytree(README.parent / "docs" / "examples", tmp_path / "docs" / "examples")
     opened: list[Any] = []
     for face in (common, ui):
         monkeypatch.setattr(face, "launch_tui", lambda state: opened.append(state.database()))

@@ -342,7 +342,7 @@ def test_stock_import_reads_each_cell_and_counts_what_changed(empty_db, tmp_path
                     "QR100,C1/D01,5,,spare pair\nQR101,C1/D02,0,USED,\nQR102,C2/D01,2,used,\n")
     with empty_db.session() as session:
         report = exchange.import_stock(session, lots)
-        assert (report.updated, report.unchanged) == (2, 1)  # the 0 lot was already 0
+        assert (report.added, report.updated, report.unchanged) == (3, 0, 0)  # new lots: added
         held = {(v.designation, v.location, v.condition, v.quantity, v.note)
                 for v in stock.lots_at(session, None)}
     assert held == {("QR 100", "C1/D01", "new", 5, "spare pair"),
@@ -351,7 +351,7 @@ def test_stock_import_reads_each_cell_and_counts_what_changed(empty_db, tmp_path
                     "QR100,C1/D01,6,new,\nQR102,C2/D01,2,used,\n")
     with empty_db.session() as session:
         report = exchange.import_stock(session, lots)
-    assert (report.updated, report.unchanged) == (1, 1)
+    assert (report.added, report.updated, report.unchanged) == (0, 1, 1)
 
 
 @pytest.mark.parametrize(("text", "message"), [

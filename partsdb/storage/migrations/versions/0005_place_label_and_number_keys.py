@@ -40,7 +40,7 @@ _CONDITIONS_OLD = "condition IN ('new', 'used', 'pulled', 'tested')"
 _CONDITIONS_NEW = "condition IN ('new', 'nos', 'used', 'pulled', 'tested')"
 _REASONS_OLD = "reason IN ('receive', 'take', 'return', 'move', 'count')"
 _REASONS_NEW = ("reason IN ('receive', 'take', 'return', 'move', 'count', 'undo', "
-                "'edit', 'merge')")
+                "'edit', 'merge', 'import')")
 
 
 def _key(path: str) -> str:
