@@ -68,7 +68,7 @@ def test_the_issue_sheet_imports_devices_and_lots_with_ic_in_ma(empty_db, tmp_pa
     assert report.counts("device") == (2, 0, 0) and report.counts("lot") == (3, 0, 0)
     with empty_db.session() as session:
         reasons = {(e.change, e.reason, e.note) for e in stock.ledger(session)}
-    assert reasons == {(25, "receive", "import"), (5, "receive", "import"), (4, "receive", "import")}
+    assert reasons == {(25, "import", "import"), (5, "import", "import"), (4, "import", "import")}
 
 
 def test_minimal_file_imports_with_stated_defaults(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
