@@ -122,6 +122,10 @@ def check_shape(path: str | Path) -> None:
     pandas would shift a row with one cell too many (the first cell becomes the index) and fill
     a short row with blanks, silently; so the file is read once with the standard csv module
     (RFC 4180 quoting, so a quoted line break stays in its cell) before pandas reads it.
+
+    A cell holding NUL is refused here too, whatever pandas then makes of it: pandas 2.2's C
+    parser ends the cell at the NUL (``a<NUL>b`` is read as ``a``, the rest silently dropped),
+    later releases keep it for the per-field check, and PostgreSQL text cannot hold it at all.
     """
     import csv
 
@@ -135,6 +139,12 @@ def check_shape(path: str | Path) -> None:
                 line, start = start, reader.line_num + 1
                 if not row:
                     continue  # a blank line (pandas skips these too)
+                if NUL in "".join(row):
+                    # text_problem names the NUL (or a length or character ahead of it).
+                    problems.extend((line, str(text_problem(_column_name(header or row, i), cell)))
+                                    for i, cell in enumerate(row) if NUL in cell)
+                    if header is None or len(problems) > 200:
+                        break  # a NUL in the header: the rows cannot be named by column
                 if header is None:
                     header = row
                     _check_header_names(header)
@@ -149,6 +159,17 @@ def check_shape(path: str | Path) -> None:
         return  # pandas reads the file next and reports the problem in its own words
     if problems:
         raise ImportRejected(problems)
+
+
+NUL = "\x00"
+
+
+def _column_name(header: list[str], index: int) -> str:
+    """The header's name for cell ``index`` (``column 3`` when the name holds a NUL itself, or
+    the row has more cells than the header)."""
+    if index < len(header) and NUL not in header[index]:
+        return header[index].strip().lower()
+    return f"column {index + 1}"
 
 
 def _check_header_names(header: list[str]) -> None:

@@ -85,6 +85,27 @@ def test_unknown_column_lists_known_ones(empty_db, tmp_path: Path) -> None:  # t
         exchange.import_devices(session, path)
 
 
+def test_a_nul_anywhere_is_refused_whatever_the_csv_parser_makes_of_it(  # type: ignore[no-untyped-def]
+        empty_db, tmp_path: Path) -> None:
+    # PostgreSQL text cannot hold NUL (PostgreSQL docs, "Character Types"); pandas 2.2's C parser
+    # ends a cell at it, so the check reads the raw cells before pandas does.
+    path = tmp_path / "d.csv"
+    path.write_bytes(b"designation,kind,polarity,material,notes\nQX1,bjt,npn,si,a\x00b\n"
+                     b"QX2,bjt,npn,si,\"c\x00\"\n")
+    with pytest.raises(ImportRejected, match=r"\(2 problem\(s\)\):\n  line 2: notes: 'a\\x00b' holds "
+                                             r"the control or format character U\+0000 NULL; expected "
+                                             r"printable text\n  line 3: notes: 'c\\x00'"), \
+            empty_db.session() as session:
+        exchange.import_devices(session, path)
+    path.write_bytes(b"designation,kind,polarity,mat\x00erial\nQX1,bjt,npn,si\n")
+    with pytest.raises(ImportRejected, match=r"^[^\x00]*line 1: column 4: 'mat\\x00erial' holds the "
+                                             r"control or format character U\+0000 NULL[^\x00]*$"), \
+            empty_db.session() as session:
+        exchange.import_devices(session, path)
+    with empty_db.session() as session:
+        assert catalog.count_devices(session) == 0
+
+
 def test_duplicate_designations_in_one_file(empty_db, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
     path = write(tmp_path / "d.csv", [GOOD_ROWS[0], GOOD_ROWS[0].replace("QR 100", "qr-100")])
     with pytest.raises(ImportRejected, match="repeats line 2"), empty_db.session() as session:
