@@ -197,11 +197,12 @@ class _Bench:
             Path(str(path) + suffix).unlink(missing_ok=True)
         return open_database(path, notify=None)
 
-    def measure_import(self) -> None:
-        from partsdb.services import exchange
-
-        warm_csv = self.dir / "warmup.csv"
-        with open(self.csv, encoding="utf-8") as src, open(warm_csv, "w", encoding="utf-8") as dst:
+    def _time_import(self, csv: Path, db_name: str, step: str,
+                     load: Callable[[Any, Path], Any]) -> tuple[float, Any]:
+        """Median seconds of ``load(session, csv)`` into a fresh database each run (after one
+        warm-up on the first rows); returns them with the last run's database, still open."""
+        warm = csv.with_name(f"{csv.stem}-warmup.csv")
+        with open(csv, encoding="utf-8") as src, open(warm, "w", encoding="utf-8") as dst:
             for i, line in enumerate(src):
                 if i > WARMUP_IMPORT_ROWS:
                     break
@@ -212,19 +213,25 @@ class _Bench:
             for db in pending:
                 db.dispose()
             pending.clear()
-            pending.append(self._fresh_db("catalog.sqlite"))
+            pending.append(self._fresh_db(db_name))
 
         def import_into(path: Path) -> None:
             with pending[0].session() as session:
-                exchange.import_devices(session, path=path)
+                load(session, path)
 
-        def tick(i: int) -> None:
-            self.progress(f"importing {self.n:,} rows ({self.repeat} runs)", i, self.repeat)
+        self.progress(step, 0, self.repeat)
+        seconds = median_seconds(lambda: import_into(csv), self.repeat,
+                                 warmup=lambda: import_into(warm), before=prepare,
+                                 tick=lambda i: self.progress(step, i, self.repeat))
+        return seconds, pending[0]
 
-        self.progress(f"importing {self.n:,} rows ({self.repeat} runs)", 0, self.repeat)
-        seconds = median_seconds(lambda: import_into(self.csv), self.repeat,
-                                 warmup=lambda: import_into(warm_csv), before=prepare, tick=tick)
-        self.db = pending[0]  # the last run's database serves the ranking and search figures
+    def measure_import(self) -> None:
+        from partsdb.services import exchange
+
+        seconds, self.db = self._time_import(
+            self.csv, "catalog.sqlite", f"importing {self.n:,} rows ({self.repeat} runs)",
+            lambda session, path: exchange.import_devices(session, path=path))
+        # the last run's database serves the ranking and search figures
         self.metrics["import_rows_per_s"] = self.n / seconds
 
     def measure_import_mapped(self) -> None:
@@ -232,31 +239,11 @@ class _Bench:
 
         mapped = self.dir / "sheet.csv"
         write_mapped_sheet(self.csv, mapped)
-        warm = self.dir / "sheet-warmup.csv"
-        with open(mapped, encoding="utf-8") as src, open(warm, "w", encoding="utf-8") as dst:
-            for i, line in enumerate(src):
-                if i > WARMUP_IMPORT_ROWS:
-                    break
-                dst.write(line)
-        pending: list[Any] = []
-
-        def prepare() -> None:
-            for db in pending:
-                db.dispose()
-            pending.clear()
-            pending.append(self._fresh_db("sheet.sqlite"))
-
-        def import_into(path: Path) -> None:
-            with pending[0].session() as session:
-                sheet.import_sheet(session, path)
-
-        step = f"importing {self.n:,} rows of a mapped sheet ({self.repeat} runs)"
-        self.progress(step, 0, self.repeat)
-        seconds = median_seconds(lambda: import_into(mapped), self.repeat,
-                                 warmup=lambda: import_into(warm), before=prepare,
-                                 tick=lambda i: self.progress(step, i, self.repeat))
-        for db in pending:
-            db.dispose()
+        seconds, db = self._time_import(
+            mapped, "sheet.sqlite",
+            f"importing {self.n:,} rows of a mapped sheet ({self.repeat} runs)",
+            sheet.import_sheet)
+        db.dispose()
         self.metrics["import_mapped_rows_per_s"] = self.n / seconds
 
     # ------------------------------------------------------------------ ranking
