@@ -93,7 +93,13 @@ def key_flags(candidate: Candidate) -> str:
     under = [p.parameter for p in checks if p.status == "under-rated"]
     marginal = [p.parameter for p in checks if p.status == "marginal" and not p.code]
     unknown = [p.parameter for p in checks if p.status == "unknown"]
-    codes = [p.code for p in checks if p.code] + [p.code for p in problems if p.is_flag]
+    by_code: dict[str, list[str]] = {}
+    for p in checks:
+        if p.code:
+            by_code.setdefault(p.code, []).append(p.parameter)
+    # one entry per code, naming the ratings it concerns ("below-original vceo,vcbo")
+    codes = [f"{code} {','.join(params)}" for code, params in by_code.items()]
+    codes += [p.code for p in problems if p.is_flag]
     parts = []
     if under:
         parts.append("UNDER " + ",".join(under))

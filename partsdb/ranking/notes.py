@@ -200,7 +200,7 @@ def case_rating_message(dev: dict[str, Any], stress: Stress, free_air: float,
     if mode == "needed":
         need = ("no heat sink needed" if sink_needed is None else
                 "no heat sink is enough" if sink_needed <= 0 else
-                f"needs a heat sink of {sink_needed:.2g} K/W or better")
+                f"needs a heat sink of {sink_limit(sink_needed)} K/W or better")
         return (f"Ptot {fmt(dev['ptot'], 'W')} is a case rating and no heat sink was given: "
                 f"{need} at {fmt(stress.power, 'W')} ({mounting:g} K/W case-to-sink for its "
                 "outline class)")
@@ -211,6 +211,13 @@ def case_rating_message(dev: dict[str, Any], stress: Stress, free_air: float,
             + ("" if outline_key(dev["package"]) in _TABLED_OUTLINES else " (assumed)"))
     return (f"Ptot {fmt(dev['ptot'], 'W')} is a case rating; converted through the "
             f"thermal chain ({sink}) to {fmt(allowed, 'W')} at {stress.ambient:g} °C")
+
+
+def sink_limit(rth: float) -> str:
+    """A largest allowed sink-to-ambient resistance, rounded DOWN to two significant digits
+    (3.95 K/W reads 3.9, never 4: a sink of the rounded value must still keep Tj in limit)."""
+    step = 10.0 ** (math.floor(math.log10(rth)) - 1)
+    return f"{round(math.floor(rth / step + 1e-9) * step, 12):g}"
 
 
 def much_faster(ft: float, of_original: bool = True) -> str:
@@ -233,7 +240,7 @@ def _needed_note(offered: float, stress: Stress, policy: Policy, dev: dict[str, 
     if sink <= 0:
         return (f"dissipation {power} is more than even an ideal heat sink allows at "
                 f"{policy.name}'s Tj limit ({fmt(offered, 'W')})")
-    return (f"dissipation {power}: needs a heat sink of {sink:.2g} K/W or better "
+    return (f"dissipation {power}: needs a heat sink of {sink_limit(sink)} K/W or better "
             f"(sink-to-ambient, at {stress.ambient:g} °C, {policy.name}'s Tj limit; "
             "Rth s-a <= (Tj allowed - Ta)/P - Rth j-c - Rth c-s)")
 

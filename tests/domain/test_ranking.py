@@ -351,3 +351,16 @@ def test_catalog_from_devices_sorts_by_key() -> None:
     assert list(cat.key) == sorted(["QX9", "QX10", "AB1"])
     assert cat.index_of("qx-10") == list(cat.key).index("QX10")
     assert replace(ORIGINAL).key == "QX100"
+
+
+@pytest.mark.parametrize(("rth", "shown"), [
+    # A largest allowed Rth s-a is rounded down: a sink of the shown value must still keep Tj
+    # within the limit (hand check: 25 + 25 W x (1.75 + 0.5 + 4.0) K/W = 181.25 °C > 180 °C,
+    # so 3.95 K/W must not read 4).
+    (3.95, "3.9"), (4.533, "4.5"), (4.2, "4.2"), (12.7, "12"), (0.456, "0.45"), (1.0, "1"),
+])
+def test_a_sink_limit_is_rounded_towards_safety(rth: float, shown: str) -> None:
+    from partsdb.ranking.notes import sink_limit
+
+    assert sink_limit(rth) == shown
+    assert float(shown) <= rth
