@@ -364,3 +364,14 @@ def test_a_sink_limit_is_rounded_towards_safety(rth: float, shown: str) -> None:
 
     assert sink_limit(rth) == shown
     assert float(shown) <= rth
+
+
+def test_a_policy_without_margin_scores_headroom_on_the_plain_curve() -> None:
+    """A factor of 1.0 (derate nothing) has no policy limit between the rating and twice it:
+    the stressed curve must be the plain one there, not a curve with a zero-width step."""
+    import numpy as np
+
+    from partsdb.ranking.checks import headroom_score_plain, headroom_score_stressed
+
+    h = np.array([0.0, 0.5, 1.0, 1.5, 2.0, 4.0])
+    assert np.allclose(headroom_score_stressed(h, 1.0), headroom_score_plain(h))
