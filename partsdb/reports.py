@@ -97,8 +97,10 @@ def key_flags(candidate: Candidate) -> str:
     for p in checks:
         if p.code:
             by_code.setdefault(p.code, []).append(p.parameter)
-    # one entry per code, naming the ratings it concerns ("below-original vceo,vcbo")
-    codes = [f"{code} {','.join(params)}" for code, params in by_code.items()]
+    # one entry per code; a code that can concern several ratings names them
+    # ("below-original vceo,vcbo"); a fit's code names its own (re-form-leads: the pinout)
+    codes = [code if params in (["pinout"], ["package"], ["material"]) else
+             f"{code} {','.join(params)}" for code, params in by_code.items()]
     codes += [p.code for p in problems if p.is_flag]
     parts = []
     if under:
