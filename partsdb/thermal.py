@@ -43,7 +43,7 @@ FREE_AIR_CASE_TO_AMBIENT: dict[str, float] = {
 DEFAULT_FREE_AIR_CASE_TO_AMBIENT = 60.0
 
 # Mounting (case-to-sink) resistance by outline class, K/W, insulated with a mica washer and
-# grease (common practice; /work/shared/DOMAIN.md "Heat sinks": 0.3-0.6 K/W for a TO-3 with
+# grease (common practice; 0.3-0.6 K/W for a TO-3 with
 # mica and grease, 0.5-1.5 K/W for TO-220 / TO-126 depending on washer and grease). The one
 # table of these figures; an outline not listed takes the plastic-tab figure.
 MOUNTING_CLASSES: dict[str, tuple[float, tuple[str, ...]]] = {

@@ -189,14 +189,14 @@ def export_devices(state: CliState, file: str, force: bool) -> None:
     """Export every device record to FILE (`-`: standard output). FILE appears only when
     complete; an existing FILE or a file of the open database is refused (--force replaces an
     existing FILE, never the database)."""
-    from partsdb.services import exchange
+    from partsdb.services import export
     from partsdb.services.files import atomic_open, protected_files
 
     db = state.database()
     with busy(state, "exporting devices"), atomic_open(
             file, force=force, protect=protected_files(db), what="export devices") as handle, \
             db.session() as session:
-        n = exchange.export_devices(session, handle)
+        n = export.export_devices(session, handle)
     click.echo(f"exported {n} device(s) to {'standard output' if file == '-' else file}",
                err=file == "-")
 
@@ -207,14 +207,14 @@ def export_devices(state: CliState, file: str, force: bool) -> None:
 @pass_state
 def export_stock(state: CliState, file: str, force: bool) -> None:
     """Export every lot to FILE (`-`: standard output); written like `export devices`."""
-    from partsdb.services import exchange
+    from partsdb.services import export
     from partsdb.services.files import atomic_open, protected_files
 
     db = state.database()
     with busy(state, "exporting lots"), atomic_open(
             file, force=force, protect=protected_files(db), what="export stock") as handle, \
             db.session() as session:
-        n = exchange.export_stock(session, handle)
+        n = export.export_stock(session, handle)
     click.echo(f"exported {n} lot(s) to {'standard output' if file == '-' else file}",
                err=file == "-")
 

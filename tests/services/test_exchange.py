@@ -10,8 +10,9 @@ import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
-from partsdb.services import catalog, exchange, stock
-from partsdb.services.exchange import ImportRejected, neutralise
+from partsdb.services import catalog, exchange, export, stock
+from partsdb.services.exchange import ImportRejected
+from partsdb.services.export import neutralise
 
 HEADER = "designation,kind,polarity,material,vceo,vcbo,ic_max,ptot,ptot_ref,hfe_min,hfe_max,ft,notes\n"
 GOOD_ROWS = [
@@ -157,8 +158,8 @@ def test_export_escapes_text_keeps_numbers_and_round_trips(empty_db, tmp_path: P
         exchange.import_stock(session, lots)
     out = tmp_path / "out.csv"
     with empty_db.session() as session:
-        exchange.export_devices(session, out)
-        exchange.export_stock(session, tmp_path / "lots.csv")
+        export.export_devices(session, out)
+        export.export_stock(session, tmp_path / "lots.csv")
     with out.open(newline="") as fh:
         record = next(csv.DictReader(fh))
     assert record["notes"].startswith("'=")
@@ -186,7 +187,7 @@ def test_round_trip_property(tmp_path_factory, vceo: float, hfe: int, notes: str
         catalog.add_device(session, {"designation": "QZ1", "kind": "bjt", "polarity": "npn",
                                      "material": "si", "vceo": vceo, "hfe_min": hfe,
                                      "notes": notes})
-        exchange.export_devices(session, folder / "x.csv")
+        export.export_devices(session, folder / "x.csv")
     other = open_database(folder / "b.sqlite", notify=None)
     with other.session() as session:
         exchange.import_devices(session, folder / "x.csv")

@@ -17,7 +17,7 @@ from partsdb.csvsafe import guard, unguard
 from partsdb.designations import normalize
 from partsdb.device import InvalidRecord
 from partsdb.limits import MAX_LOT, MAX_MOVEMENT
-from partsdb.services import catalog, exchange, stock
+from partsdb.services import catalog, exchange, export, stock
 from partsdb.services.stock import StockError
 from partsdb.storage.database import open_database
 from partsdb.storage.models import LotRow
@@ -225,7 +225,7 @@ def test_a_note_round_trips_through_stock_export_and_import(text: str) -> None:
             _device(session)
             stock.receive(session, "QA1", 2, "C1/D01", note=text or None)
             session.execute(update(LotRow).values(note=text or None))
-            exchange.export_stock(session, Path(folder) / "s.csv")
+            export.export_stock(session, Path(folder) / "s.csv")
         b = open_database(Path(folder) / "b.sqlite", notify=None)
         with b.session() as session:
             _device(session)
@@ -239,7 +239,7 @@ def test_the_emitter_note_round_trips(empty_db: Any, tmp_path: Path) -> None:
     note = "'-' marks the emitter"
     with empty_db.session() as session:
         _device(session, notes=note)
-        exchange.export_devices(session, tmp_path / "d.csv")
+        export.export_devices(session, tmp_path / "d.csv")
     assert "''-' marks the emitter" in (tmp_path / "d.csv").read_text()
     with empty_db.session() as session:
         report = exchange.import_devices(session, tmp_path / "d.csv")
