@@ -144,55 +144,86 @@ def read_kit(path: str | Path) -> list[KitLine]:
     return lines
 
 
-def plan_kit(db: Database, lines: list[KitLine]) -> KitPlan:
-    """What to take for each line (see the module notes); reads only."""
-    from partsdb.services import catalog, stock
-    from partsdb.services.substitution import rank_substitutes
+class _Drawers:
+    """What the drawers hold, less what lines already planned take: one running reservation
+    per lot, keyed by (part key, location, condition)."""
 
-    reserved: dict[tuple[str, str, str], int] = defaultdict(int)
-    """(part key, location, condition) -> parts already planned from that lot."""
+    def __init__(self, session: Any) -> None:
+        self.session = session
+        self.reserved: dict[tuple[str, str, str], int] = defaultdict(int)
 
-    def available(session: Any, designation: str) -> list[tuple[str, str, int]]:
+    def hold(self, part: str, picks: list[tuple[str, str, int]]) -> None:
+        """Count ``picks`` of ``part`` as taken (a line planned already)."""
+        for location, condition, qty in picks:
+            self.reserved[(normalize(part), location, condition)] += qty
+
+    def available(self, designation: str) -> list[tuple[str, str, int]]:
+        """(location, condition, parts left) of every lot of ``designation``."""
+        from partsdb.services import stock
+
         key = normalize(designation)
-        return [(lot.location, lot.condition, lot.quantity - reserved[(key, lot.location,
-                                                                        lot.condition)])
-                for lot in stock.where(session, designation)]
+        return [(lot.location, lot.condition,
+                 lot.quantity - self.reserved[(key, lot.location, lot.condition)])
+                for lot in stock.where(self.session, designation)]
 
-    def reserve(session: Any, designation: str, qty: int) -> list[tuple[str, str, int]] | None:
-        lots = [lot for lot in available(session, designation) if lot[2] > 0]
+    def left(self, designation: str) -> int:
+        return sum(max(0, n) for _loc, _cond, n in self.available(designation))
+
+    def reserve(self, designation: str, qty: int) -> list[tuple[str, str, int]] | None:
+        """Picks for ``qty`` parts, largest lot first (fewest drawers to open), or None when
+        the drawers no longer hold enough."""
+        lots = [lot for lot in self.available(designation) if lot[2] > 0]
         if sum(lot[2] for lot in lots) < qty:
             return None
         picks, left = [], qty
         for location, condition, have in sorted(lots, key=lambda t: (-t[2], t[0])):
             n = min(have, left)
             picks.append((location, condition, n))
-            reserved[(normalize(designation), location, condition)] += n
             left -= n
             if left == 0:
                 break
+        self.hold(designation, picks)
         return picks
 
+
+def _device(session: Any, line: KitLine) -> Any:
+    from partsdb.services import catalog
+
+    device = catalog.get_device(session, line.designation)
+    if device is None:
+        hint = catalog.did_you_mean(session, line.designation)
+        raise catalog.NotFound(f"kit line {line.row}: designation {line.designation!r} is not "
+                               f"a stored device{hint}")
+    return device
+
+
+def _fits(session: Any, line: KitLine, designation: str, limit: int = 100_000) -> list[Any]:
+    """The line's ranked candidates that a kit takes (:data:`FIT`), best first."""
+    from partsdb.services.substitution import rank_substitutes
+
+    try:
+        result = rank_substitutes(session, designation, {}, line.stress, line.policy,
+                                  limit=limit)
+    except SpecError as err:
+        raise KitError(f"kit line {line.row}: {err}") from err
+    return [c for c in result.candidates if c.verdict in FIT]
+
+
+def plan_kit(db: Database, lines: list[KitLine]) -> KitPlan:
+    """What to take for each line (see the module notes); reads only."""
     planned: list[PlannedLine] = []
     with db.session() as session:
+        drawers = _Drawers(session)
         for line in lines:
-            device = catalog.get_device(session, line.designation)
-            if device is None:
-                hint = catalog.did_you_mean(session, line.designation)
-                raise catalog.NotFound(f"kit line {line.row}: designation "
-                                       f"{line.designation!r} is not a stored device{hint}")
-            picks = reserve(session, device.designation, line.quantity)
+            device = _device(session, line)
+            picks = drawers.reserve(device.designation, line.quantity)
             if picks is not None:
                 planned.append(PlannedLine(line, "stock", device.designation, None, picks))
                 continue
-            try:
-                result = rank_substitutes(session, device.designation, {}, line.stress,
-                                          line.policy, limit=100_000)
-            except SpecError as err:
-                raise KitError(f"kit line {line.row}: {err}") from err
-            fits = [c for c in result.candidates if c.verdict in FIT]
+            fits = _fits(session, line, device.designation)
             chosen = None
             for cand in fits:
-                picks = reserve(session, cand.designation, line.quantity)
+                picks = drawers.reserve(cand.designation, line.quantity)
                 if picks is not None:
                     chosen = PlannedLine(line, "substitute", cand.designation, cand.verdict,
                                          picks)
@@ -203,6 +234,96 @@ def plan_kit(db: Database, lines: list[KitLine]) -> KitPlan:
                                      device.designation, best.verdict if best else None)
             planned.append(chosen)
     return KitPlan(planned)
+
+
+# ---------------------------------------------------------------- switching a line
+
+@dataclass(frozen=True)
+class LineOption:
+    """A part one kit line may be switched to: the original, or a ranked candidate."""
+
+    designation: str
+    verdict: str | None
+    """None for the original itself; else the candidate's verdict (suitable or marginal)."""
+    score: float | None
+    left: int
+    """Parts of it the drawers hold once every OTHER line of the plan has taken its picks."""
+    needed: int
+    """The line's quantity."""
+    current: bool
+    """The part the line uses now."""
+
+    @property
+    def enough(self) -> bool:
+        return self.left >= self.needed
+
+
+def _others_held(session: Any, plan: KitPlan, index: int) -> _Drawers:
+    drawers = _Drawers(session)
+    for i, other in enumerate(plan.lines):
+        if i != index:
+            drawers.hold(other.part, other.picks)
+    return drawers
+
+
+def _line_at(plan: KitPlan, index: int) -> PlannedLine:
+    if not 0 <= index < len(plan.lines):
+        raise KitError(f"kit line: number {index + 1} is not valid; expected 1 to "
+                       f"{len(plan.lines)}")
+    return plan.lines[index]
+
+
+def line_options(db: Database, plan: KitPlan, index: int, limit: int = 30) -> list[LineOption]:
+    """The parts line ``index`` (0-based) may use: its original first, then its ranked
+    ``suitable`` and ``marginal`` substitutes (at most ``limit``), each with what the drawers
+    still hold of it after the plan's other lines (lines sharing a part are counted together).
+    Reads only."""
+    planned = _line_at(plan, index)
+    line = planned.line
+    with db.session() as session:
+        device = _device(session, line)
+        drawers = _others_held(session, plan, index)
+        current = normalize(planned.part)
+        out = [LineOption(device.designation, None, None, drawers.left(device.designation),
+                          line.quantity, current == normalize(device.designation))]
+        for cand in _fits(session, line, device.designation, limit):
+            out.append(LineOption(cand.designation, cand.verdict, float(cand.score),
+                                  drawers.left(cand.designation), line.quantity,
+                                  current == cand.key))
+    return out
+
+
+def switch_line(db: Database, plan: KitPlan, index: int, part: str) -> KitPlan:
+    """The plan with line ``index`` (0-based) switched to ``part``: the original itself, or
+    one of its :func:`line_options`. The drawers are counted again across every line, so a
+    substitute two lines share is never promised twice; when they no longer hold enough the
+    switch is refused (KitError naming the part, what the line needs and what is left).
+    The other lines keep their picks. Reads only; returns a new plan."""
+    planned = _line_at(plan, index)
+    line = planned.line
+    key = normalize(part)
+    with db.session() as session:
+        device = _device(session, line)
+        if key == normalize(device.designation):
+            name, action, verdict = device.designation, "stock", None
+        else:
+            options = {c.key: c for c in _fits(session, line, device.designation)}
+            cand = options.get(key)
+            if cand is None:
+                raise KitError(f"kit line {line.row} ({line.reference}): part {part!r} is not "
+                               f"a suitable or marginal substitute for {device.designation}; "
+                               "expected the original or one of the line's candidates")
+            name, action, verdict = cand.designation, "substitute", cand.verdict
+        drawers = _others_held(session, plan, index)
+        left = drawers.left(name)
+        picks = drawers.reserve(name, line.quantity)
+    if picks is None:
+        raise KitError(f"kit line {line.row} ({line.reference}): the drawers hold {left} "
+                       f"{name} once the other lines have theirs; the line needs "
+                       f"{line.quantity} (nothing was changed)")
+    lines = list(plan.lines)
+    lines[index] = PlannedLine(line, action, name, verdict, picks)
+    return KitPlan(lines)
 
 
 def take_kit(db: Database, plan: KitPlan, job: str) -> int:

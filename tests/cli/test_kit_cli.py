@@ -1,8 +1,8 @@
-"""``partsdb kit FILE``: a five-line kit on each backend, the pick list, and taking it whole.
+"""``partsdb kit FILE``: a five-line kit on each backend, the pick list, taking it whole, and
+the kit sheet (Markdown, and PDF read back with pypdf and rendered with poppler's pdftoppm).
 
-Checked through the library (stock.where, swaplog.list_swaps). The verdicts follow the
-workshop policy: a circuit stress above 80 % of a rating is not ``suitable`` and above the
-rating ``under-rated`` (common practice; a bench rule, not a published standard).
+Checked through the library (stock.where, swaplog.list_swaps). The shop and the kit file are
+in tests/kit_shop.py (verdicts by the workshop policy's 80 %, common practice).
 """
 
 from __future__ import annotations
@@ -13,59 +13,25 @@ from typing import Any
 
 import pytest
 
-from partsdb.services import catalog, kit, stock, swaplog
-from partsdb.services.substitution import clear_cache
+from partsdb.services import kit, stock, swaplog
 from partsdb.storage.database import open_database
-
-
-def _part(name: str, **kw: Any) -> dict[str, Any]:
-    base = {"designation": name, "kind": "bjt", "polarity": "pnp", "material": "ge",
-            "vceo": "32V", "vcbo": "40V", "ic_max": "150mA", "ptot": "200mW",
-            "ptot_ref": "ambient", "tj_max": "90", "hfe_min": "50", "hfe_max": "150",
-            "ft": "2MHz", "package": "TO-1", "pinout": "EBC"}
-    base.update(kw)
-    return base
-
-
-KIT = """Ref,Designation,Qty,Vce peak,Policy
-Q1,QK10,2,,
-Q2,QK20,1,25V,
-Q3,QK10,1,,
-Q4,QK20,2,25V,workshop
-Q5,QK30,1,,
-"""
-"""QK10: three in the drawers for Q1 and Q3 together. QK20: none in stock; QK22 (Vceo 20 V,
-under-rated at 25 V) is in stock but must not be taken; QK23 (60 V) holds exactly the three
-that Q2 and Q4 need together. QK30: in stock."""
+from tests.kit_shop import KIT, fill_kit_shop, held, write_kit
 
 
 @pytest.fixture
 def shop(db_url: str) -> Any:
     db = open_database(db_url, notify=None)
-    with db.session() as session:
-        for part in (_part("QK10"), _part("QK20", obsolete="yes"), _part("QK22", vceo="20V"),
-                     _part("QK23", vceo="60V", vcbo="80V"), _part("QK30", polarity="npn")):
-            catalog.add_device(session, part)
-        stock.receive(session, "QK10", 2, "C1/D02")
-        stock.receive(session, "QK10", 1, "C1/D01")
-        stock.receive(session, "QK22", 9, "C2/D01")
-        stock.receive(session, "QK23", 3, "C2/D05")
-        stock.receive(session, "QK30", 4, "C3/D01")
-    clear_cache()
+    fill_kit_shop(db)
     yield db
     db.dispose()
 
 
 def _kit_file(tmp_path: Path, text: str = KIT) -> str:
-    path = tmp_path / "unit.csv"
-    path.write_text(text)
-    return str(path)
+    return str(write_kit(tmp_path, text))
 
 
 def _held(db: Any) -> dict[tuple[str, str], int]:
-    with db.session() as session:
-        return {(lot.designation, lot.location): lot.quantity
-                for name in ("QK10", "QK22", "QK23", "QK30") for lot in stock.where(session, name)}
+    return held(db)
 
 
 def test_five_lines_give_a_pick_list_sorted_by_drawer(run, shop: Any, tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
