@@ -112,7 +112,7 @@ def render_markdown(sheet: KitSheet) -> str:
     else:
         out.append("Nothing to take from the drawers.")
     if sheet.to_buy:
-        out += ["", _md(sheet.buy_text())]
+        out += ["", "## To buy", "", _md(sheet.buy_text())]
     out += ["", "## Cautions", ""] + [f"- {_md(c)}" for c in sheet.cautions]
     out += ["", "## Sign-off", ""] + [f"- {name}: {BLANK}" for name in SIGN_FIELDS]
     return "\n".join(out) + "\n"

@@ -152,7 +152,7 @@ def render_pdf(sheet: KitSheet) -> bytes:
     else:
         para("Nothing to take from the drawers.")
     if sheet.to_buy:
-        pdf.ln(1)
+        heading("To buy")
         para(sheet.buy_text(), 9)
     heading("Cautions")
     for caution in sheet.cautions:
