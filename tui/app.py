@@ -23,6 +23,7 @@ from tui.catalog_data import SharedIndex
 from tui.devices import DevicesView
 from tui.drawers import DrawersView
 from tui.help import HelpScreen
+from tui.jobs import JobsView
 from tui.ledger import LedgerView
 from tui.substitute import SubstituteView
 from tui.swaplog import SwapLogView
@@ -40,6 +41,7 @@ VIEWS: tuple[tuple[str, str, str], ...] = (
     ("bench", "f5", "Bench"),
     ("ledger", "f6", "Ledger"),
     ("swaps", "f7", "Swaps"),
+    ("jobs", "f8", "Jobs"),
 )
 
 
@@ -105,6 +107,7 @@ class PartsdbApp(App[None]):
             yield BenchView(self.db, id="bench")
             yield LedgerView(self.db, id="ledger")
             yield SwapLogView(self.db, id="swaps")
+            yield JobsView(self.db, id="jobs")
         yield ViewBar(id="view-bar")
         yield Footer(compact=True)
 
@@ -233,7 +236,7 @@ class PartsdbApp(App[None]):
             view.load()
         focus = {"drawers": "#lots-table", "devices": "#dev-search", "substitute": "#sub-query",
                  "bench": "#bn-original", "ledger": "#lg-device",
-                 "swaps": "#swaps-table"}.get(ident)
+                 "swaps": "#swaps-table", "jobs": ".jb-focus"}.get(ident)
         targets = view.query(focus) if focus else None
         # Focus now, not through focus() (which defers it to a later message): a key typed
         # right after F3/F4 may already be queued behind this one, and must reach the new

@@ -16,8 +16,8 @@ from textual.widgets import Static
 from partsdb.cautions import SAFETY_CAUTIONS
 
 KEYS: tuple[tuple[str, str, str], ...] = (
-    ("Anywhere", "F2 / F3 / F4 / F5 / F6 / F7",
-     "Drawers / Devices / Substitute / Bench / Ledger / Swaps"),
+    ("Anywhere", "F2 to F8",
+     "Drawers / Devices / Substitute / Bench / Ledger / Swaps / Jobs"),
     ("Anywhere", "F1 or ?", "this help (Esc closes it)"),
     ("Anywhere", "ctrl+p", "command palette: every main action by name"),
     ("Anywhere", "tab / shift+tab", "next / previous field"),
@@ -33,11 +33,15 @@ KEYS: tuple[tuple[str, str, str], ...] = (
     ("Devices", "s", "find substitutes for the selected device"),
     ("Substitute", "enter", "rank substitutes for the original typed in the search field"),
     ("Substitute", "t / w / o", "take one of the selected candidate / record the swap / save the report"),
+    ("Substitute", "j", "write the job sheet of the original and the selected candidate"),
     ("Bench", "enter or ctrl+r", "solve the stage for both transistors"),
     ("Bench", "ctrl+s", "write the job sheet of the solved pair with this stage (.pdf/.html/.md)"),
     ("Ledger", "type in a filter", "device, place, job, from/to date (YYYY-MM-DD)"),
     ("Swaps", "type in a filter", "original, substitute, job, outcome, from/to date"),
     ("Swaps", "o", "set the outcome and note of the highlighted swap (! = audit finding)"),
+    ("Jobs", "enter", "open the kit file typed (CSV, as partsdb kit reads it)"),
+    ("Jobs", "c", "switch the highlighted line to another part (drawers counted across lines)"),
+    ("Jobs", "t / s", "take the whole kit for a job (all or nothing) / write the kit sheet"),
     ("Forms", "enter or ctrl+s / esc", "save / cancel; nothing is written until every field is valid"),
 )
 

@@ -1,7 +1,9 @@
-"""A small form that writes the job sheet of the pair in the stage calculator.
+"""A small form that writes the job sheet of one original and the substitute chosen for it.
 
-The job sheet comes from :mod:`partsdb.services.jobsheet` (the same service as ``partsdb
-substitute --pick``), with the stage as solved in the calculator; the file goes through the
+Opened from the stage calculator (with the stage as solved there) and from the Substitute view
+(with the circuit stress and policy the candidates were ranked under, no stage). The job sheet
+comes from :mod:`partsdb.services.jobsheet` (the same service as ``partsdb substitute
+--pick``); the file goes through the
 one file writer (an existing file is refused; the format follows the name: .pdf, .html, .md).
 The absolute path written is shown.
 """
@@ -29,13 +31,17 @@ class JobSheetForm(ModalScreen[str | None]):
 
     BINDINGS: ClassVar[list[BindingType]] = [Binding("escape", "cancel", "Cancel")]
 
-    def __init__(self, db: Database, original: str, substitute: str, stage: Any) -> None:
+    def __init__(self, db: Database, original: str, substitute: str, stage: Any = None, *,
+                 stress: Any = None, policy: str | None = None) -> None:
         super().__init__()
         self.db = db
         self.original = original
         self.substitute = substitute
         self.stage = stage
-        """A :class:`partsdb.services.jobsheet.StageSpec` (the calculator's stage)."""
+        """A :class:`partsdb.services.jobsheet.StageSpec` (the calculator's stage), or None."""
+        self.stress = stress
+        """The circuit stress the pair is judged under (None: the original's ratings)."""
+        self.policy = policy
 
     def compose(self) -> ComposeResult:
         with Vertical(id="form-box", classes="form jobsheet-form"):
@@ -67,7 +73,8 @@ class JobSheetForm(ModalScreen[str | None]):
         message = self.query_one("#form-message", Static)
         try:
             sheet = jobsheet.make_job_sheet(self.db, self.original, self.substitute, job=job,
-                                            stage=self.stage)
+                                            stage=self.stage, stress=self.stress,
+                                            policy=self.policy)
             written = jobsheet.write_job_sheet(sheet, Path(name),
                                                protect=protected_files(self.db))
         except (PartsdbError, ValueError) as err:

@@ -4,8 +4,8 @@ The original is chosen by (fuzzy) designation, optionally with a spec override l
 circuit stress and policy; the ranking itself is done by ``partsdb.services.substitution``.
 The selected candidate is shown beside the requirement parameter by parameter, each ratio as
 a small bar with its status word, its flags, the lead drawing when the lead order differs, and
-the safety caution, always. Actions: take one from its drawer, record the swap, save the report,
-open the stage on the Bench.
+the safety caution, always. Actions: take one from its drawer, record the swap, write the job
+sheet of the pair, save the report, open the stage on the Bench.
 """
 
 from __future__ import annotations
@@ -124,6 +124,7 @@ class SubstituteView(Vertical):
     BINDINGS: ClassVar[list[BindingType]] = [
         Binding("t", "take_one", "Take one"),
         Binding("w", "record_swap", "Log swap"),
+        Binding("j", "job_sheet", "Job sheet"),
         Binding("o", "save_report", "Report"),
         Binding("b", "to_bench", "Bench"),
         Binding("down", "focus_list", "List", show=False),
@@ -359,6 +360,25 @@ class SubstituteView(Vertical):
         self.app.push_screen(PromptForm(f"Record the swap {self.original} -> {c.designation}",
                                         [("job", "Job ref.", ""), ("note", "Note", "")], check),
                              lambda v: v and self.notify("Swap recorded in the swap log."))
+
+    def action_job_sheet(self) -> None:
+        """The job sheet of the original and the selected candidate, judged under the stress
+        and policy they were ranked with; the absolute path written is shown."""
+        from tui.jobsheet_form import JobSheetForm
+
+        c = self.selected()
+        if c is None or self.original is None:
+            self.notify("Rank substitutes for a stored original first.", severity="warning")
+            return
+
+        def done(path: str | None) -> None:
+            if path:
+                self._status(Text(f"Job sheet written to {path}", style="green"))
+                self.notify(f"Job sheet written to {path}")
+
+        self.app.push_screen(JobSheetForm(self.db, self.original, c.designation,
+                                          stress=self.result.stress,
+                                          policy=self.result.policy.name), done)
 
     def action_save_report(self) -> None:
         if self.result is None:
