@@ -76,12 +76,16 @@ def test_take_takes_every_part_in_one_go_and_logs_the_swaps(run, shop: Any, tmp_
 
 def test_take_refuses_as_a_whole_when_one_line_cannot_be_met(run, shop: Any,
                                                               tmp_path: Path) -> None:  # type: ignore[no-untyped-def]
-    before = _held(shop)
+    from tests.storage.workers import dump
+
+    before, everything = _held(shop), dump(shop)
+    # Q4 needs 3: QK23 holds 3 - 1 (Q2) = 2, QK10 3 - 2 (Q1) - 1 (Q3) = 0, QK24 2: to buy.
     short = KIT.replace("Q4,QK20,2,25V,workshop", "Q4,QK20,3,25V,workshop")
     result = run("kit", _kit_file(tmp_path, short), "--take", "--job", "J-78")
     assert result.exit_code == 2
     assert "Q4 (QK20)" in result.output and "nothing was taken" in result.output
     assert _held(shop) == before
+    assert dump(shop) == everything  # every row of every table (ledger, swaps) as it was
     with shop.session() as session:
         assert swaplog.list_swaps(session) == []
 
