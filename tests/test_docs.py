@@ -93,3 +93,16 @@ def test_docs_are_linked_from_the_readme_and_their_links_resolve() -> None:
         for target in re.findall(r"\]\(([^)#]+)\)", page.read_text(encoding="utf-8")):
             if "://" not in target:
                 assert (page.parent / target).exists(), (page.name, target)
+
+
+def test_readme_csv_examples_match_their_files_in_docs_examples() -> None:
+    """A ```csv NAME block of the README that also ships as docs/examples/NAME (for the Jobs
+    view to open from a checkout) is the same text, so the two cannot drift apart."""
+    import re
+
+    readme = (ROOT / "README.md").read_text(encoding="utf-8")
+    blocks = dict(re.findall(r"^```csv (\S+)\n(.*?)^```", readme, flags=re.S | re.M))
+    shipped = [name for name in blocks if (ROOT / "docs" / "examples" / name).exists()]
+    assert "unit-kit.csv" in shipped
+    for name in shipped:
+        assert (ROOT / "docs" / "examples" / name).read_text(encoding="utf-8") == blocks[name]
