@@ -418,7 +418,15 @@ def rank_substitutes(target: Session | Database, designation: str | None = None,
     pol = policy if isinstance(policy, Policy) else load_policy(policy)
     w = weights or load_weights()
     with _session_of(target) as session:
+        from partsdb.services import fet_substitution as fets
+
+        original = catalog_service.get_device(session, designation) if designation else None
+        if original is not None and fets.is_fet(original):
+            return fets.rank_fet_substitutes(session, original, spec or {}, stress or Stress(),
+                                             pol, w, limit=limit, in_stock_only=in_stock_only,
+                                             show_rejected=show_rejected)
         requirement = build_requirement(session, designation, spec)
+        fets.check_stress_family(requirement.kind, stress or Stress(), designation)
         considered: int | None = None
         if show_rejected:
             cat = load_catalog(session)

@@ -245,7 +245,7 @@ def alembic_config(connection: Any) -> Any:
     return config
 
 
-SCHEMA_HEAD = "0006"
+SCHEMA_HEAD = "0007"
 """The newest migration revision. Opening a database compares its ``alembic_version`` with
 this by plain SQL, so Alembic (about 0.2 s to import) loads only when an upgrade is due; a test
 checks that it equals Alembic's own head."""

@@ -170,6 +170,11 @@ class SwapRow(Base):
     ambient: Mapped[float | None] = mapped_column(Float)
     freq: Mapped[float | None] = mapped_column(Float)
     heatsink: Mapped[float | None] = mapped_column(Float)
+    vds_peak: Mapped[float | None] = mapped_column(Float)
+    id_peak: Mapped[float | None] = mapped_column(Float)
+    drive: Mapped[float | None] = mapped_column(Float)
+    fsw: Mapped[float | None] = mapped_column(Float)
+    gate_current: Mapped[float | None] = mapped_column(Float)
     policy: Mapped[str | None] = mapped_column(String(64))
     note: Mapped[str | None] = mapped_column(Text)
 

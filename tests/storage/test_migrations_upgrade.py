@@ -18,6 +18,7 @@ from sqlalchemy import insert, inspect, select, text
 from partsdb.cli import main
 from partsdb.services import corrections, stock
 from partsdb.storage.database import (
+    SCHEMA_HEAD,
     ReadOnlyError,
     SchemaMismatch,
     current_revision,
@@ -65,9 +66,11 @@ def _old_database(url: str) -> dict[str, list[tuple[object, ...]]]:
     return old_rows
 
 
-ADDED_LATER = {"key", "label", "reorder_to", "undoes", "veb_peak"}
+ADDED_LATER = {"key", "label", "reorder_to", "undoes", "veb_peak", "vds_peak", "id_peak", "drive",
+               "fsw", "gate_current"}
 """Columns added after revision 0001 (locations.key, 0004; locations.label, devices.reorder_to,
-movements.undoes, 0005; swaps.veb_peak, 0006): not there to fill or read."""
+movements.undoes, 0005; swaps.veb_peak, 0006; the swaps' field-effect stresses, 0007): not
+there to fill or read."""
 
 
 def _without_later_columns(name: str, rows: list[tuple[object, ...]]) -> list[tuple[object, ...]]:
@@ -256,11 +259,41 @@ def test_swap_veb_peak_upgrade_keeps_the_recorded_swaps(db_url: str) -> None:
     upgrade(engine)  # explicit, as `partsdb upgrade` does (a shared PostgreSQL database)
     engine.dispose()
     db = open_database(db_url, upgrade_schema=True, notify=None)
-    assert current_revision(db.engine) == "0006"
+    assert current_revision(db.engine) == SCHEMA_HEAD
     with db.session() as session:
         (view,) = swaplog.list_swaps(session)
         assert (view.original, view.substitute, view.job, view.outcome, view.note) == (
             "ZT300", "ZT303", "J-7", "worked", "old row")
         assert (view.stress.vce_peak, view.stress.ic_peak, view.stress.ambient,
                 view.stress.heatsink, view.stress.veb_peak) == (18.0, 0.05, 40.0, 2.5, None)
+    db.dispose()
+
+
+def test_swap_fet_stress_upgrade_keeps_the_recorded_swaps(db_url: str) -> None:
+    """0006 -> 0007: the swap log gains the field-effect stresses; a swap recorded before keeps
+    every value and reads back with none of them given."""
+    from partsdb.services import swaplog
+
+    engine = make_engine(resolve_url(db_url))
+    upgrade(engine, "0006")
+    t = Base.metadata.tables
+    with engine.begin() as conn:
+        conn.execute(insert(t["devices"]).values(
+            designation="ZT303", key="ZT303", kind="bjt", polarity="npn", material="si",
+            obsolete=False, updated_at=AT))
+        conn.execute(text(
+            "INSERT INTO swaps (at, original, original_key, substitute, substitute_key, job, "
+            "outcome, vce_peak, veb_peak, ic_peak, power, ambient, freq, heatsink, policy, note) "
+            "VALUES (:at, 'ZT300', 'ZT300', 'ZT303', 'ZT303', 'J-8', 'failed', 18.0, 5.0, 0.05, "
+            "NULL, 40.0, NULL, 2.5, 'workshop', 'old row')"), {"at": AT})
+    upgrade(engine, "0007")
+    engine.dispose()
+    db = open_database(db_url, upgrade_schema=True, notify=None)
+    with db.session() as session:
+        (view,) = swaplog.list_swaps(session)
+        assert (view.job, view.outcome, view.note) == ("J-8", "failed", "old row")
+        s = view.stress
+        assert (s.vce_peak, s.veb_peak, s.ic_peak, s.ambient, s.heatsink) == (
+            18.0, 5.0, 0.05, 40.0, 2.5)
+        assert (s.vds_peak, s.id_peak, s.drive, s.fsw, s.gate_current) == (None,) * 5
     db.dispose()
