@@ -167,6 +167,14 @@ FET_KINDS: tuple[str, ...] = ("mosfet", "jfet")
 """Device kinds that are field-effect transistors (their stresses are the ``fet`` rows)."""
 
 
+FET_REQUIREMENT_NAMES: tuple[str, ...] = (
+    "kind", "polarity", "mode", "vds", "vgs_max", "id_max", "ptot", "ptot_ref", "tj_max",
+    "rth_jc", "rds_on", "rds_on_vgs", "vgs_th_max", "qg", "body_diode", "trr", "idss_min",
+    "idss_max", "vgs_off_min", "vgs_off_max", "yfs", "ciss", "package", "pinout")
+"""The device fields of a field-effect original shown as its requirement (label and unit from
+``device.FIELDS``); a FET original's stored record is its requirement."""
+
+
 def stresses_for(kind: str | None) -> tuple[SpecField, ...]:
     """The stress rows that concern an original of this kind (None: every row)."""
     if kind is None:

@@ -515,16 +515,20 @@ async def test_spec_field_starts_empty_with_an_example_hint(shop_db: Any) -> Non
 
 
 async def test_substitute_offers_every_stress_the_cli_offers(shop_db: Any) -> None:
-    """One input per stress row (frequency and heat sink included), read into the ranking."""
+    """One input per bipolar stress row (frequency and heat sink included), read into the
+    ranking; the field-effect rows are hidden for a bipolar original."""
     from partsdb.ranking import Stress
-    from partsdb.spec_fields import STRESS_FIELDS
+    from partsdb.spec_fields import STRESS_FIELDS, stresses_for
 
     app = build_app(shop_db, start="substitute", cursor_blink=False)
     async with app.run_test(size=SIZE) as pilot:
         view = app.view("substitute")
         typed = {"vce_peak": "18V", "veb_peak": "6V", "ic_peak": "50mA", "power": "100mW", "ambient": "40",
                  "freq": "20kHz", "heatsink": "5"}
-        assert set(typed) == {row.name for row in STRESS_FIELDS}
+        assert set(typed) == {row.name for row in stresses_for("bjt")}
+        hidden = {row.name for row in STRESS_FIELDS} - set(typed)
+        assert hidden == {"vds_peak", "id_peak", "drive", "fsw", "gate_current"}
+        assert not any(app.query_one(f"#ss-{name}").display for name in hidden)
         for name, text in typed.items():
             app.query_one(f"#ss-{name}").focus()
             await type_text(pilot, text)
