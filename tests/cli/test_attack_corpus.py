@@ -85,3 +85,17 @@ def test_every_hostile_quantity_is_refused_and_writes_nothing(db_url: str, verb:
         assert "quantity" in result.stderr
         assert dump(db) == before, case["value"]
     db.dispose()
+
+
+def test_every_fet_stress_case_is_refused_in_one_line(db_url: str) -> None:
+    """The field-effect stress options (hostile_fet_stress.json): bad values, and a FET stress
+    for a bipolar original, are refused with exit 2 in one line naming the option; nothing
+    changes."""
+    db = _workshop(db_url)
+    before = dump(db)
+    for case in _load("hostile_fet_stress.json"):
+        result = CliRunner().invoke(main, ["--db", db_url, "substitute", "QA1", *case["args"]])
+        _refused(result, case["exit"], one_line=True, case=" ".join(case["args"]))
+        assert case["words"] in result.stderr, result.stderr
+        assert dump(db) == before, case["args"]
+    db.dispose()
