@@ -36,10 +36,10 @@ from partsdb.device import (
     check_columns,
     normalize_pinout,
     parse_field,
-    settle_columns,
     strip_plus_minus,
 )
 from partsdb.errors import InvalidInput
+from partsdb.kind_rules import settle_columns
 from partsdb.limits import LimitError, check_quantity, text_problem
 from partsdb.services import catalog
 from partsdb.units import UnitError, parse_quantities
