@@ -264,8 +264,15 @@ def _thermal_rows(orig: Any, cand: Any, stress: Stress, policy: Policy, flags: l
     return rows
 
 
+def _threshold(dev: Any) -> float | None:
+    """Vgs(th) max as a magnitude: the larger of the stated ends (the threshold is stored with
+    its sign, so a P-channel part's "max" may be either end)."""
+    ends = [abs(v) for v in (_v(dev, "vgs_th_min"), _v(dev, "vgs_th_max")) if v is not None]
+    return max(ends) if _v(dev, "vgs_th_max") is not None and ends else None
+
+
 def _drive_row(drive: float | None, assumed: bool, cand: Any) -> Row:
-    vgs, th = _v(cand, "rds_on_vgs"), _v(cand, "vgs_th_max")
+    vgs, th = _v(cand, "rds_on_vgs"), _threshold(cand)
     status = overdrive_status(drive, vgs, th)
     shown = (fmt(drive, "V"), fmt(vgs, "V"))
     if drive is None:

@@ -1,8 +1,8 @@
 """Ranking field-effect substitutes: the hard constraints, the score, the verdict, the order.
 
 A candidate must be the original's kind (a MOSFET never for a JFET), channel (``n``/``p``)
-and, for MOSFETs, mode (enhancement or depletion; unknown on either side is accepted with a
-flag). FET groups are small (hundreds in a workshop), so every candidate is checked row by row
+and, for MOSFETs, mode (enhancement or depletion; a blank mode is enhancement, as the record
+rules say). FET groups are small (hundreds in a workshop), so every candidate is checked row by row
 by :mod:`partsdb.ranking.fet_checks` (the reference path; the grouped fast path of
 :mod:`partsdb.ranking.fastpath` covers the bipolar groups only).
 
@@ -79,7 +79,7 @@ class FetRequirement:
     @classmethod
     def from_device(cls, device: Any) -> FetRequirement:
         return cls(kind=device.kind, polarity=device.polarity,
-                   mode=getattr(device, "mode", None) if device.kind == "mosfet" else None,
+                   mode=mode_of(device) if device.kind == "mosfet" else None,
                    original=device, designation=device.designation)
 
     @property
@@ -104,6 +104,11 @@ class FetRequirement:
         return out
 
 
+def mode_of(dev: Any) -> str:
+    """A MOSFET's mode; a blank one is enhancement (the record's rule, ``device.FIELDS``)."""
+    return getattr(dev, "mode", None) or "enhancement"
+
+
 def incompatibility(req: FetRequirement, dev: Any) -> str:
     """Why ``dev`` cannot replace the original ("" when it can)."""
     why = []
@@ -112,20 +117,14 @@ def incompatibility(req: FetRequirement, dev: Any) -> str:
                    + (" (a MOSFET never for a JFET)" if req.kind == "jfet" else ""))
     if dev.polarity != req.polarity:
         why.append(f"channel {dev.polarity}, need {req.polarity}")
-    mode = getattr(dev, "mode", None)
-    if req.kind == "mosfet" and dev.kind == "mosfet" and req.mode and mode and mode != req.mode:
-        why.append(f"mode {mode}, need {req.mode}")
+    if req.kind == "mosfet" and dev.kind == "mosfet" and mode_of(dev) != req.mode:
+        why.append(f"mode {mode_of(dev)}, need {req.mode}")
     return "; ".join(why)
 
 
 def _assess(req: FetRequirement, dev: Any, stress: Stress, policy: Policy) -> Assessment:
     check = mosfet_checks if req.kind == "mosfet" else jfet_checks
-    out = check(req.original, dev, stress, policy)
-    mode = getattr(dev, "mode", None)
-    if req.kind == "mosfet" and (req.mode is None or mode is None):
-        out.flags.append(Flag("mode-unknown", "enhancement or depletion not in both records: "
-                                              "check the datasheet"))
-    return out
+    return check(req.original, dev, stress, policy)
 
 
 def _candidate(req: FetRequirement, dev: Any, a: Assessment, policy: Policy, weights: Weights,

@@ -1,8 +1,8 @@
 """Swap log: the field-effect stresses (``--vds-peak``, ``--id-peak``, ``--drive``, ``--fsw``,
 ``--gate-current``) recorded with a swap.
 
-Revision ID: 0007
-Revises: 0006
+Revision ID: 0008
+Revises: 0007
 Create Date: 2026-12-02
 """
 
@@ -11,8 +11,8 @@ from __future__ import annotations
 import sqlalchemy as sa
 from alembic import op
 
-revision = "0007"
-down_revision = "0006"
+revision = "0008"
+down_revision = "0007"
 branch_labels = None
 depends_on = None
 
