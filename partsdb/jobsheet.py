@@ -152,8 +152,9 @@ def build_sheet(result: RankResult, candidate: Candidate, *, job: str, date: str
     pin = next((c for c in candidate.checks if c.parameter == "pinout"), None)
     if pin is not None and pin.status != "ok":
         need, offered = candidate.shown.get("pinout", ("", ""))
-        if (need and offered and sorted(need) == sorted(offered) == ["B", "C", "E"]
-                and need != offered):
+        # three distinct leads, the same letters (E/B/C, or G/D/S for a FET)
+        if (need and offered and sorted(need) == sorted(offered)
+                and sorted(need) in (["B", "C", "E"], ["D", "G", "S"]) and need != offered):
             leads = (need, offered)
     return JobSheet(job=job, date=date,
                     original=result.requirement.designation or "the specification",
