@@ -46,7 +46,7 @@ def test_a_fet_suffix_is_an_idss_rank_not_an_hfe_rank() -> None:
 def test_pro_electron_and_jedec_say_neither_bipolar_nor_fet(name: str) -> None:
     d = decode(name)
     assert d.polarity is None
-    assert any("bipolar versus FET" in n or "bipolar" in n and "FET" in n for n in d.notes)
+    assert any("bipolar versus FET" in n or ("bipolar" in n and "FET" in n) for n in d.notes)
     for kind, polarity in (("mosfet", "n"), ("jfet", "p"), ("bjt", "npn")):
         found = consistency_warnings(Device(designation=name, kind=kind, polarity=polarity))
         assert not [w for w in found if "entered as" in w or "but entered" in w], found
