@@ -36,7 +36,8 @@ def test_fet_add_show_json_in_si_units(run) -> None:  # type: ignore[no-untyped-
     assert data["body_diode"] is True and data["vceo"] is None
     jfet = json.loads(run("device", "show", "HX-J12", "--format", "json").output)
     assert (jfet["vgs_off_min"], jfet["vgs_off_max"]) == (-0.5, -2.5)
-    assert jfet["idss_max"] == pytest.approx(6.5e-3) and jfet["en"] == pytest.approx(2e-9) and jfet["body_diode"] is None
+    assert jfet["idss_max"] == pytest.approx(6.5e-3) and jfet["en"] == pytest.approx(2e-9)
+    assert jfet["body_diode"] is None
     table = run("device", "show", "HX-J12").output
     assert "N-channel" in table and "Vgs(off) min" in table
 
