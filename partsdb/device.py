@@ -214,6 +214,20 @@ TRUE_WORDS = frozenset({"yes", "y", "true", "t", "1"})
 FALSE_WORDS = frozenset({"no", "n", "false", "f", "0", ""})
 
 
+class NotBipolar(InvalidInput):
+    """A FET record given to something that handles bipolar transistors only (exit 2)."""
+
+    def __init__(self, device: Device, what: str) -> None:
+        super().__init__(f"{device.designation}: not a bipolar part ({device.polarity_text} "
+                         f"{device.kind}); {what} handles bipolar transistors only")
+
+
+def require_bipolar(device: Device, what: str) -> None:
+    """Refuse a FET where only a bipolar transistor makes sense (bias stage, SPICE card)."""
+    if is_fet(device.kind):
+        raise NotBipolar(device, what)
+
+
 class InvalidRecord(InvalidInput):
     """One or more fields of a record are invalid; ``problems`` lists (field, message)."""
 
@@ -316,6 +330,47 @@ class Device:
         if name == "polarity":
             return POLARITY_WORDS.get(value, value)
         return str(value)
+
+
+# The short type word of a list row (NPN, PNP; NMOS, PMOS; NJFET, PJFET): the kind and the
+# channel at a glance; the detail view spells them out.
+_TYPE_WORDS: dict[tuple[str, str], str] = {("mosfet", "n"): "NMOS", ("mosfet", "p"): "PMOS",
+                                           ("jfet", "n"): "NJFET", ("jfet", "p"): "PJFET"}
+
+
+def speed_cell(device: Device) -> str:
+    """The list's last figure: fT of a bipolar part, Qg of a MOSFET, |yfs| of a JFET."""
+    name = {"mosfet": "qg", "jfet": "yfs"}.get(device.kind, "ft")
+    return device.display(name).replace(" ", "")
+
+
+def type_word(device: Device) -> str:
+    """NPN / PNP for a bipolar part, NMOS / PMOS / NJFET / PJFET for a FET."""
+    return _TYPE_WORDS.get((device.kind, device.polarity), device.polarity.upper())
+
+
+def rating_cells(device: Device) -> tuple[str, str, str]:
+    """The kind-dependent cells of a catalog list: voltage rating, current rating, and the
+    figure matched first: bipolar Vceo, Ic max, the hFE window; MOSFET Vds, Id max, Rds(on);
+    JFET Vds, the Idss window (and Id max when there is no window)."""
+    def window(lo: float | None, hi: float | None, unit: str) -> str:
+        if lo is None or hi is None:
+            return cell("idss_min" if hi is None else "idss_max")
+        low, high = format_quantity(lo, unit).split(" "), format_quantity(hi, unit).split(" ")
+        # "2.6-6.5mA" when both ends share the prefix, else "500µA-6.5mA".
+        return ("".join(low) if low[-1] != high[-1] else low[0]) + "-" + "".join(high)
+
+    def cell(name: str) -> str:
+        return device.display(name).replace(" ", "")
+
+    if device.kind == "mosfet":
+        return cell("vds"), cell("id_max"), cell("rds_on")
+    if device.kind == "jfet":
+        return cell("vds"), cell("id_max"), window(device.idss_min, device.idss_max, "A")
+    lo, hi = device.hfe_min, device.hfe_max
+    hfe = ("—" if lo is None and hi is None else f"{lo:g}+" if hi is None
+           else f"≤{hi:g}" if lo is None else f"{lo:g}-{hi:g}")
+    return cell("vceo"), cell("ic_max"), hfe
 
 
 def parse_bool(value: object, field: str) -> bool:
