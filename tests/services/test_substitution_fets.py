@@ -21,5 +21,20 @@ def test_the_service_never_offers_a_fet(empty_db) -> None:  # type: ignore[no-un
                                                show_rejected=show_rejected)
         offered = {c.designation for c in result.candidates}
         assert "QX-301" in offered and not offered & {"HX-N900", "HX-J900"}
+    # a FET original goes to the field-effect ranking, which offers no bipolar part either
+    for show_rejected in (False, True):
+        fet = substitution.rank_substitutes(empty_db, "HX-N900", show_rejected=show_rejected)
+        assert not {c.designation for c in fet.candidates} & {"QX-300", "QX-301"}
+        assert {c.verdict for c in fet.candidates if c.designation == "HX-J900"} <= {
+            "incompatible"}
     with pytest.raises(SpecError, match="not a bipolar part"):
-        substitution.rank_substitutes(empty_db, "HX-N900")
+        from partsdb.ranking import Requirement
+
+        Requirement.from_device(catalog_device(empty_db, "HX-N900"))
+
+
+def catalog_device(db, designation):  # type: ignore[no-untyped-def]
+    from partsdb.services import catalog
+
+    with db.session() as session:
+        return catalog.get_device(session, designation)
