@@ -230,13 +230,16 @@ class SubstituteView(Vertical):
     def _rank(self) -> tuple[Any, str | None, str]:
         query = self.query_one("#sub-query", TextField).value.strip()
         spec = substitution.parse_spec(self.query_one("#sub-spec", TextField).value)
-        stress = self._stress()
         if not query and not spec:
             raise ValueError("original: empty; type a designation, or a spec such as "
                              "polarity=npn vceo=60V ic_max=1A")
         with self.db.session() as session:
             original, note = (substitution.resolve_original(session, query, self._index)
                               if query else (None, ""))
+            # another family's stresses (left from the last original) are cleared, not sent
+            self._show_stresses_for(substitution.original_kind(session, original)
+                                    or spec.get("kind") or "bjt")
+            stress = self._stress()
             result = substitution.rank_substitutes(session, original, spec or None, stress,
                                                    self._policy(), limit=RANK_LIMIT)
         return result, original, note

@@ -338,6 +338,13 @@ def resolve_original(session: Session, query: str,
     return hits[0].designation, f"{query!r} read as {hits[0].designation} ({hits[0].reason})"
 
 
+def original_kind(session: Session, designation: str | None) -> str | None:
+    """The kind of a stored original (None: not stored or not named): the faces show the
+    stresses of its family (:func:`partsdb.spec_fields.stresses_for`)."""
+    device = catalog_service.get_device(session, designation) if designation else None
+    return device.kind if device is not None else None
+
+
 def parse_spec(text: str) -> dict[str, Any]:
     """A spec line, ``name=value`` pairs (spaces or commas between), each value read like the
     device field it names: ``vceo=60V ic_max=1A package=TO-126``."""

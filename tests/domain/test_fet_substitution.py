@@ -278,3 +278,21 @@ def test_bad_requirement_values_are_refused() -> None:
         FetRequirement(kind="mosfet", polarity="npn", mode=None, original=None)
     with pytest.raises(SpecError, match="kind: 'bjt'"):
         FetRequirement(kind="bjt", polarity="n", mode=None, original=None)
+
+
+def test_p_channel_threshold_is_read_as_a_magnitude() -> None:
+    """A P-channel record stores Vgs(th) with its sign (device.FIELDS); the overdrive rule
+    reads magnitudes: a 5 V drive against |Vgs(th) max| 2.5 V is exactly 2 x: marginal, and
+    against 3 V (2 x = 6 V) under-rated."""
+    from partsdb.device import parse_device
+
+    base = {"designation": "HP-1", "kind": "mosfet", "polarity": "p", "material": "si",
+            "vds": "-60V", "id_max": "-10A", "rds_on": "0.2", "rds_on_vgs": "-10V",
+            "vgs_th_min": "-1V", "vgs_th_max": "-2.5V"}
+    orig = parse_device(base)
+    cand = parse_device({**base, "designation": "HP-2"})
+    hot = parse_device({**base, "designation": "HP-3", "vgs_th_max": "-3V"})
+    assert _check(mosfet_checks(orig, cand, Stress(drive=5.0), WORKSHOP),
+                  "drive").status == "marginal"
+    assert _check(mosfet_checks(orig, hot, Stress(drive=5.0), WORKSHOP),
+                  "drive").status == "under-rated"

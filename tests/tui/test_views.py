@@ -543,6 +543,48 @@ async def test_substitute_offers_every_stress_the_cli_offers(shop_db: Any) -> No
         assert ft.need == pytest.approx(view.result.requirement.hfe_min * 2e4)
 
 
+async def test_a_fet_original_shows_the_fet_stress_inputs(shop_db: Any) -> None:
+    """Ranking a MOSFET original shows the FET stress inputs and hides the bipolar ones; the
+    drive typed there reaches the ranking (the overdrive rule: 5 V against a part specified at
+    10 V with Vgs(th) max 4 V is under-rated)."""
+    from partsdb.spec_fields import stresses_for
+
+    with shop_db.session() as session:
+        for name in ("HX-A1", "HX-A2"):
+            catalog.add_device(session, {
+                "designation": name, "kind": "mosfet", "polarity": "n", "material": "si",
+                "vds": "100V", "id_max": "20A", "rds_on": "0.1", "rds_on_vgs": "10V",
+                "vgs_th_max": "4V", "package": "TO-220", "pinout": "GDS"})
+    app = build_app(shop_db, start="substitute", cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        view = app.view("substitute")
+        app.query_one("#sub-query").focus()
+        await type_text(pilot, "HX-A1")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert view.result.requirement.kind == "mosfet"
+        fet_rows = {row.name for row in stresses_for("mosfet")}
+        assert app.query_one("#ss-drive").display and app.query_one("#ss-id_peak").display
+        assert not app.query_one("#ss-vce_peak").display
+        assert not app.query_one("#ss-freq").display
+        assert {"drive", "vds_peak", "id_peak", "fsw", "gate_current"} <= fet_rows
+        app.query_one("#ss-drive").focus()
+        await type_text(pilot, "5V")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert view.result.stress.drive == 5.0
+        assert view.result.candidates[0].check("drive").status == "under-rated"
+        # back to a bipolar original: the drive is cleared and hidden, the ranking runs
+        app.query_one("#sub-query").focus()
+        await pilot.press("ctrl+a", "ctrl+k")
+        app.query_one("#sub-query").value = ""
+        await type_text(pilot, "qx3301")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert view.result.requirement.kind != "mosfet" and view.result.stress.drive is None
+        assert not app.query_one("#ss-drive").display and app.query_one("#ss-vce_peak").display
+
+
 async def test_log_swap_under_read_only_is_a_message_not_a_crash(shop_db: Any,
                                                                  tmp_path: Any) -> None:
     """Issue 14 item 12: `w` (log swap) on a read-only database says so and the app runs on;
