@@ -138,3 +138,22 @@ def test_wrong_family_is_one_line_exit_2(url: str, args: tuple[str, ...], words:
     result = run(url, *args)
     assert result.exit_code == 2
     assert words in result.stderr and len(result.stderr.strip().splitlines()) == 1
+
+
+def test_swap_of_a_mosfet_is_recorded_with_its_stress_and_audited(url: str) -> None:
+    """The FET stresses are stored with a swap (0008) and the audit re-checks it with the FET
+    checks: HX200 on a 5 V drive (specified at 10 V, Vgs(th) max 4 V: 5 < 8 V) is
+    under-rated."""
+    from partsdb.services import swaplog
+
+    result = run(url, "swaplog", "add", "HX100", "HX200", "--job", "J-11", "--drive", "5V",
+                 "--vds-peak", "48V", "--id-peak", "5A")
+    assert result.exit_code == 0, result.output
+    db = open_database(url, notify=None)
+    with db.session() as session:
+        (view,) = swaplog.list_swaps(session)
+        assert (view.stress.drive, view.stress.vds_peak, view.stress.id_peak) == (5.0, 48.0, 5.0)
+        (item,) = swaplog.audit(session)
+    db.dispose()
+    assert item.verdict == "under-rated"
+    assert any(p.startswith("drive: under-rated") for p in item.problems)
