@@ -47,7 +47,8 @@ CHANNELS: tuple[str, ...] = ("n", "p")
 MODES: tuple[str, ...] = ("enhancement", "depletion")
 
 DEVICE_KEYS: tuple[str, ...] = (
-    "designation", "kind", "polarity", "mode", "vds", "vgs_max", "id_max", "ptot", "ptot_ref",
+    "designation", "kind", "polarity", "mode", "material", "vds", "vgs_max", "id_max",
+    "id_max_ref", "ptot", "ptot_ref",
     "tj_max", "rth_jc", "rds_on", "rds_on_vgs", "rds_on_id", "vgs_th_min", "vgs_th_max", "qg",
     "qgd", "ciss", "body_diode", "trr", "vgs_off_min", "vgs_off_max", "idss_min", "idss_max",
     "yfs", "yfs_id", "en", "package", "pinout")
