@@ -443,7 +443,9 @@ def strip_plus_minus(text: str) -> str:
     t = text.strip()
     for mark in ("±", "+/-", "+-"):
         if t.startswith(mark):
-            return t[len(mark):].strip()
+            rest = t[len(mark):].strip()
+            # "±-20 V" says two things: left as it is, to be refused.
+            return text if rest.startswith(("+", "-", "±")) else rest
     return text
 
 
