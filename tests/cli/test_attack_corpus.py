@@ -99,3 +99,17 @@ def test_every_fet_stress_case_is_refused_in_one_line(db_url: str) -> None:
         assert case["words"] in result.stderr, result.stderr
         assert dump(db) == before, case["args"]
     db.dispose()
+
+
+def test_every_hostile_fet_field_is_refused_naming_the_field(db_url: str) -> None:
+    """FET fields (device add with the options derived from device.FIELDS): non-finite numbers,
+    stray ± signs, wrong units, wrong signs for the channel, fields of the other kind; each one
+    line naming the field, exit 2, nothing written."""
+    db = _workshop(db_url)
+    before = dump(db)
+    for case in _load("hostile_fet_fields.json"):
+        result = CliRunner().invoke(main, ["--db", db_url, "device", "add", "QF9", *case["args"]])
+        _refused(result, case["exit"], one_line=True, case=case["why"])
+        assert case["field"] in result.stderr, f"{case['why']}: {result.stderr}"
+        assert dump(db) == before, case["why"]
+    db.dispose()
