@@ -16,7 +16,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Literal
 
-from partsdb.device import FIELD_BY_NAME
+from partsdb.device import FET_KINDS, FIELD_BY_NAME
 
 SpecKind = Literal["quantity", "temperature", "choice", "text", "window", "sink"]
 """How a field is read: ``temperature`` takes °C or kelvin (``45``, ``318K``), see
@@ -163,8 +163,6 @@ STRESS_FIELDS: tuple[SpecField, ...] = (
 
 STRESS_BY_NAME: dict[str, SpecField] = {f.name: f for f in STRESS_FIELDS}
 
-FET_KINDS: tuple[str, ...] = ("mosfet", "jfet")
-"""Device kinds that are field-effect transistors (their stresses are the ``fet`` rows)."""
 
 
 FET_REQUIREMENT_NAMES: tuple[str, ...] = (

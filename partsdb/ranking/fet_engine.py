@@ -20,6 +20,7 @@ from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
+from partsdb.cautions import cautions_for
 from partsdb.derating import (
     INCOMPATIBLE,
     REL_TOL,
@@ -31,6 +32,7 @@ from partsdb.derating import (
     Policy,
 )
 from partsdb.designations import normalize
+from partsdb.device import FET_KINDS
 from partsdb.ranking.fet_checks import (
     JFET_WEIGHTS,
     MOSFET_WEIGHTS,
@@ -41,7 +43,6 @@ from partsdb.ranking.fet_checks import (
 )
 from partsdb.ranking.model import PastSwaps, SpecError, Stress, Weights
 from partsdb.ranking.result import Candidate, Flag, RankResult
-from partsdb.spec_fields import FET_KINDS
 
 CHANNELS: tuple[str, ...] = ("n", "p")
 MODES: tuple[str, ...] = ("enhancement", "depletion")
@@ -232,7 +233,8 @@ def rank_fets(devices: Sequence[Any], requirement: FetRequirement, stress: Stres
     bad.sort(key=lambda c: (-c.score, c.key))
     candidates = good[:limit] + (bad[:limit] if show_rejected else [])
     return RankResult(requirement, stress, policy, weights, tuple(candidates),
-                      len(devices) if considered is None else considered, len(good))
+                      len(devices) if considered is None else considered, len(good),
+                      cautions_for([requirement.kind]))
 
 
 def assess_fet(device: Any, requirement: FetRequirement, stress: Stress | None = None,

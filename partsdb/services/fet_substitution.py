@@ -15,10 +15,10 @@ from typing import Any
 from sqlalchemy.orm import Session
 
 from partsdb.derating import Policy
-from partsdb.device import Device
+from partsdb.device import FET_KINDS, Device
 from partsdb.ranking import RankResult, SpecError, Stress, Weights
 from partsdb.ranking.fet_engine import FetRequirement, rank_fets
-from partsdb.spec_fields import FET_KINDS, STRESS_FIELDS
+from partsdb.spec_fields import STRESS_FIELDS
 
 
 def is_fet(device: Device | None) -> bool:
@@ -56,7 +56,7 @@ def rank_fet_substitutes(session: Session, original: Device, spec: Mapping[str, 
                         "--id-peak, --drive, --power)")
     check_stress_family(original.kind, stress, original.designation)
     requirement = FetRequirement.from_device(original)
-    kinds = FET_KINDS if show_rejected else (original.kind,)
+    kinds = sorted(FET_KINDS) if show_rejected else [original.kind]
     devices = [d for kind in kinds for d in catalog_service.list_devices(
         session, catalog_service.DeviceFilter(kind=kind))]
     summary = stock_summary(session)

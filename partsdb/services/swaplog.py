@@ -17,11 +17,12 @@ from sqlalchemy.orm import Session
 
 from partsdb.derating import Policy
 from partsdb.designations import normalize
+from partsdb.device import FET_KINDS
 from partsdb.errors import InvalidInput, NotFoundError
 from partsdb.ranking import Candidate, Requirement, SpecError, Stress, assess
 from partsdb.ranking.fet_engine import FetRequirement, assess_fet
 from partsdb.services import catalog
-from partsdb.spec_fields import FET_KINDS, STRESS_FIELDS
+from partsdb.spec_fields import STRESS_FIELDS
 from partsdb.storage.models import SwapRow
 
 OUTCOMES = ("worked", "failed")

@@ -296,3 +296,11 @@ def test_p_channel_threshold_is_read_as_a_magnitude() -> None:
                   "drive").status == "marginal"
     assert _check(mosfet_checks(orig, hot, Stress(drive=5.0), WORKSHOP),
                   "drive").status == "under-rated"
+
+
+def test_a_fet_ranking_carries_the_fet_cautions() -> None:
+    from partsdb.cautions import FET_CAUTIONS, SAFETY_CAUTIONS
+
+    orig = mosfet("O")
+    result = rank_fets([orig, mosfet("C")], FetRequirement.from_device(orig))
+    assert result.cautions == (*SAFETY_CAUTIONS, *FET_CAUTIONS)
