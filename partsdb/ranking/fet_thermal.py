@@ -187,7 +187,13 @@ def thermal(orig: Rating, cand: Rating, stress: Stress, policy: Policy, load: Lo
         note = (f"ambient {ta:g} °C is at or above Tj max {cand.tj_max:.0f} °C: the part can "
                 "dissipate nothing there")
         return Thermal(None, 0.0, UNDER, note, None, None, tj_off, UNDER, note, basis=mode)
-    if mode in ("sweep", "original"):
+    if load.current is not None and not load.known:
+        note = ("Rds(on) not in the record: the conduction loss at --id-peak cannot be "
+                "estimated; give --power or read the datasheet")
+        return Thermal(None, cand.allowed(ta, stress.heatsink), UNKNOWN, note, None, None,
+                       tj_off, UNKNOWN, "no Tj estimate: the dissipation is not known",
+                       basis="stress")
+    if not load.known:
         return _compare_ratings(orig, cand, stress, mode)
     if mode == "needed" and cand.case:
         return _sink_needed(cand, stress, policy, load, limit)
@@ -262,7 +268,8 @@ def _compare_ratings(orig: Rating, cand: Rating, stress: Stress, mode: str) -> T
     """No dissipation known: allowed powers compared, on the original's (unknown) sink over the
     sweep (worst ratio) or in free air."""
     ta = stress.ambient
-    sinks: tuple[float | None, ...] = SINK_SWEEP if mode == "sweep" else (None,)
+    sinks: tuple[float | None, ...] = SINK_SWEEP if mode == "sweep" else \
+        (stress.heatsink,) if mode == "given" else (None,)
     worst: tuple[float, float, float] | None = None
     for sink in sinks:
         o = orig.allowed(ta, sink)
@@ -281,7 +288,8 @@ def _compare_ratings(orig: Rating, cand: Rating, stress: Stress, mode: str) -> T
     status = grade(need, offered)
     where = ("on the original's heat sink (assumed, not given: compared over "
              + ", ".join(f"{x:g}" for x in SINK_SWEEP) + " K/W sink-to-ambient; worst case shown)"
-             if mode == "sweep" else "in free air")
+             if mode == "sweep" else f"on a {stress.heatsink:g} K/W heat sink"
+             if mode == "given" else "in free air")
     note = (f"allows {_w(offered)} against the original's {_w(need)} at {ta:g} °C {where}")
     return Thermal(need, offered, status, note, ratio, orig.tj_max, cand.tj_max, tj_status,
                    tj_note, basis=mode)

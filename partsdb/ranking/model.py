@@ -40,7 +40,7 @@ FET_LABELS: dict[str, tuple[str, str]] = {
     "tj_max": ("Tj max", "°C"), "drive": ("Gate drive", "V"), "rds_on": ("Rds(on)", "Ω"),
     "vgs_max": ("Vgs max", "V"), "qg": ("Qg", "C"), "body_diode": ("Body diode", ""),
     "trr": ("trr", "s"), "idss": ("Idss", "A"), "vgs_off": ("Vgs(off)", "V"),
-    "yfs": ("|yfs|", "S"), "noise": ("Noise", ""), "ciss": ("Ciss", "F"),
+    "yfs": ("|yfs|", "S"), "noise": ("en", "V/√Hz"), "ciss": ("Ciss", "F"),
     "package": ("Package", ""), "pinout": ("Pinout", "")}
 """Label and unit of each field-effect check (:mod:`partsdb.ranking.fet_checks`)."""
 for _name, (_label, _unit) in FET_LABELS.items():

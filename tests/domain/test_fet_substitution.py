@@ -304,3 +304,24 @@ def test_a_fet_ranking_carries_the_fet_cautions() -> None:
     orig = mosfet("O")
     result = rank_fets([orig, mosfet("C")], FetRequirement.from_device(orig))
     assert result.cautions == (*SAFETY_CAUTIONS, *FET_CAUTIONS)
+
+
+def test_unknown_rds_on_under_a_current_is_unknown_not_a_crash() -> None:
+    """--id-peak with a candidate lacking Rds(on): no loss estimate, the Ptot check unknown
+    (Ptot is a primary rating: the verdict is unverified)."""
+    orig = mosfet("O")
+    cand = mosfet("C", rds_on=None)
+    stress = Stress(id_peak=5.0, heatsink=2.0)
+    a = mosfet_checks(orig, cand, stress, WORKSHOP)
+    assert _check(a, "ptot").status == "unknown"
+    assert assess_fet(cand, FetRequirement.from_device(orig), stress).verdict == "unverified"
+
+
+def test_ratings_compared_on_a_given_sink_without_a_dissipation() -> None:
+    # --heatsink 2 and no dissipation: allowed powers on that sink compared.
+    # original: (175 - 25) / (1 + 1 + 2) = 37.5 W; candidate with Rth j-c 3:
+    # (175 - 25) / (3 + 1 + 2) = 25 W < 37.5 W: under-rated, ratio 2/3
+    a = mosfet_checks(mosfet("O"), mosfet("C", rth_jc=3.0), Stress(heatsink=2.0), WORKSHOP)
+    ptot = _check(a, "ptot")
+    assert (ptot.need, ptot.offered) == (pytest.approx(37.5), pytest.approx(25.0))
+    assert ptot.status == "under-rated" and ptot.ratio == pytest.approx(2 / 3)
