@@ -100,3 +100,10 @@ def test_a_workshop_sheet_with_datasheet_fet_headers(run, tmp_path) -> None:  # 
     jfet = json.loads(run("device", "show", "HX-J70", "--format", "json").output)
     assert jfet["idss_min"] == pytest.approx(2.6e-3) and jfet["idss_max"] == pytest.approx(6.5e-3)
     assert jfet["vgs_off_min"] == -0.5 and jfet["yfs"] == pytest.approx(0.012)
+
+
+def test_substitute_for_a_fet_original_says_not_a_bipolar_part(run) -> None:  # type: ignore[no-untyped-def]
+    run(*ADD_MOSFET)
+    result = run("substitute", "HX-N60T")
+    assert result.exit_code == 2
+    assert "not a bipolar part" in result.output and "Traceback" not in result.output
