@@ -171,45 +171,109 @@ def _fit(name: str, need: str | None, offered: str | None, other: float, code: s
                      code if status == MARGINAL else ""), sub, (need, offered or "—"), True)
 
 
-def mosfet_checks(orig: Any, cand: Any, stress: Stress, policy: Policy) -> Assessment:
-    """Every MOSFET check of ``cand`` as a substitute for ``orig``."""
+Memo = dict
+"""Rows already computed in one ranking, keyed by the check and the candidate fields it reads
+(the original, the stress and the policy are the same for the whole ranking): a catalog repeats
+its ratings, so each distinct value is checked once; the same functions, the same rows."""
+
+
+def _once(memo: dict[Any, Any] | None, key: tuple[Any, ...], make: Any) -> Any:
+    if memo is None:
+        return make()
+    hit = memo.get(key)
+    if hit is None:
+        hit = memo[key] = make()
+    return hit
+
+
+_THERMAL_FIELDS = ("ptot", "ptot_ref", "tj_max", "rth_jc", "package", "rds_on", "qg")
+
+
+def mosfet_checks(orig: Any, cand: Any, stress: Stress, policy: Policy,
+                  memo: dict[Any, Any] | None = None) -> Assessment:
+    """Every MOSFET check of ``cand`` as a substitute for ``orig`` (``memo``: rows already
+    computed in this ranking, see :data:`Memo`)."""
     out = Assessment()
     rows = out.rows
-    rows.append(_rating("vds", _v(cand, "vds"), _v(orig, "vds"), stress.vds_peak,
-                        policy.voltage, "Vds peak", policy))
-    rows.append(_rating("id_max", _v(cand, "id_max"), _v(orig, "id_max"), stress.id_peak,
-                        policy.current, "Id peak", policy))
-    rows += _thermal_rows(orig, cand, stress, policy, out.flags, mosfet=True)
+    v = {name: getattr(cand, name, None) for name in _MOSFET_FIELDS}
+    rows.append(_once(memo, ("vds", v["vds"]), lambda: _rating(
+        "vds", v["vds"], _v(orig, "vds"), stress.vds_peak, policy.voltage, "Vds peak", policy)))
+    rows.append(_once(memo, ("id_max", v["id_max"]), lambda: _rating(
+        "id_max", v["id_max"], _v(orig, "id_max"), stress.id_peak, policy.current, "Id peak",
+        policy)))
+    t_rows, t_flags = _once(memo, ("thermal", *(v[n] for n in _THERMAL_FIELDS)),
+                            lambda: _thermal_rows(orig, cand, stress, policy, mosfet=True))
+    rows += t_rows
+    out.flags += t_flags
     drive, assumed = (stress.drive, False) if stress.drive is not None else \
         (_v(orig, "rds_on_vgs"), True)
-    rows.append(_drive_row(drive, assumed, cand))
-    rows.append(_rds_row(orig, cand, stress))
-    rows.append(_vgs_max_row(drive, assumed, cand, policy))
-    qg = _lower("qg", _v(cand, "qg"), _v(orig, "qg"), GATE_CHARGE_FACTOR, None,
-                "more charge loads the gate driver and slows the edges (more switching loss)")
+    rows.append(_once(memo, ("drive", v["rds_on_vgs"], v["vgs_th_min"], v["vgs_th_max"]),
+                      lambda: _drive_row(drive, assumed, cand)))
+    rows.append(_once(memo, ("rds_on", v["rds_on"], v["rds_on_vgs"]),
+                      lambda: _rds_row(orig, cand, stress)))
+    rows.append(_once(memo, ("vgs_max", v["vgs_max"]),
+                      lambda: _vgs_max_row(drive, assumed, cand, policy)))
+    qg = _once(memo, ("qg", v["qg"]), lambda: _lower(
+        "qg", v["qg"], _v(orig, "qg"), GATE_CHARGE_FACTOR, None,
+        "more charge loads the gate driver and slows the edges (more switching loss)"))
     rows.append(qg)
     if qg.check.status == "marginal" and qg.check.ratio:
         out.flags.append(Flag("slow-gate", f"Qg {1 / qg.check.ratio:.2g} x the original's: the "
                                            "driver must move more charge; check its current "
                                            "and the switching loss (common practice)"))
-    rows.append(_body_diode_row(orig, cand))
+    rows.append(_once(memo, ("body_diode", v["body_diode"]),
+                      lambda: _body_diode_row(orig, cand)))
     trr_need = _v(orig, "trr") if _flag_value(_v(orig, "body_diode")) is not False else None
-    rows.append(_lower("trr", _v(cand, "trr"), trr_need, 1.0, None,
-                       "slower recovery: more loss and ringing where the body diode "
-                       "commutates (bridges)"))
-    rows.append(_fit("package", _v(orig, "package"), _v(cand, "package"), 0.3, "other-outline"))
-    rows.append(_fit("pinout", _v(orig, "pinout"), _v(cand, "pinout"), 0.5, "re-form-leads"))
+    rows.append(_once(memo, ("trr", v["trr"]), lambda: _lower(
+        "trr", v["trr"], trr_need, 1.0, None,
+        "slower recovery: more loss and ringing where the body diode commutates (bridges)")))
+    rows += _fits(orig, v, memo)
     return out
 
 
-def jfet_checks(orig: Any, cand: Any, stress: Stress, policy: Policy) -> Assessment:
-    """Every JFET check of ``cand`` as a substitute for ``orig``."""
+_MOSFET_FIELDS = ("vds", "id_max", "vgs_max", "rds_on", "rds_on_vgs", "vgs_th_min",
+                  "vgs_th_max", "qg", "body_diode", "trr", "package", "pinout",
+                  *_THERMAL_FIELDS)
+_JFET_FIELDS = ("vds", "idss_min", "idss_max", "vgs_off_min", "vgs_off_max", "yfs", "yfs_id",
+                NOISE_FIELD, "ciss", "package", "pinout", *_THERMAL_FIELDS)
+
+
+def _fits(orig: Any, v: dict[str, Any], memo: dict[Any, Any] | None) -> list[Row]:
+    return [_once(memo, ("package", v["package"]), lambda: _fit(
+                "package", _v(orig, "package"), v["package"], 0.3, "other-outline")),
+            _once(memo, ("pinout", v["pinout"]), lambda: _fit(
+                "pinout", _v(orig, "pinout"), v["pinout"], 0.5, "re-form-leads"))]
+
+
+def jfet_checks(orig: Any, cand: Any, stress: Stress, policy: Policy,
+                memo: dict[Any, Any] | None = None) -> Assessment:
+    """Every JFET check of ``cand`` as a substitute for ``orig`` (``memo`` as for
+    :func:`mosfet_checks`)."""
     out = Assessment()
     rows = out.rows
-    rows.append(_rating("vds", _v(cand, "vds"), _v(orig, "vds"), stress.vds_peak,
-                        policy.voltage, "Vds peak", policy))
-    rows.append(_window_row("idss", orig, cand))
-    rows.append(_window_row("vgs_off", orig, cand))
+    v = {name: getattr(cand, name, None) for name in _JFET_FIELDS}
+    rows.append(_once(memo, ("vds", v["vds"]), lambda: _rating(
+        "vds", v["vds"], _v(orig, "vds"), stress.vds_peak, policy.voltage, "Vds peak", policy)))
+    windows = tuple(v[n] for n in ("idss_min", "idss_max", "vgs_off_min", "vgs_off_max"))
+    rows.append(_once(memo, ("idss", *windows), lambda: _window_row("idss", orig, cand)))
+    rows.append(_once(memo, ("vgs_off", *windows[2:]),
+                      lambda: _window_row("vgs_off", orig, cand)))
+    rows.append(_once(memo, ("yfs", v["yfs"], v["yfs_id"]), lambda: _yfs_row(orig, cand, policy)))
+    rows.append(_once(memo, ("noise", v[NOISE_FIELD]), lambda: _lower(
+        "noise", v[NOISE_FIELD], _v(orig, NOISE_FIELD), 1.0, None,
+        "noisier: audible in a low-level stage")))
+    rows.append(_once(memo, ("ciss", v["ciss"]), lambda: _lower(
+        "ciss", v["ciss"], _v(orig, "ciss"), CISS_FACTOR, None,
+        "more input capacitance: less bandwidth from a high source impedance")))
+    t_rows, t_flags = _once(memo, ("thermal", *(v[n] for n in _THERMAL_FIELDS)),
+                            lambda: _thermal_rows(orig, cand, stress, policy, mosfet=False))
+    rows += t_rows
+    out.flags += t_flags
+    rows += _fits(orig, v, memo)
+    return out
+
+
+def _yfs_row(orig: Any, cand: Any, policy: Policy) -> Row:
     yfs = _rating("yfs", _v(cand, "yfs"), _v(orig, "yfs"), None, 1.0, "", policy)
     if yfs.check.ratio is not None and yfs.check.ratio < 1:
         status = MARGINAL if yfs.check.ratio >= 0.5 * (1 - 1e-9) else UNDER
@@ -220,19 +284,12 @@ def jfet_checks(orig: Any, cand: Any, stress: Stress, policy: Policy) -> Assessm
         yfs.check = Check("yfs", yfs.check.need, yfs.check.offered, yfs.check.ratio,
                           yfs.check.status, yfs.check.note + f" (measured at "
                           f"{fmt(_v(cand, 'yfs_id'), 'A')} against {fmt(_v(orig, 'yfs_id'), 'A')})")
-    rows.append(yfs)
-    rows.append(_lower("noise", _v(cand, NOISE_FIELD), _v(orig, NOISE_FIELD), 1.0, None,
-                       "noisier: audible in a low-level stage"))
-    rows.append(_lower("ciss", _v(cand, "ciss"), _v(orig, "ciss"), CISS_FACTOR, None,
-                       "more input capacitance: less bandwidth from a high source impedance"))
-    rows += _thermal_rows(orig, cand, stress, policy, out.flags, mosfet=False)
-    rows.append(_fit("package", _v(orig, "package"), _v(cand, "package"), 0.3, "other-outline"))
-    rows.append(_fit("pinout", _v(orig, "pinout"), _v(cand, "pinout"), 0.5, "re-form-leads"))
-    return out
+    return yfs
 
 
-def _thermal_rows(orig: Any, cand: Any, stress: Stress, policy: Policy, flags: list[Flag],
-                  mosfet: bool) -> list[Row]:
+def _thermal_rows(orig: Any, cand: Any, stress: Stress, policy: Policy,
+                  mosfet: bool) -> tuple[list[Row], list[Flag]]:
+    flags: list[Flag] = []
     o, c = Rating.of(orig), Rating.of(cand)
     load, missing = load_of(cand, stress, mosfet)
     t = thermal(o, c, stress, policy, load)
@@ -261,7 +318,7 @@ def _thermal_rows(orig: Any, cand: Any, stress: Stress, policy: Policy, flags: l
     rows.append(Row(Check("tj_max", tj_need, t.tj_offered, ratio, STATUSES[t.tj_status],
                           t.tj_note), _sub(t.tj_status, ratio if ratio else None),
                     shown, t.basis != "none" or tj_need is not None))
-    return rows
+    return rows, flags
 
 
 def _threshold(dev: Any) -> float | None:

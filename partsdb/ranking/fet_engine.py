@@ -124,9 +124,67 @@ def incompatibility(req: FetRequirement, dev: Any) -> str:
     return "; ".join(why)
 
 
-def _assess(req: FetRequirement, dev: Any, stress: Stress, policy: Policy) -> Assessment:
+def _assess(req: FetRequirement, dev: Any, stress: Stress, policy: Policy,
+            memo: dict[Any, Any] | None = None) -> Assessment:
     check = mosfet_checks if req.kind == "mosfet" else jfet_checks
-    return check(req.original, dev, stress, policy)
+    return check(req.original, dev, stress, policy, memo)
+
+
+_VERDICT_OF = {"ok": SUITABLE, "marginal": V_MARGINAL, "under-rated": V_UNDER,
+               "unknown": SUITABLE}
+
+
+@dataclass(frozen=True)
+class _Summary:
+    """What the checks alone give a candidate: worst verdict, confidence, weighted sub-scores."""
+
+    verdict: int
+    applicable: int
+    known: int
+    points: float
+    """sum of w_i s_i over the checks."""
+
+
+def _summary(a: Assessment, policy: Policy, table: Mapping[str, float],
+             memo: dict[Any, Any] | None) -> _Summary:
+    key = ("summary", *map(id, a.rows))  # rows are shared through the memo: same rows, same sum
+    hit = memo.get(key) if memo is not None else None
+    if hit is not None:
+        return hit  # type: ignore[no-any-return]
+    worst = SUITABLE
+    applicable = known = 0
+    points = 0.0
+    for r in a.rows:
+        points += table[r.check.parameter] * r.sub
+        if not r.applicable:
+            continue
+        applicable += 1
+        status = r.check.status
+        known += status != "unknown"
+        worst = max(worst, _VERDICT_OF[status])
+        if status == "unknown" and r.check.parameter in PRIMARY:
+            worst = max(worst, UNVERIFIED)
+    confidence = known / applicable if applicable else 1.0
+    if confidence < policy.min_confidence - REL_TOL:
+        worst = max(worst, V_MARGINAL)
+    out = _Summary(worst, applicable, known, points)
+    if memo is not None:
+        memo[key] = out
+    return out
+
+
+def _history_score(past: PastSwaps | None) -> float:
+    if past is not None and past.worked and not past.failed:
+        return 1.0
+    if past is not None and past.failed and not past.worked:
+        return 0.0
+    return 0.5
+
+
+def _score(summary: _Summary, qty: int, hist: float, weights: Weights, total_w: float) -> float:
+    """100 x (sum w_i s_i + w_stock s_stock + w_history s_history) / sum w."""
+    return 100.0 * (summary.points + weights.stock * (1.0 if qty > 0 else 0.0)
+                    + weights.history * hist) / total_w
 
 
 def _candidate(req: FetRequirement, dev: Any, a: Assessment, policy: Policy, weights: Weights,
@@ -136,16 +194,15 @@ def _candidate(req: FetRequirement, dev: Any, a: Assessment, policy: Policy, wei
     w = dict(table)
     w["stock"], w["history"] = weights.stock, weights.history
     total_w = sum(w.values())
+    summary = _summary(a, policy, table, None)
+    hist = _history_score(past)
     subs = {r.check.parameter: r.sub for r in a.rows}
     subs["stock"] = 1.0 if qty > 0 else 0.0
-    hist = 0.5
+    subs["history"] = hist
+    parts = {n: 100.0 * w[n] * subs[n] / total_w for n in subs if n in w}
     flags = list(a.flags)
     if past is not None and (past.worked or past.failed):
         jobs = f" (jobs {', '.join(past.jobs)})" if past.jobs else ""
-        if past.worked and not past.failed:
-            hist = 1.0
-        elif past.failed and not past.worked:
-            hist = 0.0
         if past.worked:
             flags.append(Flag("worked-before", f"used for {req.designation} before and worked "
                                                f"{past.worked} time(s){jobs}: score bonus"))
@@ -153,27 +210,11 @@ def _candidate(req: FetRequirement, dev: Any, a: Assessment, policy: Policy, wei
             flags.append(Flag("failed-before", f"used for {req.designation} before and failed "
                                                f"{past.failed} time(s){jobs}: score penalty; "
                                                "read the swap log notes"))
-    subs["history"] = hist
-    parts = {n: 100.0 * w[n] * subs[n] / total_w for n in subs if n in w}
-    score = sum(parts.values())
-    worst = SUITABLE
-    applicable = known = 0
-    for r in a.rows:
-        if not r.applicable:
-            continue
-        applicable += 1
-        status = r.check.status
-        known += status != "unknown"
-        worst = max(worst, {"ok": SUITABLE, "marginal": V_MARGINAL, "under-rated": V_UNDER,
-                            "unknown": SUITABLE}[status])
-        if status == "unknown" and r.check.parameter in PRIMARY:
-            worst = max(worst, UNVERIFIED)
-    confidence = known / applicable if applicable else 1.0
+    confidence = summary.known / summary.applicable if summary.applicable else 1.0
     if confidence < policy.min_confidence - REL_TOL:
-        worst = max(worst, V_MARGINAL)
         flags.append(Flag("low-confidence",
-                          f"only {known} of {applicable} checks could be compared "
-                          f"({confidence:.0%}, {policy.name} asks for at least "
+                          f"only {summary.known} of {summary.applicable} checks could be "
+                          f"compared ({confidence:.0%}, {policy.name} asks for at least "
                           f"{policy.min_confidence:.0%}): at best marginal; read the "
                           "datasheet for the missing values"))
     if rejected:
@@ -181,8 +222,8 @@ def _candidate(req: FetRequirement, dev: Any, a: Assessment, policy: Policy, wei
     key = normalize(dev.designation)
     device = {k: getattr(dev, k, None) for k in DEVICE_KEYS}
     device["key"] = key
-    return Candidate(dev.designation, key, score,
-                     VERDICTS[INCOMPATIBLE] if rejected else VERDICTS[worst], qty,
+    return Candidate(dev.designation, key, _score(summary, qty, hist, weights, total_w),
+                     VERDICTS[INCOMPATIBLE] if rejected else VERDICTS[summary.verdict], qty,
                      tuple(places) if qty > 0 else (), tuple(r.check for r in a.rows),
                      tuple(flags), confidence, subs, device,
                      {r.check.parameter: r.shown for r in a.rows}, parts,
@@ -197,7 +238,11 @@ def rank_fets(devices: Sequence[Any], requirement: FetRequirement, stress: Stres
               in_stock_only: bool = False, show_rejected: bool = False,
               considered: int | None = None) -> RankResult:
     """Rank ``devices`` (any kinds; the incompatible ones are left out, or listed last as
-    ``incompatible`` with ``show_rejected``) as substitutes for a FET original."""
+    ``incompatible`` with ``show_rejected``) as substitutes for a FET original.
+
+    Every compatible row is checked and scored (the checks once per distinct value of the
+    fields each reads, see :data:`partsdb.ranking.fet_checks.Memo`); only the rows returned
+    are detailed as candidates."""
     from partsdb.derating import BUILTIN_POLICIES, DEFAULT_POLICY
     from partsdb.ranking.model import DEFAULT_WEIGHTS
 
@@ -207,9 +252,13 @@ def rank_fets(devices: Sequence[Any], requirement: FetRequirement, stress: Stres
     if isinstance(limit, bool) or not isinstance(limit, int) or limit < 1:
         raise SpecError(f"limit: {limit!r} is not valid; expected a whole number above 0")
     stock = stock or {}
+    history = history or {}
     own = requirement.key
-    good: list[Candidate] = []
-    bad: list[Candidate] = []
+    table = MOSFET_WEIGHTS if requirement.kind == "mosfet" else JFET_WEIGHTS
+    total_w = sum(table.values()) + weights.stock + weights.history
+    memo: dict[Any, Any] = {}
+    good: list[tuple[int, float, str, Any, Assessment, int]] = []
+    bad: list[tuple[float, str, Any, Assessment, int, str]] = []
     for dev in devices:
         key = normalize(dev.designation)
         if key == own:
@@ -219,19 +268,25 @@ def rank_fets(devices: Sequence[Any], requirement: FetRequirement, stress: Stres
             continue
         why = incompatibility(requirement, dev)
         if why:
-            if not show_rejected:
-                continue
-            bad.append(_candidate(requirement, dev,
-                                  _assess(requirement, dev, stress, policy) if dev.kind in
-                                  FET_KINDS else Assessment(), policy, weights, qty,
-                                  (locations or {}).get(key, ()), None, why))
+            if show_rejected:
+                a = _assess(requirement, dev, stress, policy) if dev.kind in FET_KINDS \
+                    else Assessment()
+                points = _score(_summary(a, policy, table, None), qty, 0.5, weights, total_w)
+                bad.append((points, key, dev, a, qty, why))
             continue
-        good.append(_candidate(requirement, dev, _assess(requirement, dev, stress, policy),
-                               policy, weights, qty, (locations or {}).get(key, ()),
-                               (history or {}).get(key)))
-    good.sort(key=lambda c: (VERDICTS.index(c.verdict), -c.score, c.key))
-    bad.sort(key=lambda c: (-c.score, c.key))
-    candidates = good[:limit] + (bad[:limit] if show_rejected else [])
+        a = _assess(requirement, dev, stress, policy, memo)
+        summary = _summary(a, policy, table, memo)
+        score = _score(summary, qty, _history_score(history.get(key)), weights, total_w)
+        good.append((summary.verdict, score, key, dev, a, qty))
+    good.sort(key=lambda g: (g[0], -g[1], g[2]))
+    bad.sort(key=lambda b: (-b[0], b[1]))
+    candidates = [_candidate(requirement, dev, a, policy, weights, qty,
+                             (locations or {}).get(key, ()), history.get(key))
+                  for _, _, key, dev, a, qty in good[:limit]]
+    if show_rejected:
+        candidates += [_candidate(requirement, dev, a, policy, weights, qty,
+                                  (locations or {}).get(key, ()), None, why)
+                       for _, key, dev, a, qty, why in bad[:limit]]
     return RankResult(requirement, stress, policy, weights, tuple(candidates),
                       len(devices) if considered is None else considered, len(good),
                       cautions_for([requirement.kind]))

@@ -325,3 +325,30 @@ def test_ratings_compared_on_a_given_sink_without_a_dissipation() -> None:
     ptot = _check(a, "ptot")
     assert (ptot.need, ptot.offered) == (pytest.approx(37.5), pytest.approx(25.0))
     assert ptot.status == "under-rated" and ptot.ratio == pytest.approx(2 / 3)
+
+
+@pytest.mark.parametrize("stress", [
+    Stress(), Stress(vds_peak=48.0, id_peak=5.0, drive=10.0, heatsink=2.0),
+    Stress(id_peak=8.0, drive=5.0, fsw=50e3, gate_current=0.5, vds_peak=60.0)])
+def test_ranking_with_shared_checks_equals_each_candidate_checked_alone(stress: Stress) -> None:
+    """rank_fets checks each distinct field value once per ranking (the memo); every candidate
+    must come out exactly as assess_fet (no memo) checks it on its own."""
+    import itertools
+
+    orig = mosfet("O")
+    values = itertools.product((60.0, 100.0, None), (0.05, 0.1, None), (4.5, 10.0),
+                               (30e-9, 90e-9), (True, False), ("TO-220", "TO-247"))
+    devices = [orig] + [mosfet(f"C{i:03d}", vds=vds, rds_on=rds, rds_on_vgs=vgs, qg=qg,
+                               body_diode=diode, package=pkg)
+                        for i, (vds, rds, vgs, qg, diode, pkg) in enumerate(values)]
+    req = FetRequirement.from_device(orig)
+    ranked = rank_fets(devices, req, stress, limit=len(devices))
+    assert len(ranked.candidates) == len(devices) - 1
+    for c in ranked.candidates:
+        alone = assess_fet(next(d for d in devices if d.designation == c.designation), req,
+                           stress)
+        assert (c.verdict, c.score, c.checks, c.flags, c.confidence) == (
+            alone.verdict, alone.score, alone.checks, alone.flags, alone.confidence)
+    order = [(["suitable", "marginal", "unverified", "under-rated"].index(c.verdict), -c.score,
+              c.key) for c in ranked.candidates]
+    assert order == sorted(order)
