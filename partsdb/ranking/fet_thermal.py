@@ -15,6 +15,7 @@ neither, a case-rated original's own sink is assumed and the two parts are compa
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 from typing import Any
 
@@ -29,6 +30,14 @@ from partsdb.thermal import (
     heatsink_needed,
     mounting_resistance,
 )
+
+
+@functools.lru_cache(maxsize=256)
+def _outline_figures(package: str | None) -> tuple[float, float]:
+    """(case-to-sink, bare case-to-ambient) K/W of an outline (looked up once per outline: a
+    ranking reads them for every candidate)."""
+    return mounting_resistance(package), free_air_case_to_ambient(package)[0]
+
 
 DEFAULT_FET_TJ_MAX = 150.0
 """Tj max assumed for a silicon FET with none recorded (common practice), flagged."""
@@ -58,9 +67,8 @@ class Rating:
         rth = getattr(dev, "rth_jc", None) if case else None
         if rth is None and ptot:
             rth = (tj_max - 25.0) / ptot
-        package = getattr(dev, "package", None)
-        return cls(ptot, case, tj_max, tj is None, rth, mounting_resistance(package),
-                   free_air_case_to_ambient(package)[0])
+        mounting, free_air = _outline_figures(getattr(dev, "package", None))
+        return cls(ptot, case, tj_max, tj is None, rth, mounting, free_air)
 
     def path(self, sink: float | None) -> float | None:
         """Junction-to-ambient K/W on a sink of ``sink`` K/W (None or inf: none)."""
