@@ -102,8 +102,14 @@ def test_a_workshop_sheet_with_datasheet_fet_headers(run, tmp_path) -> None:  # 
     assert jfet["vgs_off_min"] == -0.5 and jfet["yfs"] == pytest.approx(0.012)
 
 
-def test_substitute_for_a_fet_original_says_not_a_bipolar_part(run) -> None:  # type: ignore[no-untyped-def]
+def test_substitute_for_a_fet_original_ranks_fets_only(run) -> None:  # type: ignore[no-untyped-def]
+    """A FET original goes to the FET ranking (issue 19); the bipolar spec options are refused
+    for it in one line."""
     run(*ADD_MOSFET)
-    result = run("substitute", "HX-N60T")
-    assert result.exit_code == 2
-    assert "not a bipolar part" in result.output and "Traceback" not in result.output
+    run(*ADD_JFET)
+    result = run("substitute", "HX-N60T", "--show-rejected")
+    assert result.exit_code == 0 and "Traceback" not in result.output
+    assert "HX-J12" in result.output and "incompatible" in result.output
+    refused = run("substitute", "HX-N60T", "--vceo", "60V")
+    assert refused.exit_code == 2
+    assert "requirement options apply to bipolar originals" in refused.output
