@@ -19,7 +19,7 @@ from typing import TYPE_CHECKING, Any
 from partsdb.cautions import SAFETY_CAUTIONS
 from partsdb.ranking.model import LABEL
 from partsdb.reports import policy_line
-from partsdb.spec_fields import STRESS_FIELDS
+from partsdb.spec_fields import stresses_for
 from partsdb.units import format_quantity
 
 if TYPE_CHECKING:
@@ -92,7 +92,7 @@ def _label(parameter: str) -> str:
 def _assumptions(result: RankResult) -> tuple[tuple[str, str], ...]:
     s = result.stress
     rows = []
-    for row in STRESS_FIELDS:
+    for row in stresses_for(result.requirement.kind):
         value = getattr(s, row.name)
         if value is None:
             rows.append((row.label, "not given" if row.name != "heatsink" else
@@ -152,8 +152,9 @@ def build_sheet(result: RankResult, candidate: Candidate, *, job: str, date: str
     pin = next((c for c in candidate.checks if c.parameter == "pinout"), None)
     if pin is not None and pin.status != "ok":
         need, offered = candidate.shown.get("pinout", ("", ""))
-        if (need and offered and sorted(need) == sorted(offered) == ["B", "C", "E"]
-                and need != offered):
+        # three distinct leads, the same letters (E/B/C, or G/D/S for a FET)
+        if (need and offered and sorted(need) == sorted(offered)
+                and sorted(need) in (["B", "C", "E"], ["D", "G", "S"]) and need != offered):
             leads = (need, offered)
     return JobSheet(job=job, date=date,
                     original=result.requirement.designation or "the specification",

@@ -14,7 +14,13 @@ from collections.abc import Iterable, Sequence
 from typing import TYPE_CHECKING, Any
 
 from partsdb.cautions import SAFETY_CAUTIONS
-from partsdb.spec_fields import REQUIREMENT_FIELDS, STRESS_FIELDS, WINDOW_ENDS, shown_sink
+from partsdb.spec_fields import (
+    FET_REQUIREMENT_NAMES,
+    REQUIREMENT_FIELDS,
+    STRESS_FIELDS,
+    WINDOW_ENDS,
+    shown_sink,
+)
 from partsdb.units import format_quantity
 
 if TYPE_CHECKING:
@@ -41,6 +47,16 @@ def requirement_rows(result: RankResult) -> list[tuple[str, str]]:
     """(label, value) of each requirement field given, in table order."""
     req = result.requirement
     rows = []
+    if hasattr(req, "original"):  # a field-effect original: its record's fields
+        from partsdb.device import FIELD_BY_NAME
+
+        for name in FET_REQUIREMENT_NAMES:
+            spec = FIELD_BY_NAME.get(name)
+            value = getattr(req.original, name, None)
+            if isinstance(value, bool):
+                value = "yes" if value else "no"
+            rows.append((spec.label if spec else name, _value(value, spec.unit if spec else "")))
+        return [(k, v) for k, v in rows if v != "—"]
     for f in REQUIREMENT_FIELDS:
         if f.name in WINDOW_ENDS:
             low, high = WINDOW_ENDS[f.name]

@@ -16,7 +16,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Literal
 
-from partsdb.device import FIELD_BY_NAME
+from partsdb.device import FET_KINDS, FIELD_BY_NAME
 
 SpecKind = Literal["quantity", "temperature", "choice", "text", "window", "sink"]
 """How a field is read: ``temperature`` takes °C or kelvin (``45``, ``318K``), see
@@ -74,6 +74,9 @@ class SpecField:
     """Value when not given (None: not given)."""
     sets_need: bool = True
     """A stress that sets a need of its own (ambient and heat sink only modify others)."""
+    applies: Literal["all", "bipolar", "fet"] = "all"
+    """The originals a stress concerns: bipolar transistors, field-effect ones or all; the
+    faces show a stress only for the originals it concerns (:func:`stresses_for`)."""
 
     @property
     def brief(self) -> str:
@@ -121,24 +124,58 @@ DEFAULT_AMBIENT = 25.0
 STRESS_FIELDS: tuple[SpecField, ...] = (
     SpecField("vce_peak", "Vce peak", "V", "--vce-peak",
               "Highest collector-emitter voltage in the circuit (DC + peak), e.g. 18V.",
-              short="Vce"),
+              short="Vce", applies="bipolar"),
     SpecField("veb_peak", "Veb peak", "V", "--veb-peak",
               "Highest reverse base-emitter voltage in the circuit (sets the Vebo need), e.g. 6V.",
-              short="Veb"),
+              short="Veb", applies="bipolar"),
     SpecField("ic_peak", "Ic peak", "A", "--ic-peak",
-              "Highest collector current in the circuit, e.g. 150mA.", short="Ic"),
+              "Highest collector current in the circuit, e.g. 150mA.", short="Ic",
+              applies="bipolar"),
     SpecField("power", "Dissipation", "W", "--power", "Dissipation in the part, e.g. 300mW.",
               short="P"),
     SpecField("ambient", "Ambient", "°C", "--ambient",
               "Air temperature around the part in °C, or kelvin as 318K (default 25).",
               kind="temperature", short="Ta", positive=False, default=DEFAULT_AMBIENT, sets_need=False),
     SpecField("freq", "Highest signal frequency", "Hz", "--freq",
-              "Highest signal frequency the stage must amplify, e.g. 20kHz.", short="f"),
+              "Highest signal frequency the stage must amplify, e.g. 20kHz.", short="f",
+              applies="bipolar"),
     SpecField("heatsink", "Heat sink (sink to ambient)", "K/W", "--heatsink",
               "Heat sink for case-rated parts: sink-to-ambient K/W, or free-air for none "
               "(default: the original's own sink, compared over 0.5-5 K/W).",
               kind="sink", short="sink", positive=False, sets_need=False),
+    SpecField("vds_peak", "Vds peak", "V", "--vds-peak",
+              "FETs: highest drain-source voltage in the circuit (DC + peak), e.g. 48V.",
+              short="Vds", applies="fet"),
+    SpecField("id_peak", "Id peak", "A", "--id-peak",
+              "FETs: highest drain current in the circuit, e.g. 5A (also the current of the "
+              "conduction-loss estimate).", short="Id", applies="fet"),
+    SpecField("drive", "Gate drive", "V", "--drive",
+              "FETs: gate-source voltage the circuit applies to turn the part on, e.g. 10V "
+              "(magnitude; judges Rds(on), Vgs(th) and Vgs max).", short="Vgs", applies="fet"),
+    SpecField("fsw", "Switching frequency", "Hz", "--fsw",
+              "MOSFETs: switching frequency, e.g. 50kHz (adds a switching-loss estimate from Qg, "
+              "--gate-current, --vds-peak and --id-peak).", short="fsw", applies="fet"),
+    SpecField("gate_current", "Gate drive current", "A", "--gate-current",
+              "MOSFETs: peak current the gate driver sources and sinks, e.g. 0.5A (for the "
+              "switching-loss estimate with --fsw).", short="Ig", applies="fet", sets_need=False),
 )
 """What the circuit does to the part; each row is a field of :class:`partsdb.ranking.Stress`."""
 
 STRESS_BY_NAME: dict[str, SpecField] = {f.name: f for f in STRESS_FIELDS}
+
+
+
+FET_REQUIREMENT_NAMES: tuple[str, ...] = (
+    "kind", "polarity", "mode", "vds", "vgs_max", "id_max", "ptot", "ptot_ref", "tj_max",
+    "rth_jc", "rds_on", "rds_on_vgs", "vgs_th_max", "qg", "body_diode", "trr", "idss_min",
+    "idss_max", "vgs_off_min", "vgs_off_max", "yfs", "ciss", "package", "pinout")
+"""The device fields of a field-effect original shown as its requirement (label and unit from
+``device.FIELDS``); a FET original's stored record is its requirement."""
+
+
+def stresses_for(kind: str | None) -> tuple[SpecField, ...]:
+    """The stress rows that concern an original of this kind (None: every row)."""
+    if kind is None:
+        return STRESS_FIELDS
+    family = "fet" if kind in FET_KINDS else "bipolar"
+    return tuple(f for f in STRESS_FIELDS if f.applies in ("all", family))

@@ -25,7 +25,7 @@ from textual.widgets import Button, DataTable, Label, Select, Static
 from partsdb.errors import PartsdbError
 from partsdb.ranking import LABEL
 from partsdb.services import substitution
-from partsdb.spec_fields import STRESS_FIELDS
+from partsdb.spec_fields import STRESS_FIELDS, stresses_for
 from tui.inputs import TextField
 from tui.stock_forms import StockForm, StockRequest
 
@@ -157,6 +157,8 @@ class SubstituteView(Vertical):
                 field = TextField(placeholder=f"{row.brief} {row.unit}", id=f"ss-{row.name}",
                                   compact=True)
                 field.tooltip = f"{row.label}: {row.help}"
+                # bipolar stresses until a field-effect original is ranked (_show_stresses_for)
+                field.display = row in stresses_for("bjt")
                 yield field
             yield Select([(name, name) for name in policies], prompt="policy",
                          id="sub-policy", compact=True)
@@ -229,19 +231,33 @@ class SubstituteView(Vertical):
     def _rank(self) -> tuple[Any, str | None, str]:
         query = self.query_one("#sub-query", TextField).value.strip()
         spec = substitution.parse_spec(self.query_one("#sub-spec", TextField).value)
-        stress = self._stress()
         if not query and not spec:
             raise ValueError("original: empty; type a designation, or a spec such as "
                              "polarity=npn vceo=60V ic_max=1A")
         with self.db.session() as session:
             original, note = (substitution.resolve_original(session, query, self._index)
                               if query else (None, ""))
+            # another family's stresses (left from the last original) are cleared, not sent
+            self._show_stresses_for(substitution.original_kind(session, original)
+                                    or spec.get("kind") or "bjt")
+            stress = self._stress()
             result = substitution.rank_substitutes(session, original, spec or None, stress,
                                                    self._policy(), limit=RANK_LIMIT)
         return result, original, note
 
+    def _show_stresses_for(self, kind: str) -> None:
+        """Show the stress inputs that concern an original of ``kind`` (the others are hidden
+        and cleared, so a hidden value never reaches a ranking)."""
+        shown = stresses_for(kind)
+        for row in STRESS_FIELDS:
+            field = self.query_one(f"#ss-{row.name}", TextField)
+            field.display = row in shown
+            if row not in shown:
+                field.value = ""
+
     def _show_result(self, note: str) -> None:
         result = self.result
+        self._show_stresses_for(result.requirement.kind)
         table = self.query_one("#sub-table", DataTable)
         table.clear()
         for c in result.candidates:

@@ -35,6 +35,17 @@ UNIT: dict[str, str] = {p: FIELD_BY_NAME[_FIELD_OF.get(p, p)].unit for p in PARA
 LABEL: dict[str, str] = {p: FIELD_BY_NAME[_FIELD_OF.get(p, p)].label.removesuffix(" min")
                          for p in PARAMETERS}
 
+FET_LABELS: dict[str, tuple[str, str]] = {
+    "vds": ("Vds", "V"), "id_max": ("Id max", "A"), "ptot": ("Ptot", "W"),
+    "tj_max": ("Tj max", "°C"), "drive": ("Gate drive", "V"), "rds_on": ("Rds(on)", "Ω"),
+    "vgs_max": ("Vgs max", "V"), "qg": ("Qg", "C"), "body_diode": ("Body diode", ""),
+    "trr": ("trr", "s"), "idss": ("Idss", "A"), "vgs_off": ("Vgs(off)", "V"),
+    "yfs": ("|yfs|", "S"), "noise": ("en", "V/√Hz"), "ciss": ("Ciss", "F"),
+    "package": ("Package", ""), "pinout": ("Pinout", "")}
+"""Label and unit of each field-effect check (:mod:`partsdb.ranking.fet_checks`)."""
+for _name, (_label, _unit) in FET_LABELS.items():
+    LABEL.setdefault(_name, _label)
+
 FIT_CODES: dict[str, str] = {"package": "other-outline", "pinout": "re-form-leads",
                              "material": "material-change"}
 """The fit checks, compared as words; when one is marginal it needs work at the bench, listed
@@ -142,6 +153,10 @@ class Requirement:
     @classmethod
     def from_device(cls, device: Device) -> Requirement:
         """Like-for-like: the original's own record is the requirement."""
+        if device.kind not in KINDS:
+            raise SpecError(f"{device.designation}: a {device.kind} (field-effect transistor), "
+                            "not a bipolar part; this substitute finder ranks bipolar "
+                            "transistors (npn/pnp) only")
         return cls(polarity=device.polarity, kind=device.kind, material=device.material,
                    vceo=device.vceo, vcbo=device.vcbo, vebo=device.vebo, ic_max=device.ic_max,
                    ptot=device.ptot, ptot_ref=device.ptot_ref, tj_max=device.tj_max,
@@ -186,6 +201,16 @@ class Stress:
     """Sink-to-ambient thermal resistance for case-rated parts, K/W; :data:`HEATSINK_FREE_AIR`
     (infinite) for no sink at all; None: not given (a case-rated original's own sink is
     assumed, see :mod:`partsdb.ranking.checks`)."""
+    vds_peak: float | None = None
+    """FETs: highest drain-source voltage, V."""
+    id_peak: float | None = None
+    """FETs: highest drain current, A."""
+    drive: float | None = None
+    """FETs: gate-source drive voltage when on (magnitude), V."""
+    fsw: float | None = None
+    """MOSFETs: switching frequency, Hz."""
+    gate_current: float | None = None
+    """MOSFETs: gate driver peak current, A (switching-loss estimate)."""
 
     def __post_init__(self) -> None:
         for row in STRESS_FIELDS:

@@ -10,12 +10,15 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 from dataclasses import dataclass, field
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 from partsdb.cautions import SAFETY_CAUTIONS
 from partsdb.derating import Policy
 from partsdb.ranking.model import LABEL, Requirement, Stress, Weights
 from partsdb.ranking.notes import unknown_data_message
+
+if TYPE_CHECKING:
+    from partsdb.ranking.fet_engine import FetRequirement
 
 ORDER_TEXT = ("verdict first (suitable, marginal, unverified, under-rated), then score "
               "(higher first); the score's parts are points per criterion")
@@ -188,7 +191,8 @@ class Candidate:
 class RankResult:
     """The ranked candidates with what they were ranked against."""
 
-    requirement: Requirement
+    requirement: Requirement | FetRequirement
+    """The bipolar requirement, or a field-effect original's (:mod:`partsdb.ranking.fet_engine`)."""
     stress: Stress
     policy: Policy
     weights: Weights

@@ -78,8 +78,11 @@ _NUMBER_SELECT = (
     f"{_case('polarity', POLARITIES)} + 4 * {_case('kind', KINDS)} "
     f"+ 16 * {_case('material', MATERIALS)} + 64 * (CASE WHEN ptot_ref = 'case' THEN 1 ELSE 0 END), "
     + ", ".join(f"COALESCE({c}, {_MISSING})" for c in _NUMBER_COLUMNS))
-_NUMBERS_SQL = _NUMBER_SELECT + " FROM devices ORDER BY id"
-_TEXT_SQL = "SELECT designation, key, package, pinout FROM devices ORDER BY id"
+# The bipolar ranking reads bipolar rows only: a FET is never offered for a bipolar original
+# (nor listed as an incompatible one), whatever else the catalog holds.
+_BIPOLAR_ONLY = "WHERE kind IN (" + ", ".join(f"'{k}'" for k in KINDS) + ")"
+_NUMBERS_SQL = _NUMBER_SELECT + f" FROM devices {_BIPOLAR_ONLY} ORDER BY id"
+_TEXT_SQL = f"SELECT designation, key, package, pinout FROM devices {_BIPOLAR_ONLY} ORDER BY id"
 # One group. Outline and lead order travel as one cell (few distinct pairs, split once each):
 # what reading costs is Python objects per cell. The values are checked against POLARITIES and
 # KINDS and written in, so the text is the same for every driver's parameter style.
@@ -335,6 +338,13 @@ def resolve_original(session: Session, query: str,
     return hits[0].designation, f"{query!r} read as {hits[0].designation} ({hits[0].reason})"
 
 
+def original_kind(session: Session, designation: str | None) -> str | None:
+    """The kind of a stored original (None: not stored or not named): the faces show the
+    stresses of its family (:func:`partsdb.spec_fields.stresses_for`)."""
+    device = catalog_service.get_device(session, designation) if designation else None
+    return device.kind if device is not None else None
+
+
 def parse_spec(text: str) -> dict[str, Any]:
     """A spec line, ``name=value`` pairs (spaces or commas between), each value read like the
     device field it names: ``vceo=60V ic_max=1A package=TO-126``."""
@@ -418,7 +428,15 @@ def rank_substitutes(target: Session | Database, designation: str | None = None,
     pol = policy if isinstance(policy, Policy) else load_policy(policy)
     w = weights or load_weights()
     with _session_of(target) as session:
+        from partsdb.services import fet_substitution as fets
+
+        original = catalog_service.get_device(session, designation) if designation else None
+        if original is not None and fets.is_fet(original):
+            return fets.rank_fet_substitutes(session, original, spec or {}, stress or Stress(),
+                                             pol, w, limit=limit, in_stock_only=in_stock_only,
+                                             show_rejected=show_rejected)
         requirement = build_requirement(session, designation, spec)
+        fets.check_stress_family(requirement.kind, stress or Stress(), designation)
         considered: int | None = None
         if show_rejected:
             cat = load_catalog(session)
@@ -448,7 +466,9 @@ def worked_example(db: Database, command: str = "partsdb") -> str:
     with db.session() as session:
         cat = load_catalog(session)
         qty, places = stock_columns(session, cat)
+        # Bipolar originals only: this finder ranks bipolar parts (its catalog holds no FET).
         obsolete = session.scalars(_select(DeviceRow.designation).where(DeviceRow.obsolete)
+                                   .where(DeviceRow.kind.in_(KINDS))
                                    .order_by(DeviceRow.key)).all()
         originals = [d for d in obsolete if qty[cat.index[normalize(d)]] == 0] or list(obsolete)
         for original in originals:

@@ -17,8 +17,10 @@ from sqlalchemy.orm import Session
 
 from partsdb.derating import Policy
 from partsdb.designations import normalize
+from partsdb.device import FET_KINDS
 from partsdb.errors import InvalidInput, NotFoundError
 from partsdb.ranking import Candidate, Requirement, SpecError, Stress, assess
+from partsdb.ranking.fet_engine import FetRequirement, assess_fet
 from partsdb.services import catalog
 from partsdb.spec_fields import STRESS_FIELDS
 from partsdb.storage.models import SwapRow
@@ -203,12 +205,17 @@ def audit(session: Session, policy: Policy | str | None = None) -> list[AuditIte
                                    [f"{swap.substitute} is no longer a stored device"]))
             continue
         original = catalog.get_device(session, swap.original)
-        if original is not None:
-            requirement = Requirement.from_device(original)
+        if original is not None and original.kind in FET_KINDS:
+            cand = assess_fet(device, FetRequirement.from_device(original), swap.stress, pol)
+        elif original is None and device.kind in FET_KINDS:
+            # a field-effect swap whose original was never stored: checked against itself
+            # under the recorded stress (its ratings against what the circuit does)
+            cand = assess_fet(device, FetRequirement.from_device(device), swap.stress, pol)
         else:
-            requirement = Requirement(polarity=device.polarity, kind=device.kind,
-                                      designation=swap.original, source="given")
-        cand = assess(device, requirement, swap.stress, pol)
+            requirement = Requirement.from_device(original) if original is not None else \
+                Requirement(polarity=device.polarity, kind=device.kind,
+                            designation=swap.original, source="given")
+            cand = assess(device, requirement, swap.stress, pol)
         problems = [f"{c.parameter}: {c.status} ({c.note})" for c in cand.checks
                     if c.status in ("under-rated",)]
         problems += [f.message for f in cand.flags if f.code == "incompatible"]

@@ -85,3 +85,31 @@ def test_every_hostile_quantity_is_refused_and_writes_nothing(db_url: str, verb:
         assert "quantity" in result.stderr
         assert dump(db) == before, case["value"]
     db.dispose()
+
+
+def test_every_fet_stress_case_is_refused_in_one_line(db_url: str) -> None:
+    """The field-effect stress options (hostile_fet_stress.json): bad values, and a FET stress
+    for a bipolar original, are refused with exit 2 in one line naming the option; nothing
+    changes."""
+    db = _workshop(db_url)
+    before = dump(db)
+    for case in _load("hostile_fet_stress.json"):
+        result = CliRunner().invoke(main, ["--db", db_url, "substitute", "QA1", *case["args"]])
+        _refused(result, case["exit"], one_line=True, case=" ".join(case["args"]))
+        assert case["words"] in result.stderr, result.stderr
+        assert dump(db) == before, case["args"]
+    db.dispose()
+
+
+def test_every_hostile_fet_field_is_refused_naming_the_field(db_url: str) -> None:
+    """FET fields (device add with the options derived from device.FIELDS): non-finite numbers,
+    stray ± signs, wrong units, wrong signs for the channel, fields of the other kind; each one
+    line naming the field, exit 2, nothing written."""
+    db = _workshop(db_url)
+    before = dump(db)
+    for case in _load("hostile_fet_fields.json"):
+        result = CliRunner().invoke(main, ["--db", db_url, "device", "add", "QF9", *case["args"]])
+        _refused(result, case["exit"], one_line=True, case=case["why"])
+        assert case["field"] in result.stderr, f"{case['why']}: {result.stderr}"
+        assert dump(db) == before, case["why"]
+    db.dispose()

@@ -515,16 +515,20 @@ async def test_spec_field_starts_empty_with_an_example_hint(shop_db: Any) -> Non
 
 
 async def test_substitute_offers_every_stress_the_cli_offers(shop_db: Any) -> None:
-    """One input per stress row (frequency and heat sink included), read into the ranking."""
+    """One input per bipolar stress row (frequency and heat sink included), read into the
+    ranking; the field-effect rows are hidden for a bipolar original."""
     from partsdb.ranking import Stress
-    from partsdb.spec_fields import STRESS_FIELDS
+    from partsdb.spec_fields import STRESS_FIELDS, stresses_for
 
     app = build_app(shop_db, start="substitute", cursor_blink=False)
     async with app.run_test(size=SIZE) as pilot:
         view = app.view("substitute")
         typed = {"vce_peak": "18V", "veb_peak": "6V", "ic_peak": "50mA", "power": "100mW", "ambient": "40",
                  "freq": "20kHz", "heatsink": "5"}
-        assert set(typed) == {row.name for row in STRESS_FIELDS}
+        assert set(typed) == {row.name for row in stresses_for("bjt")}
+        hidden = {row.name for row in STRESS_FIELDS} - set(typed)
+        assert hidden == {"vds_peak", "id_peak", "drive", "fsw", "gate_current"}
+        assert not any(app.query_one(f"#ss-{name}").display for name in hidden)
         for name, text in typed.items():
             app.query_one(f"#ss-{name}").focus()
             await type_text(pilot, text)
@@ -537,6 +541,48 @@ async def test_substitute_offers_every_stress_the_cli_offers(shop_db: Any) -> No
         # The frequency sets the fT need by gain-bandwidth (hFE min x f).
         ft = view.result.candidates[0].check("ft")
         assert ft.need == pytest.approx(view.result.requirement.hfe_min * 2e4)
+
+
+async def test_a_fet_original_shows_the_fet_stress_inputs(shop_db: Any) -> None:
+    """Ranking a MOSFET original shows the FET stress inputs and hides the bipolar ones; the
+    drive typed there reaches the ranking (the overdrive rule: 5 V against a part specified at
+    10 V with Vgs(th) max 4 V is under-rated)."""
+    from partsdb.spec_fields import stresses_for
+
+    with shop_db.session() as session:
+        for name in ("HX-A1", "HX-A2"):
+            catalog.add_device(session, {
+                "designation": name, "kind": "mosfet", "polarity": "n", "material": "si",
+                "vds": "100V", "id_max": "20A", "rds_on": "0.1", "rds_on_vgs": "10V",
+                "vgs_th_max": "4V", "package": "TO-220", "pinout": "GDS"})
+    app = build_app(shop_db, start="substitute", cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        view = app.view("substitute")
+        app.query_one("#sub-query").focus()
+        await type_text(pilot, "HX-A1")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert view.result.requirement.kind == "mosfet"
+        fet_rows = {row.name for row in stresses_for("mosfet")}
+        assert app.query_one("#ss-drive").display and app.query_one("#ss-id_peak").display
+        assert not app.query_one("#ss-vce_peak").display
+        assert not app.query_one("#ss-freq").display
+        assert {"drive", "vds_peak", "id_peak", "fsw", "gate_current"} <= fet_rows
+        app.query_one("#ss-drive").focus()
+        await type_text(pilot, "5V")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert view.result.stress.drive == 5.0
+        assert view.result.candidates[0].check("drive").status == "under-rated"
+        # back to a bipolar original: the drive is cleared and hidden, the ranking runs
+        app.query_one("#sub-query").focus()
+        await pilot.press("ctrl+a", "ctrl+k")
+        app.query_one("#sub-query").value = ""
+        await type_text(pilot, "qx3301")
+        await pilot.press("enter")
+        await pilot.pause()
+        assert view.result.requirement.kind != "mosfet" and view.result.stress.drive is None
+        assert not app.query_one("#ss-drive").display and app.query_one("#ss-vce_peak").display
 
 
 async def test_log_swap_under_read_only_is_a_message_not_a_crash(shop_db: Any,
