@@ -50,8 +50,13 @@ def run_mosfet_check(device: Device, vds: float | None, id_: float | None,
         fail(f"{', '.join(missing)}: missing; expected --vds, --id and --drive for the MOSFET "
              f"{device.designation}")
     assert vds is not None and id_ is not None and drive is not None
+    if device.polarity == "p":
+        vds, id_, drive = abs(vds), abs(id_), abs(drive)  # a P-channel point may be signed
+    elif drive < 0:
+        fail(f"--drive: {drive:g} V is negative for an N-channel MOSFET; expected a positive "
+             "gate drive (only a P-channel part may be given a negative one)")
     try:
-        point = MosfetPoint(vds=vds, id=id_, drive=abs(drive), fsw=fsw,
+        point = MosfetPoint(vds=vds, id=id_, drive=drive, fsw=fsw,
                             gate_current=gate_current, ambient=ambient, heatsink=heatsink,
                             case_to_sink=DEFAULT_CASE_TO_SINK if case_to_sink is None
                             else case_to_sink)
