@@ -43,7 +43,7 @@ def njf_netlist(network: str, vdd: float, rd: float, rs: float, idss: float, vp:
         lines += [f"R1 vdd g {r1!r}", f"R2 g 0 {r2!r}"]
     else:
         lines.append("RG g 0 1e6")
-    lines += [f"J1 dq g s JX", f".model JX {'NJF' if channel == 'n' else 'PJF'}"
+    lines += ["J1 dq g s JX", f".model JX {'NJF' if channel == 'n' else 'PJF'}"
               f"(VTO={-vp!r} BETA={beta!r})",
               ".control", "op", "echo RESULT ID=$&i(vmd) VG=$&v(g) VS=$&v(s) VD=$&v(d)",
               "quit 0", ".endc", ".end", ""]
