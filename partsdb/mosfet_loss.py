@@ -303,10 +303,12 @@ def check_mosfet(params: MosfetParams, point: MosfetPoint,
     if tj is None:
         notes.append("no steady junction temperature on this mounting: the loss rises with "
                      "Tj faster than the mounting removes it (thermal runaway)")
-        limits.append(Limit("power", result.p_allowed, None, math.nan, None, STATUSES[UNDER],
-                            None, "W", "thermal runaway"))
-        limits.append(Limit("tj", tj_max, tj_limit, math.inf, None, STATUSES[UNDER], None,
-                            "°C", "thermal runaway"))
+        at_max = conduction25 * (1.0 + RDS_TEMPCO) ** (tj_max - T_RATING) + sw
+        limits.append(Limit("power", result.p_allowed, policy.power * result.p_allowed, at_max,
+                            None, STATUSES[UNDER], None, "W",
+                            f"thermal runaway; the loss at Tj max {tj_max:g} °C shown"))
+        limits.append(Limit("tj", tj_max, tj_limit, math.nan, None, STATUSES[UNDER], None,
+                            "°C", "thermal runaway: no steady Tj"))
     else:
         result.tj_estimate = tj
         assert rds_drive is not None

@@ -80,9 +80,10 @@ def _print_mosfet(r: MosfetCheck) -> None:
                 f"{_q(p.drive, 'V')} — {r.worst.upper()}",
                 ("Limit", "Rating", "Policy allows", "Actual", "Ratio", "Status", "Note"),
                 rows, caption=f"policy {r.policy.name}; ambient {p.ambient:g} °C")
+    conduction = None if r.rds_on_tj is None else p.id ** 2 * r.rds_on_tj
+    switching = f", switching {_q(r.switching, 'W')} (estimate)" if p.fsw else ""
     click.echo(f"Rds(on) at the drive {_q(r.rds_on_drive, 'Ω')}, at Tj {_q(r.rds_on_tj, 'Ω')};"
-               f" conduction {_q(None if r.rds_on_tj is None else p.id ** 2 * r.rds_on_tj, 'W')}"
-               f", switching {_q(r.switching, 'W')} (estimate), total {_q(r.power, 'W')}")
+               f" conduction {_q(conduction, 'W')}{switching}, total {_q(r.power, 'W')}")
     if r.heatsink_verdict:
         click.echo(f"Heat sink: {r.heatsink_verdict} (Tj at the policy limit)")
     for note in r.notes:
