@@ -88,6 +88,10 @@ def test_every_hostile_quantity_is_refused_and_writes_nothing(db_url: str, verb:
 
 
 def test_every_fet_circuit_case_is_refused_and_writes_nothing(db_url: str) -> None:
+    from partsdb.device import FIELDS
+
+    if "idss_min" not in {f.name for f in FIELDS}:
+        pytest.skip("FET fields not in partsdb.device yet")
     db = _workshop(db_url)
     with db.session() as session:
         catalog.add_device(session, {"designation": "QJ1", "kind": "jfet", "polarity": "n",
