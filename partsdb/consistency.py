@@ -13,11 +13,11 @@ from __future__ import annotations
 
 from partsdb.columns import plausibility_warnings
 from partsdb.designations import Decoded, decode
-from partsdb.device import Device
+from partsdb.device import FET_KINDS, POLARITY_WORDS, Device
 from partsdb.units import format_quantity
 
 CHECKED_FIELDS: tuple[str, ...] = ("designation", "kind", "polarity", "material", "ptot", "ptot_ref",
-                                   "tj_max", "ft", "package", "ic_max")
+                                   "tj_max", "ft", "package", "ic_max", "pinout")
 """The only Device fields :func:`consistency_warnings` reads (the importer sets just these on one
 reused record; a test holds the checker to this list)."""
 
@@ -55,7 +55,10 @@ _TRANSISTOR_FAMILIES = frozenset({"transistor", "bjt", "three-terminal", "four-t
 def _label(d: Decoded) -> str:
     """How the warning names the designation's claim, e.g. "JIS 2SA" or "Pro Electron B"."""
     if d.scheme == "jis":
-        return f"JIS 2S{d.type_letter}" if d.type_letter else "JIS"
+        if not d.type_letter:
+            return "JIS"
+        digit = (d.registered_as or "2")[0]
+        return f"JIS {digit}S{d.type_letter}"
     if d.scheme == "jedec":
         return f"JEDEC {d.type_letter}"
     if d.scheme == "legacy-european":
@@ -79,18 +82,41 @@ def _material(device: Device, d: Decoded) -> list[str]:
 
 
 def _polarity(device: Device, d: Decoded) -> list[str]:
-    if d.polarity is None or device.polarity == d.polarity:
+    if d.polarity is None or device.polarity == d.polarity or _kind_clash(device, d):
         return []
     inferred = " (read from a marking without 2S)" if d.registered_as != d.normalized else ""
-    return [f"{_label(d)} is {d.polarity.upper()}{inferred} but entered "
-            f"{device.polarity.upper()}"]
+    return [f"{_label(d)} is {POLARITY_WORDS.get(d.polarity, d.polarity)}{inferred} but entered "
+            f"{POLARITY_WORDS.get(device.polarity, device.polarity)}"]
+
+
+def _kind_clash(device: Device, d: Decoded) -> bool:
+    """The name says FET and the record bipolar, or the other way round (JIS 2SA-2SD vs 2SJ/2SK);
+    Pro Electron and JEDEC names say neither, so they never clash."""
+    fet = device.kind in FET_KINDS
+    return (d.family == "fet" and not fet) or (d.family == "bjt" and fet)
 
 
 def _family(device: Device, d: Decoded) -> list[str]:
-    if d.family is None or d.family in _TRANSISTOR_FAMILIES:
+    if d.family is None or (d.family in _TRANSISTOR_FAMILIES and d.family != "bjt"):
         return []
-    return [f"designated {_label(d)}, meaning {d.device_type}, but entered as a {device.kind} "
-            "transistor"]
+    if d.family == "fet" and device.kind in FET_KINDS:
+        return _leads(device, d)
+    if d.family == "bjt" and device.kind not in FET_KINDS:
+        return []
+    what = {"mosfet": "MOSFET", "jfet": "JFET"}.get(device.kind, f"{device.kind} transistor")
+    return [f"designated {_label(d)}, meaning {d.device_type}, but entered as a {what}"]
+
+
+def _leads(device: Device, d: Decoded) -> list[str]:
+    """A JIS 3S- FET has four electrodes (JIS C 7012: the digit is the electrode count less
+    one); a pinout of three leads contradicts it, and four leads on a 2S- FET likewise."""
+    if not device.pinout or d.registered_as is None:
+        return []
+    leads = 4 if d.registered_as.startswith("3") else 3
+    if len(device.pinout) == leads:
+        return []
+    return [f"{_label(d)} has {leads} leads (JIS C 7012: the leading digit is the electrode "
+            f"count less one) but the pinout {device.pinout} has {len(device.pinout)}"]
 
 
 def _power(device: Device, d: Decoded) -> list[str]:

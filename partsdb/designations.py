@@ -153,8 +153,10 @@ JIS_TYPE: dict[str, TypeLetter] = {
     "F": TypeLetter("thyristor", "thyristor, P-gate"),
     "G": TypeLetter("thyristor", "thyristor, N-gate"),
     "H": TypeLetter("ujt", "unijunction transistor (N-base)"),
-    "J": TypeLetter("fet", "P-channel FET (junction or MOS)", polarity=None),
-    "K": TypeLetter("fet", "N-channel FET (junction or MOS)", polarity=None),
+    # J and K give the channel (stored as the record's polarity "p" / "n"), not junction
+    # versus MOS: both JFETs and MOSFETs are registered under them.
+    "J": TypeLetter("fet", "P-channel FET (junction or MOS)", polarity="p"),
+    "K": TypeLetter("fet", "N-channel FET (junction or MOS)", polarity="n"),
     "M": TypeLetter("triac", "triac"),
     "E": TypeLetter("diode", "tunnel (Esaki) diode", from_memory=True),
     "Q": TypeLetter("diode", "light-emitting diode", from_memory=True),
@@ -224,7 +226,7 @@ class Decoded:
     """ge, si, iii-v, other or None."""
     material_text: str | None = None
     polarity: str | None = None
-    """npn, pnp or None (most schemes do not encode it)."""
+    """npn, pnp, the FET channel n or p, or None (most schemes do not encode it)."""
     family: str | None = None
     """transistor, bjt, fet, ujt, thyristor, triac, diode, optocoupler, sensor, other, ..."""
     device_type: str | None = None
@@ -286,7 +288,8 @@ def _decode_jedec(out: Decoded, m: re.Match[str]) -> None:
     out.serial = serial
     out.suffix = suffix or None
     _memory(out, letter, f"the meaning of {digit}N")
-    out.notes.append("a JEDEC number encodes neither polarity nor material")
+    out.notes.append("a JEDEC number encodes neither polarity nor material, nor bipolar versus "
+                     "FET")
     if suffix:
         out.notes.append(f"suffix {suffix}: a later variant of the registration (convention); it "
                          "implies no polarity or material either")
@@ -317,6 +320,13 @@ def _decode_jis(out: Decoded, digit: str, letter_code: str, serial: str, suffix:
         if letter.family == "diode" and digit != "1":
             out.notes.append(f"letter {letter_code} is a diode letter but the leading digit is "
                              f"{digit}, not 1; check the marking")
+        if letter.family == "fet" and digit == "3":
+            # JIS C 7012: the leading digit is the electrode count less one, so 3SK / 3SJ is a
+            # FET with four leads: in practice a dual-gate MOSFET (3SK; 3SJ from memory).
+            out.device_type = (f"{letter.device_type.split(' (')[0]}, four-terminal (such as a "
+                               "dual-gate MOSFET)")
+            if letter_code == "J":
+                out.inferred.append("3SJ (a four-terminal P-channel FET) is recalled from memory")
         if letter.family != "diode" and digit == "1":
             out.notes.append(f"letter {letter_code} is a three-terminal letter but the leading "
                              "digit is 1 (diode); check the marking")
@@ -325,7 +335,8 @@ def _decode_jis(out: Decoded, digit: str, letter_code: str, serial: str, suffix:
         out.notes.append(f"serial {serial} is below {JIS_FIRST_SERIAL}, where JIS numbers start; "
                          "check the marking")
     if suffix:
-        out.notes.append(f"suffix {suffix}: an improved version or the maker's hFE rank; which "
+        rank = "Idss" if out.family == "fet" else "hFE"  # FETs are ranked by Idss (common practice)
+        out.notes.append(f"suffix {suffix}: an improved version or the maker's {rank} rank; which "
                          "one, and the rank limits, are the maker's")
 
 

@@ -28,7 +28,7 @@ from typing import Any
 import numpy as np
 
 from partsdb.derating import BUILTIN_POLICIES, REL_TOL, STATUSES, UNDER, UNKNOWN, Policy, grade
-from partsdb.device import Device
+from partsdb.device import Device, require_bipolar
 from partsdb.thermal import (
     DEFAULT_CASE_TO_SINK,
     DEFAULT_FREE_AIR_CASE_TO_AMBIENT,
@@ -212,6 +212,7 @@ def check_operating_point(device: Device, vce: float, ic: float, power: float | 
     ``vce`` and ``ic`` are magnitudes (V, A); ``power`` defaults to Vce x Ic; ``heatsink`` is
     the sink-to-ambient resistance in K/W (None: no sink). Raises ValueError naming a bad input.
     """
+    require_bipolar(device, "the Vce/Ic operating-point check")
     _check_number("vce", vce)
     _check_number("ic", ic)
     _check_number("power", power)

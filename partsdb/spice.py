@@ -27,7 +27,7 @@ from partsdb.bias import (
     typical_hfe,
     vbe_at,
 )
-from partsdb.device import Device
+from partsdb.device import Device, require_bipolar
 
 EG_GERMANIUM = 0.67
 """Band gap for germanium cards, eV (common practice in germanium SPICE models; about 0.66 eV
@@ -55,6 +55,7 @@ def _g(value: float) -> str:
 
 def model_card(device: Device) -> str:
     """A commented ``.model`` line for ``device`` (parameters at TNOM = 25 °C)."""
+    require_bipolar(device, "the SPICE model card")
     kind = "PNP" if device.polarity == "pnp" else "NPN"
     lines = [f"* partsdb model for {device.designation} ({device.polarity.upper()}, "
              f"{device.material}, {device.kind}); derived from the stored record"]

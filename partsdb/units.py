@@ -11,7 +11,8 @@ R-notation (IEC 60062 "RKM" code: the prefix letter stands where the decimal poi
 ("2k2", "4m7") for any unit.
 
 Temperatures are kept in degrees Celsius, the unit of every datasheet and of the derating
-formulas; every other quantity is kept in SI base units (V, A, W, Hz, ohm, K/W).
+formulas; every other quantity is kept in SI base units (V, A, W, Hz, ohm, K/W, C, F, S, s,
+V/√Hz).
 """
 
 from __future__ import annotations
@@ -56,6 +57,11 @@ UNIT_SPELLINGS: dict[str, tuple[str, ...]] = {
     "Ω": ("ω", "ohm", "ohms", "r"),
     "°C": ("°c", "c", "degc"),
     "K/W": ("k/w", "°c/w", "c/w"),
+    "C": ("c",),
+    "F": ("f",),
+    "S": ("s", "mho"),
+    "s": ("s", "sec"),
+    "V/√Hz": ("v/√hz", "v/rthz", "v/rt(hz)", "v/sqrthz", "v/sqrt(hz)", "v/hz^0.5", "v/hz^½"),
     "": ("",),
 }
 
@@ -98,6 +104,11 @@ def describe(unit: str) -> str:
         "Ω": "a resistance such as 2k2, 4R7 or 47 kΩ",
         "°C": "a temperature in °C such as 150",
         "K/W": "a thermal resistance such as 8 K/W",
+        "C": "a charge such as 25nC",
+        "F": "a capacitance such as 1.2nF or 8 pF",
+        "S": "a transconductance such as 5mS or 12 S",
+        "s": "a time such as 80ns",
+        "V/√Hz": "a noise density such as 2 nV/√Hz or 4nV/rtHz",
     }
     return examples.get(unit, f"a number in {unit}")
 

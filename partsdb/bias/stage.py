@@ -8,7 +8,7 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
-from partsdb.device import Device
+from partsdb.device import Device, require_bipolar
 from partsdb.errors import InvalidInput
 
 NETWORKS: tuple[str, ...] = ("divider", "collector-feedback", "fixed")
@@ -208,6 +208,7 @@ def typical_hfe(hfe_min: float | None, hfe_max: float | None) -> float | None:
 
 def params_from_device(device: Device) -> TransistorParams:
     """The bias parameters of a stored device, with what had to be assumed in ``notes``."""
+    require_bipolar(device, "the bias analysis")
     notes: list[str] = []
     hfe = typical_hfe(device.hfe_min, device.hfe_max)
     if hfe is None:

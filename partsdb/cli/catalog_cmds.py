@@ -17,7 +17,7 @@ from partsdb.cli.common import (
     pass_state,
     print_table,
 )
-from partsdb.device import FIELDS, Device
+from partsdb.device import FIELD_BY_NAME, FIELDS, Device
 
 
 @click.command()
@@ -97,6 +97,10 @@ def _field_options(for_edit: bool) -> Callable[[Callable[..., Any]], Callable[..
             help_text = f"{spec.label}{unit}{choices}" + (f": {spec.help}" if spec.help else "")
             if spec.kind == "bool":
                 help_text += " (yes/no)"
+            if spec.kind == "flag":
+                help_text += " (yes/no; blank: unknown)"
+            if spec.kinds is not None:
+                help_text += f" [{'/'.join(sorted(spec.kinds))} only]"
             # The new designation gets a parameter name of its own: sharing "designation" with
             # the argument made click warn and let the argument's value win.
             param = "new_designation" if spec.name == "designation" else spec.name
@@ -193,9 +197,10 @@ def device_show(state: CliState, designation: str, fmt: str) -> None:
 
 
 @device.command("list")
-@click.option("--polarity", type=click.Choice(["npn", "pnp"]))
+@click.option("--polarity", type=click.Choice(list(FIELD_BY_NAME["polarity"].choices)),
+              help="npn or pnp; n or p for the channel of a FET.")
 @click.option("--material", type=click.Choice(["si", "ge", "other"]))
-@click.option("--kind", type=click.Choice(["bjt", "darlington"]))
+@click.option("--kind", type=click.Choice(list(FIELD_BY_NAME["kind"].choices)))
 @click.option("--package", help="Package outline, such as TO-92.")
 @click.option("--obsolete/--current", default=None, help="Only obsolete / only current parts.")
 @click.option("--suspect", is_flag=True, help="Only records whose fields contradict their "
@@ -223,17 +228,27 @@ def device_list(state: CliState, polarity: str | None, material: str | None, kin
     if fmt in ("csv", "tsv"):
         emit_csv([f.name for f in FIELDS], [[d.to_dict()[f.name] for f in FIELDS] for d in devices])
         return
+    from partsdb.device import rating_cells, speed_cell, type_word
+
     columns = ["Designation", "Type", "Vceo", "Ic max", "Ptot", "hFE", "fT", "Package", "Stock"]
+    if any(d.is_fet for d in devices):  # the kind-dependent columns say what they hold
+        columns[2:7] = ["Vceo/Vds", "Ic/Id max", "Ptot", "hFE/Rds(on)/Idss", "fT/Qg/|yfs|"]
     rows = []
     for d in devices:
-        hfe = (f"{d.hfe_min:g}..{d.hfe_max:g}" if d.hfe_max and d.hfe_min
-               else d.display("hfe_min"))
+        if d.is_fet:
+            volts, amps, figure = rating_cells(d)
+        else:  # as the list always showed a bipolar part
+            volts, amps = d.display("vceo"), d.display("ic_max")
+            figure = (f"{d.hfe_min:g}..{d.hfe_max:g}" if d.hfe_max and d.hfe_min
+                      else d.display("hfe_min"))
         s = summary.get(d.key)
+        kind = d.kind if not d.is_fet else ("depletion" if d.mode == "depletion" else "")
         rows.append([d.designation + (" (obsolete)" if d.obsolete else "")
                      + (" (suspect)" if d.warnings else ""),
-                     f"{d.polarity.upper()} {d.material} {d.kind}", d.display("vceo"),
-                     d.display("ic_max"), d.display("ptot"), hfe, d.display("ft"),
-                     d.package or "—", s.quantity if s else 0])
+                     f"{type_word(d)} {d.material} {kind}".strip(), volts, amps,
+                     d.display("ptot"), figure,
+                     speed_cell(d) if d.is_fet else d.display("ft"), d.package or "—",
+                     s.quantity if s else 0])
     print_table(f"{len(devices)} device(s)", columns, rows)
     if suspect:
         for d in devices:

@@ -433,7 +433,8 @@ def catalog_chunks(catalog: Catalog, seed: int = SEED, chunk_rows: int = CHUNK_R
         low[has_low] = rng.integers(1, 26, has_low.size).astype(str).astype(object)
         cols["low_stock"] = low
         cols["reorder_to"] = np.full(m, "", dtype=object)  # blank: twice the low-stock count
-        yield pd.DataFrame({name: cols[name] for name in FIELD_NAMES})
+        blank = np.full(m, "", dtype=object)
+        yield pd.DataFrame({name: cols.get(name, blank) for name in FIELD_NAMES})
 
 
 def synthetic_frame(n: int, seed: int = SEED) -> pd.DataFrame:

@@ -170,7 +170,9 @@ class CatalogColumns:
 
     def rejected(self, polarity: str, kind: str) -> np.ndarray:
         code = (POLARITIES.index(polarity), KINDS.index(kind))
-        return np.flatnonzero((self.polarity != code[0]) | (self.kind != code[1]))
+        # A FET (kind code -1: not one of the bipolar KINDS) is not even listed as incompatible.
+        return np.flatnonzero(((self.polarity != code[0]) | (self.kind != code[1]))
+                              & (self.kind >= 0))
 
     # Derived columns, computed once per catalog and reused by every ranking.
     @cached_property

@@ -142,6 +142,10 @@ class Requirement:
     @classmethod
     def from_device(cls, device: Device) -> Requirement:
         """Like-for-like: the original's own record is the requirement."""
+        if device.kind not in KINDS:
+            raise SpecError(f"{device.designation}: a {device.kind} (field-effect transistor), "
+                            "not a bipolar part; this substitute finder ranks bipolar "
+                            "transistors (npn/pnp) only")
         return cls(polarity=device.polarity, kind=device.kind, material=device.material,
                    vceo=device.vceo, vcbo=device.vcbo, vebo=device.vebo, ic_max=device.ic_max,
                    ptot=device.ptot, ptot_ref=device.ptot_ref, tj_max=device.tj_max,

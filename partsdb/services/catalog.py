@@ -43,6 +43,8 @@ def consistency_warnings(device: Device) -> list[str]:
 def row_to_device(row: DeviceRow) -> Device:
     values = {name: getattr(row, name) for name in STORED_FIELDS}
     values["obsolete"] = bool(values["obsolete"])
+    if values["body_diode"] is not None:
+        values["body_diode"] = bool(values["body_diode"])
     device = Device(**values)
     device.warnings = [w for w in (row.warnings or "").split("\n") if w]
     return device
@@ -314,6 +316,8 @@ def _stored_rows(session: Session, keys: list[str]) -> dict[str, tuple[int, dict
 
 
 def _same(a: Any, b: Any) -> bool:
+    if a is None or b is None:  # an unknown yes/no (body_diode) is not "no"
+        return a is None and b is None
     if isinstance(a, float) and isinstance(b, float):
         return math.isclose(a, b, rel_tol=1e-12)
     if isinstance(a, bool) or isinstance(b, bool):

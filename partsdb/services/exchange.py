@@ -36,8 +36,10 @@ from partsdb.device import (
     check_columns,
     normalize_pinout,
     parse_field,
+    strip_plus_minus,
 )
 from partsdb.errors import InvalidInput
+from partsdb.kind_rules import settle_columns
 from partsdb.limits import LimitError, check_quantity, text_problem
 from partsdb.services import catalog
 from partsdb.units import UnitError, parse_quantities
@@ -243,13 +245,19 @@ def _parse_quantity_column(name: str, cells: pd.Series, problems: dict[int, list
 
     spec = FIELD_BY_NAME[name]
     text = _stripped(cells)
+    if spec.sign == "magnitude":
+        text = [strip_plus_minus(cell) for cell in text]
     numbers, errors = parse_quantities(text, spec.unit if spec.kind == "quantity" else "", name,
                                        bare_scale=scale)
     for pos, err in errors.items():
         problems.setdefault(pos, []).append(str(err))
     if spec.kind == "count":
         bad = ~np.isnan(numbers) & ~((numbers >= 0) & (numbers == np.floor(numbers)))
+    elif spec.sign == "signed":
+        bad = ~np.isnan(numbers) & (numbers == 0)
     else:
+        if spec.sign == "magnitude":  # "-30 A" off a P-channel datasheet: stored as 30 A
+            numbers = np.abs(numbers)
         bad = ~np.isnan(numbers) & ~(numbers > 0)
     for pos in np.flatnonzero(bad).tolist():
         try:
@@ -295,8 +303,12 @@ def _parse_choice_column(name: str, cells: pd.Series, problems: dict[int, list[s
     return _parse_words(name, raw, wanted, table, problems)
 
 
-def _parse_bool_column(name: str, cells: pd.Series, problems: dict[int, list[str]]) -> list[bool]:
-    table = {**dict.fromkeys(TRUE_WORDS, True), **dict.fromkeys(FALSE_WORDS, False)}
+def _parse_bool_column(name: str, cells: pd.Series, problems: dict[int, list[str]]
+                       ) -> list[bool | None]:
+    table: dict[str, bool | None] = {**dict.fromkeys(TRUE_WORDS, True),
+                                     **dict.fromkeys(FALSE_WORDS, False)}
+    if FIELD_BY_NAME[name].kind == "flag":  # a yes/no that may be unknown: blank is None
+        table[""] = None
     raw = cells.tolist()
     wanted = [cell.strip().lower() in table for cell in raw]
     return _parse_words(name, raw, wanted, table, problems)
@@ -321,7 +333,7 @@ def _parse_chunk(frame: pd.DataFrame, scales: dict[str, float] | None = None
                                                         (scales or {}).get(spec.name, 1.0))
         elif spec.kind == "choice":
             columns[spec.name] = _parse_choice_column(spec.name, cells, problems)
-        elif spec.kind == "bool":
+        elif spec.kind in ("bool", "flag"):
             columns[spec.name] = _parse_bool_column(spec.name, cells, problems)
         else:
             columns[spec.name] = _text_column(cells)
@@ -333,6 +345,7 @@ def _parse_chunk(frame: pd.DataFrame, scales: dict[str, float] | None = None
         # A catalog has a handful of distinct pinouts: each is normalised once.
         pinouts = {v: normalize_pinout(v) for v in set(columns["pinout"])}
         columns["pinout"] = [pinouts[v] for v in columns["pinout"]]
+    settle_columns(columns, n)
     for pos, found in check_columns(columns, n).items():
         seen = {m.split(":")[0] for m in problems.get(pos, [])}
         problems.setdefault(pos, []).extend(msg for fld, msg in found if fld not in seen)

@@ -78,8 +78,11 @@ _NUMBER_SELECT = (
     f"{_case('polarity', POLARITIES)} + 4 * {_case('kind', KINDS)} "
     f"+ 16 * {_case('material', MATERIALS)} + 64 * (CASE WHEN ptot_ref = 'case' THEN 1 ELSE 0 END), "
     + ", ".join(f"COALESCE({c}, {_MISSING})" for c in _NUMBER_COLUMNS))
-_NUMBERS_SQL = _NUMBER_SELECT + " FROM devices ORDER BY id"
-_TEXT_SQL = "SELECT designation, key, package, pinout FROM devices ORDER BY id"
+# The bipolar ranking reads bipolar rows only: a FET is never offered for a bipolar original
+# (nor listed as an incompatible one), whatever else the catalog holds.
+_BIPOLAR_ONLY = "WHERE kind IN (" + ", ".join(f"'{k}'" for k in KINDS) + ")"
+_NUMBERS_SQL = _NUMBER_SELECT + f" FROM devices {_BIPOLAR_ONLY} ORDER BY id"
+_TEXT_SQL = f"SELECT designation, key, package, pinout FROM devices {_BIPOLAR_ONLY} ORDER BY id"
 # One group. Outline and lead order travel as one cell (few distinct pairs, split once each):
 # what reading costs is Python objects per cell. The values are checked against POLARITIES and
 # KINDS and written in, so the text is the same for every driver's parameter style.

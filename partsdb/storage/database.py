@@ -245,7 +245,7 @@ def alembic_config(connection: Any) -> Any:
     return config
 
 
-SCHEMA_HEAD = "0006"
+SCHEMA_HEAD = "0007"
 """The newest migration revision. Opening a database compares its ``alembic_version`` with
 this by plain SQL, so Alembic (about 0.2 s to import) loads only when an upgrade is due; a test
 checks that it equals Alembic's own head."""
@@ -277,6 +277,14 @@ def upgrade(engine: Engine, revision: str = "head") -> None:
 
     with engine.begin() as conn:
         command.upgrade(alembic_config(conn), revision)
+
+
+def downgrade(engine: Engine, revision: str) -> None:
+    """Back to an older revision (tests and a maintainer's shell; no command calls it)."""
+    from alembic import command
+
+    with engine.begin() as conn:
+        command.downgrade(alembic_config(conn), revision)
 
 
 class Database:

@@ -58,6 +58,29 @@ class DeviceRow(Base):
     vbe_ic: Mapped[float | None] = mapped_column(Float)
     vce_sat: Mapped[float | None] = mapped_column(Float)
     icbo: Mapped[float | None] = mapped_column(Float)
+    mode: Mapped[str | None] = mapped_column(String(16))
+    rth_jc: Mapped[float | None] = mapped_column(Float)
+    vds: Mapped[float | None] = mapped_column(Float)
+    vgs_max: Mapped[float | None] = mapped_column(Float)
+    id_max: Mapped[float | None] = mapped_column(Float)
+    id_max_ref: Mapped[str | None] = mapped_column(String(8))
+    rds_on: Mapped[float | None] = mapped_column(Float)
+    rds_on_vgs: Mapped[float | None] = mapped_column(Float)
+    rds_on_id: Mapped[float | None] = mapped_column(Float)
+    vgs_th_min: Mapped[float | None] = mapped_column(Float)
+    vgs_th_max: Mapped[float | None] = mapped_column(Float)
+    qg: Mapped[float | None] = mapped_column(Float)
+    qgd: Mapped[float | None] = mapped_column(Float)
+    ciss: Mapped[float | None] = mapped_column(Float)
+    body_diode: Mapped[bool | None] = mapped_column(Boolean)
+    trr: Mapped[float | None] = mapped_column(Float)
+    vgs_off_min: Mapped[float | None] = mapped_column(Float)
+    vgs_off_max: Mapped[float | None] = mapped_column(Float)
+    idss_min: Mapped[float | None] = mapped_column(Float)
+    idss_max: Mapped[float | None] = mapped_column(Float)
+    yfs: Mapped[float | None] = mapped_column(Float)
+    yfs_id: Mapped[float | None] = mapped_column(Float)
+    en: Mapped[float | None] = mapped_column(Float)
     package: Mapped[str | None] = mapped_column(String(32))
     pinout: Mapped[str | None] = mapped_column(String(8))
     application: Mapped[str | None] = mapped_column(String(64))
@@ -72,8 +95,10 @@ class DeviceRow(Base):
     lots: Mapped[list[LotRow]] = relationship(back_populates="device")
 
     __table_args__ = (
-        CheckConstraint("kind IN ('bjt', 'darlington')", name="ck_devices_kind"),
-        CheckConstraint("polarity IN ('npn', 'pnp')", name="ck_devices_polarity"),
+        CheckConstraint("kind IN ('bjt', 'darlington', 'mosfet', 'jfet')", name="ck_devices_kind"),
+        CheckConstraint("polarity IN ('npn', 'pnp', 'n', 'p')", name="ck_devices_polarity"),
+        CheckConstraint("mode IS NULL OR mode IN ('enhancement', 'depletion')",
+                        name="ck_devices_mode"),
         Index("ix_devices_pol_kind", "polarity", "kind"),
         Index("ix_devices_updated_at", "updated_at"),
     )

@@ -103,7 +103,7 @@ def test_plausibility_of_values_for_an_outline() -> None:
 
 
 @pytest.mark.parametrize(("field", "word", "value"), [
-    ("polarity", "PNP", "pnp"), ("polarity", "p", "pnp"), ("polarity", "N", "npn"),
+    ("polarity", "PNP", "pnp"), ("polarity", "P-channel", "p"), ("polarity", "Nch", "n"),
     ("material", "germanium", "ge"), ("material", "Ge", "ge"), ("material", "Si", "si"),
     ("material", "silicon", "si"), ("ptot_ref", "Tc", "case"),
 ])

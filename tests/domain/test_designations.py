@@ -176,8 +176,8 @@ def test_zener_suffix_tolerance_and_voltage() -> None:
     ("F", "thyristor", None, None),         # F thyristor (P-gate)
     ("G", "thyristor", None, None),         # G thyristor (N-gate)
     ("H", "ujt", None, None),               # H unijunction transistor
-    ("J", "fet", None, None),               # J P-channel FET
-    ("K", "fet", None, None),               # K N-channel FET
+    ("J", "fet", "p", None),                # J P-channel FET (the channel kept as polarity)
+    ("K", "fet", "n", None),                # K N-channel FET
     ("M", "triac", None, None),             # M triac
 ])
 def test_jis_three_terminal_letters(letter: str, family: str, polarity: str | None,
@@ -247,7 +247,7 @@ def test_jis_suffix_is_version_or_rank(suffix: str) -> None:
     ("A3377", "2SA3377", "pnp"),
     ("B377", "2SB377", "pnp"),
     ("D377Y", "2SD377Y", "npn"),
-    ("K77", "2SK77", None),
+    ("K77", "2SK77", "n"),
 ])
 def test_marking_without_2s_is_an_inference(marking: str, registered: str,
                                             polarity: str | None) -> None:

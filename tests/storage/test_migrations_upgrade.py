@@ -65,9 +65,13 @@ def _old_database(url: str) -> dict[str, list[tuple[object, ...]]]:
     return old_rows
 
 
-ADDED_LATER = {"key", "label", "reorder_to", "undoes", "veb_peak"}
+FET_COLUMNS = ("mode", "rth_jc", "vds", "vgs_max", "id_max", "id_max_ref", "rds_on", "rds_on_vgs",
+               "rds_on_id", "vgs_th_min", "vgs_th_max", "qg", "qgd", "ciss", "body_diode", "trr",
+               "vgs_off_min", "vgs_off_max", "idss_min", "idss_max", "yfs", "yfs_id", "en")
+ADDED_LATER = {"key", "label", "reorder_to", "undoes", "veb_peak", *FET_COLUMNS}
 """Columns added after revision 0001 (locations.key, 0004; locations.label, devices.reorder_to,
-movements.undoes, 0005; swaps.veb_peak, 0006): not there to fill or read."""
+movements.undoes, 0005; swaps.veb_peak, 0006; the FET columns, 0007): not there to fill or
+read."""
 
 
 def _without_later_columns(name: str, rows: list[tuple[object, ...]]) -> list[tuple[object, ...]]:
@@ -256,7 +260,7 @@ def test_swap_veb_peak_upgrade_keeps_the_recorded_swaps(db_url: str) -> None:
     upgrade(engine)  # explicit, as `partsdb upgrade` does (a shared PostgreSQL database)
     engine.dispose()
     db = open_database(db_url, upgrade_schema=True, notify=None)
-    assert current_revision(db.engine) == "0006"
+    assert current_revision(db.engine) == head_revision()
     with db.session() as session:
         (view,) = swaplog.list_swaps(session)
         assert (view.original, view.substitute, view.job, view.outcome, view.note) == (
@@ -264,3 +268,55 @@ def test_swap_veb_peak_upgrade_keeps_the_recorded_swaps(db_url: str) -> None:
         assert (view.stress.vce_peak, view.stress.ic_peak, view.stress.ambient,
                 view.stress.heatsink, view.stress.veb_peak) == (18.0, 0.05, 40.0, 2.5, None)
     db.dispose()
+
+
+def test_fet_fields_upgrade_keeps_stock_and_ledger_and_goes_back_when_no_fet_is_stored(
+        db_url: str) -> None:
+    """0006 -> 0007: devices gain the FET columns and the kinds mosfet / jfet (on SQLite by a
+    rebuild of devices, lots and movements); the bipolar record, its lot and ledger survive, a
+    FET can then be stored; going back to 0006 is refused while a FET is stored, and works,
+    data intact, once it is gone."""
+    from partsdb.storage.database import downgrade
+
+    engine = make_engine(resolve_url(db_url))
+    upgrade(engine, "0006")
+    t = Base.metadata.tables
+    with engine.begin() as conn:
+        device = conn.execute(insert(t["devices"]).values(
+            designation="ZT303", key="ZT303", kind="bjt", polarity="npn", material="si",
+            vceo=60.0, obsolete=False, updated_at=AT)).inserted_primary_key[0]
+        place = conn.execute(insert(t["locations"]).values(
+            parent_id=None, name="K3", path="K3", key="k3")).inserted_primary_key[0]
+        lot = conn.execute(insert(t["lots"]).values(
+            device_id=device, location_id=place, condition="nos", quantity=5)).inserted_primary_key[0]
+        first = conn.execute(text("INSERT INTO movements (at, lot_id, change, reason) "
+                                  "VALUES (:at, :lot, 6, 'receive')"), {"at": AT, "lot": lot})
+        del first
+        conn.execute(text("INSERT INTO movements (at, lot_id, change, reason, job) "
+                          "VALUES (:at, :lot, -1, 'take', 'J-1')"), {"at": AT, "lot": lot})
+    before = {name: _rows(engine, name) for name in ("lots", "movements")}
+    upgrade(engine)
+    assert current_revision(engine) == "0007"
+    assert {name: _rows(engine, name) for name in ("lots", "movements")} == before
+    with engine.begin() as conn:
+        conn.execute(insert(t["devices"]).values(
+            designation="HX-N60", key="HXN60", kind="mosfet", mode="enhancement", polarity="n",
+            material="si", vds=60.0, rds_on=0.028, body_diode=True, obsolete=False,
+            updated_at=AT))
+    with pytest.raises(RuntimeError, match=r"1 FET record\(s\) stored"):
+        downgrade(engine, "0006")
+    assert current_revision(engine) == "0007"
+    with engine.begin() as conn:
+        conn.execute(text("DELETE FROM devices WHERE key = 'HXN60'"))
+    downgrade(engine, "0006")
+    assert current_revision(engine) == "0006"
+    assert {name: _rows(engine, name) for name in ("lots", "movements")} == before
+    assert "vds" not in {c["name"] for c in inspect(engine).get_columns("devices")}
+    with engine.connect() as conn:
+        assert conn.execute(text("SELECT designation, vceo FROM devices")).all() == [("ZT303", 60.0)]
+    engine.dispose()
+
+
+def _rows(engine: object, name: str) -> list[tuple[object, ...]]:
+    with engine.connect() as conn:  # type: ignore[attr-defined]
+        return [tuple(r) for r in conn.execute(text(f"SELECT * FROM {name} ORDER BY id"))]
