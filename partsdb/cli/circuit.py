@@ -103,11 +103,15 @@ def check(state: CliState, designation: str, vce: float | None, ic: float | None
                                   ("--fsw", fsw), ("--gate-current", gate_current))
                    if v is not None]
     if device.kind in FET_KINDS or fet_options:
-        if vce is not None or ic is not None or power is not None:
-            fail("--vce/--ic/--power: for a bipolar part; a MOSFET takes --vds, --id, --drive")
         if device.kind == "jfet":
-            fail(f"device: {device.designation} is a JFET; expected a MOSFET or a bipolar "
-                 "part (a JFET stage is checked with: partsdb bias jfet-self)")
+            fail(f"{device.designation}: not a bipolar part ({device.polarity_text} jfet); "
+                 "check takes a MOSFET or a bipolar part (a JFET stage: partsdb bias "
+                 "jfet-self)")
+        if vce is not None or ic is not None or power is not None:
+            what = (f"{device.designation}: not a bipolar part ({device.polarity_text} "
+                    f"{device.kind})" if device.kind in FET_KINDS else "--vce/--ic/--power")
+            fail(f"{what}; --vce/--ic/--power are for a bipolar part, a MOSFET takes --vds, "
+                 "--id and --drive")
         run_mosfet_check(device, vds, id_, drive, fsw, gate_current, ambient, heatsink,
                          case_to_sink, policy, fmt)
         return

@@ -43,8 +43,8 @@ def run_mosfet_check(device: Device, vds: float | None, id_: float | None,
     from partsdb.thermal import DEFAULT_CASE_TO_SINK
 
     if getattr(device, "kind", None) != "mosfet":
-        fail(f"device: {device.designation} is a {device.kind}; expected a MOSFET for "
-             "--vds/--id/--drive (a bipolar part takes --vce and --ic)")
+        fail(f"device: {device.designation} is a {device.polarity_text} {device.kind}; "
+             "expected a MOSFET for --vds/--id/--drive (a bipolar part takes --vce and --ic)")
     missing = [n for n, v in (("--vds", vds), ("--id", id_), ("--drive", drive)) if v is None]
     if missing:
         fail(f"{', '.join(missing)}: missing; expected --vds, --id and --drive for the MOSFET "
@@ -183,6 +183,8 @@ def fet_card(device: Device) -> str:
     return mosfet_card(MosfetCardParams(
         name=device.designation, polarity=device.polarity,
         mode=getattr(device, "mode", None) or "enhancement",
-        vgs_th_min=mag("vgs_th_min"), vgs_th_max=mag("vgs_th_max"), rds_on=mag("rds_on"),
+        vgs_th_min=mag("vgs_th_min") if device.vgs_th_min is not None else mag("vgs_off_min"),
+        vgs_th_max=mag("vgs_th_max") if device.vgs_th_max is not None else mag("vgs_off_max"),
+        rds_on=mag("rds_on"),
         rds_on_vgs=mag("rds_on_vgs"), body_diode=bool(getattr(device, "body_diode", False)),
         trr=mag("trr")))

@@ -95,9 +95,9 @@ def test_every_fet_circuit_case_is_refused_and_writes_nothing(db_url: str) -> No
     db = _workshop(db_url)
     with db.session() as session:
         catalog.add_device(session, {"designation": "QJ1", "kind": "jfet", "polarity": "n",
-                                     "idss_min": "2mA", "idss_max": "8mA",
-                                     "vgs_off_min": "-4V", "vgs_off_max": "-1V"})
-        catalog.add_device(session, {"designation": "QM1", "kind": "mosfet",
+                                     "material": "si", "idss_min": "2mA", "idss_max": "8mA",
+                                     "vgs_off_min": "-1V", "vgs_off_max": "-4V"})
+        catalog.add_device(session, {"designation": "QM1", "kind": "mosfet", "material": "si",
                                      "mode": "enhancement", "polarity": "n", "vds": "100V",
                                      "id_max": "20A", "rds_on": "0.1", "rds_on_vgs": "10V",
                                      "tj_max": "150", "ptot": "50W", "ptot_ref": "case"})
