@@ -402,8 +402,9 @@ def params_from_record(record: Any) -> JfetParams:
     (a record may store Vgs(off) signed, negative for an N-channel part)."""
     kind = getattr(record, "kind", None)
     if kind != "jfet":
+        words = getattr(record, "polarity_text", None) or str(getattr(record, "polarity", ""))
         raise JfetError("device", record.designation, f"a JFET ({record.designation} is a "
-                        f"{kind} {str(getattr(record, 'polarity', '')).upper()})")
+                        f"{words} {kind})")
 
     def window(low: str, high: str) -> tuple[float | None, float | None]:
         values = [abs(float(v)) for v in (getattr(record, low, None),
