@@ -324,7 +324,8 @@ class Device:
         if value is None:
             return "—"
         if spec.kind == "quantity":
-            return format_quantity(value, spec.unit)
+            # A gate rating holds for either sign: shown as the datasheet prints it.
+            return ("±" if name == "vgs_max" else "") + format_quantity(value, spec.unit)
         if spec.kind in ("bool", "flag"):
             return "yes" if value else "no"
         if name == "polarity":
@@ -363,8 +364,10 @@ def rating_cells(device: Device) -> tuple[str, str, str]:
     def cell(name: str) -> str:
         return device.display(name).replace(" ", "")
 
-    if device.kind == "mosfet":
+    if device.kind == "mosfet" and device.mode != "depletion":
         return cell("vds"), cell("id_max"), cell("rds_on")
+    if device.kind == "mosfet":  # a depletion MOSFET is chosen by its Idss, like a JFET
+        return cell("vds"), cell("id_max"), window(device.idss_min, device.idss_max, "A")
     if device.kind == "jfet":
         return cell("vds"), cell("id_max"), window(device.idss_min, device.idss_max, "A")
     lo, hi = device.hfe_min, device.hfe_max
@@ -440,7 +443,9 @@ def strip_plus_minus(text: str) -> str:
     t = text.strip()
     for mark in ("±", "+/-", "+-"):
         if t.startswith(mark):
-            return t[len(mark):].strip()
+            rest = t[len(mark):].strip()
+            # "±-20 V" says two things: left as it is, to be refused.
+            return text if rest.startswith(("+", "-", "±")) else rest
     return text
 
 

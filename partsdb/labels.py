@@ -55,7 +55,9 @@ class LabelDevice:
     vceo: float | None
     ic_max: float | None
     package: str | None
-    pinout: str | None  # three letters E/B/C in lead order, or None when not stored
+    pinout: str | None  # E/B/C (a FET: G/D/S, four for a dual-gate) in lead order, or None
+    kind: str = "bjt"
+    """bjt, darlington, mosfet or jfet; for a FET ``vceo`` and ``ic_max`` hold Vds and Id max."""
 
 
 @dataclass(frozen=True)
@@ -189,9 +191,14 @@ def fit(text: str, width_mm: float, size_pt: float, bold: bool = False,
 
 def device_facts(device: LabelDevice) -> str:
     """"NPN Si  45 V  100 mA  TO-92" (a dash for a value not stored)."""
-    parts = [f"{device.polarity.upper()} {device.material.capitalize()}",
-             format_quantity(device.vceo, "V", 3) if device.vceo is not None else "Vceo -",
-             format_quantity(device.ic_max, "A", 3) if device.ic_max is not None else "Ic -",
+    fet = device.kind in ("mosfet", "jfet")
+    word = {("mosfet", "n"): "NMOS", ("mosfet", "p"): "PMOS", ("jfet", "n"): "NJFET",
+            ("jfet", "p"): "PJFET"}.get((device.kind, device.polarity), device.polarity.upper())
+    parts = [f"{word} {device.material.capitalize()}",
+             format_quantity(device.vceo, "V", 3) if device.vceo is not None
+             else ("Vds -" if fet else "Vceo -"),
+             format_quantity(device.ic_max, "A", 3) if device.ic_max is not None
+             else ("Id -" if fet else "Ic -"),
              device.package or "-"]
     return "  ".join(parts)
 
@@ -206,9 +213,10 @@ def lead_figure(x: float, y: float, pinout: str, measure: Measure = rough_width)
     Read left to right as stored (facing the flat, marked side, leads down; see the pinout row
     of ``device.FIELDS``). ``(x, y)`` is the top-left corner; 7.5 mm wide, 4.0 mm high.
     """
-    pitch = FIGURE_W / 3
+    leads = pinout[:4]  # three leads, or four for a dual-gate FET
+    pitch = FIGURE_W / max(len(leads), 1)
     marks: list[Mark] = [Box(x, y, FIGURE_W, 1.2, width=0.2)]
-    for i, letter in enumerate(pinout[:3]):
+    for i, letter in enumerate(leads):
         cx = x + pitch / 2 + i * pitch
         marks.append(Line(cx, y + 1.2, cx, y + 2.4, width=0.3))
         half = measure(letter, FIGURE_PT, True) / 2

@@ -16,7 +16,7 @@ from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Button, Input, Label, Static
 
-from partsdb.device import FIELDS, Device, FieldSpec
+from partsdb.device import FIELDS, Device, FieldSpec, applies
 from tui.form_guard import close_asking, input_values, select_field
 from tui.inputs import TextField
 
@@ -29,9 +29,13 @@ def placeholder(spec: FieldSpec) -> str:
         return " / ".join(spec.choices)
     if spec.kind == "bool":
         return "yes / no"
+    if spec.kind == "flag":
+        return "yes / no / blank"
     if spec.kind == "quantity":
         return {"V": "e.g. 40V", "A": "e.g. 200mA", "W": "e.g. 625mW", "Hz": "e.g. 300MHz",
-                "°C": "e.g. 150", "": "e.g. 110"}.get(spec.unit, spec.unit)
+                "°C": "e.g. 150", "": "e.g. 110", "Ω": "e.g. 28mΩ", "C": "e.g. 25nC",
+                "F": "e.g. 1.2nF", "S": "e.g. 12mS", "s": "e.g. 60ns", "K/W": "e.g. 2 K/W",
+                "V/√Hz": "e.g. 2nV/rtHz"}.get(spec.unit, spec.unit)
     return spec.help[:30] if spec.help else ""
 
 
@@ -45,6 +49,7 @@ class DeviceForm(ModalScreen[Device | None]):
         super().__init__()
         self.db = db
         self.original = device
+        self._kind = device.kind if device is not None else "bjt"
 
     def compose(self) -> ComposeResult:
         title = f"Edit {self.original.designation}" if self.original else "Add a device"
@@ -59,7 +64,7 @@ class DeviceForm(ModalScreen[Device | None]):
                         value = "" if shown == "—" else shown
                     elif spec.name in ("kind", "polarity", "material"):
                         value = spec.choices[0]
-                    with Horizontal(classes="form-row"):
+                    with Horizontal(classes="form-row", id=f"row-{spec.name}"):
                         yield Label(spec.label + (" *" if spec.required else ""),
                                     classes="form-label")
                         yield TextField(value, placeholder=placeholder(spec), id=f"fd-{spec.name}",
@@ -72,10 +77,24 @@ class DeviceForm(ModalScreen[Device | None]):
 
     def on_mount(self) -> None:
         self.query_one(f"#fd-{FIELDS[0].name}", Input).focus()
+        self._show_kind(self._kind)
         self._started = input_values(self)
 
+    def _show_kind(self, kind: str) -> None:
+        """Only the fields of the record's kind are shown (bipolar, MOSFET or JFET)."""
+        for spec in FIELDS:
+            shown = applies(spec, kind)
+            self.query_one(f"#row-{spec.name}").display = shown
+            if not shown:
+                self.query_one(f"#err-{spec.name}").display = False
+            else:
+                self.query_one(f"#err-{spec.name}").display = True
+
     def raw_values(self) -> dict[str, Any]:
-        return {spec.name: self.query_one(f"#fd-{spec.name}", Input).value for spec in FIELDS}
+        """The inputs; a field the kind does not carry is sent blank, so a record whose kind
+        changed drops the old kind's values instead of being refused for them."""
+        return {spec.name: (self.query_one(f"#fd-{spec.name}", Input).value
+                            if applies(spec, self._kind) else "") for spec in FIELDS}
 
     def _show(self, field: str, message: str) -> None:
         box = self.query_one(f"#err-{field}", Static)
@@ -89,11 +108,14 @@ class DeviceForm(ModalScreen[Device | None]):
 
         name = (event.input.id or "")[3:]
         try:
-            parse_field(name, event.value)
+            value = parse_field(name, event.value)
         except UnitError as err:
             self._show(name, str(err))
         else:
             self._show(name, "")
+            if name == "kind" and value != self._kind:
+                self._kind = value
+                self._show_kind(value)
 
     @on(Input.Submitted, ".form-input")
     def _submitted(self) -> None:

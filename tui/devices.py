@@ -25,7 +25,7 @@ from textual.message import Message
 from textual.timer import Timer
 from textual.widgets import Input, Select, Static
 
-from partsdb.device import FIELDS, Device
+from partsdb.device import Device, fields_for, rating_cells, type_word
 from tui.catalog_data import fetch_devices
 from tui.inputs import TextField
 from tui.table import Cell, Column, VirtualTable
@@ -43,9 +43,12 @@ SEARCH_DEBOUNCE = 0.09
 DETAIL_DEBOUNCE = 0.05
 """Seconds the cursor rests before the detail panel is redrawn."""
 
+# A mixed catalog in one table: the type word (NPN, PNP, NMOS, PMOS, NJFET, PJFET) says which
+# rating the kind-dependent columns hold (bipolar Vceo, Ic max, hFE; MOSFET Vds, Id max,
+# Rds(on); JFET Vds, Id max, the Idss window), see partsdb.device.rating_cells.
 COLUMNS = [
-    Column("Designation", 12), Column("Pol", 3), Column("Mat", 3), Column("Vceo", 6, True),
-    Column("Ic max", 7, True), Column("Ptot", 7, True), Column("hFE", 8, True),
+    Column("Designation", 12), Column("Type", 5), Column("Mat", 3), Column("V max", 6, True),
+    Column("I max", 7, True), Column("Ptot", 7, True), Column("hFE/Ron", 9, True),
     Column("Package", 7), Column("Stock", 5, True), Column("Status", 9),
 ]
 
@@ -73,9 +76,10 @@ def hfe_text(device: Device) -> str:
 
 
 def device_cells(device: Device, stock: int | None) -> list[Cell]:
-    return [device.designation, device.polarity.upper(), device.material,
-            device.display("vceo").replace(" ", ""), device.display("ic_max").replace(" ", ""),
-            device.display("ptot").replace(" ", ""), hfe_text(device), device.package or "—",
+    volts, amps, figure = rating_cells(device)
+    return [device.designation, type_word(device), device.material, volts, amps,
+            device.display("ptot").replace(" ", ""),
+            figure if device.is_fet else hfe_text(device), device.package or "—",
             ("—", "dim") if not stock else (str(stock), "green"), status_cell(device)]
 
 
@@ -171,13 +175,14 @@ def detail_renderable(device: Device, stock_total: int, places: list[str]) -> Gr
     from partsdb.designations import decode
 
     title = Text(device.designation, style="bold")
-    title.append(f"  {device.polarity.upper()} {device.material} {device.kind}", style="")
+    kind = f"{device.mode} {device.kind}" if device.mode else device.kind
+    title.append(f"  {device.polarity_text} {device.material} {kind}", style="")
     if device.obsolete:
         title.append("  OBSOLETE", style="magenta")
     # Plain lines with padded labels: a Rich Table here was measured on every cursor move
     # and cost more than the rest of the screen together.
-    shown = [spec for spec in FIELDS
-             if spec.name not in ("designation", "kind", "polarity", "material", "notes")]
+    shown = [spec for spec in fields_for(device.kind)
+             if spec.name not in ("designation", "kind", "mode", "polarity", "material", "notes")]
     width = max(len(spec.label) for spec in shown) + 1
     grid = Text()
     for n, spec in enumerate(shown):
@@ -209,6 +214,11 @@ def detail_renderable(device: Device, stock_total: int, places: list[str]) -> Gr
     parts.append(d)
     for line in [*decoded.inferred, *decoded.notes]:
         parts.append(Text("  · " + line, style="dim"))
+    if device.is_fet:
+        from partsdb.cautions import FET_CAUTIONS
+
+        for text in FET_CAUTIONS:
+            parts.append(Text("CAUTION ", style="bold red") + Text(text))
     return Group(*parts)
 
 
@@ -223,8 +233,8 @@ class FilterBar(Horizontal):
             self.filters = filters
 
     def compose(self) -> ComposeResult:
-        yield Select([("NPN", "npn"), ("PNP", "pnp")], prompt="polarity", id="f-polarity",
-                     compact=True)
+        yield Select([("NPN", "npn"), ("PNP", "pnp"), ("N-channel", "n"), ("P-channel", "p")],
+                     prompt="polarity", id="f-polarity", compact=True)
         yield Select([("Si", "si"), ("Ge", "ge"), ("other", "other")], prompt="material",
                      id="f-material", compact=True)
         yield TextField(placeholder="package", id="f-package", compact=True)

@@ -180,6 +180,10 @@ def device_show(state: CliState, designation: str, fmt: str) -> None:
         data = device_json(found)
         data["in_stock"] = sum(v.quantity for v in lots)
         data["locations"] = [v.location for v in lots if v.quantity > 0]
+        if found.is_fet:
+            from partsdb.cautions import FET_CAUTIONS
+
+            data["cautions"] = list(FET_CAUTIONS)
         emit_json(data)
         return
     if fmt in ("csv", "tsv"):
@@ -194,6 +198,11 @@ def device_show(state: CliState, designation: str, fmt: str) -> None:
     rows.append(("In stock", f"{sum(v.quantity for v in lots)} ({stock_text})"))
     print_table(found.designation, ["Field", "Value"], rows)
     _print_warnings(found)
+    if found.is_fet:  # handling a FET: static, and the supplies FETs sit in
+        from partsdb.cautions import FET_CAUTIONS
+
+        for text in FET_CAUTIONS:
+            click.echo(f"caution: {text}")
 
 
 @device.command("list")

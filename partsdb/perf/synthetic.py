@@ -29,6 +29,7 @@ import numpy as np
 import pandas as pd
 
 from partsdb.device import FIELD_NAMES
+from partsdb.perf.synthetic_fets import FET_NUMBERS, JFET_SHARE, MOSFET_SHARE, add_fets
 
 SEED = 7_301_955
 """The default seed: the same catalog on every machine."""
@@ -290,8 +291,13 @@ def _unique_names(rng: np.random.Generator, scheme: np.ndarray, cls: np.ndarray,
     return names, int(rows.size)
 
 
-def draw_catalog(n: int, seed: int = SEED) -> Catalog:
-    """Draw ``n`` devices (numbers and designations); same ``n`` and ``seed``, same catalog."""
+def draw_catalog(n: int, seed: int = SEED, mosfet_share: float = 0.0,
+                 jfet_share: float = 0.0) -> Catalog:
+    """Draw ``n`` devices (numbers and designations); same ``n`` and ``seed``, same catalog.
+
+    With the shares above 0 that part of the silicon rows become MOSFETs and JFETs
+    (:mod:`partsdb.perf.synthetic_fets`); the bench's catalog is drawn with
+    :data:`MOSFET_SHARE` and :data:`JFET_SHARE`."""
     if n < 1:
         raise ValueError(f"n: {n!r} is not valid; expected 1 or more devices")
     rng = np.random.default_rng(seed)
@@ -349,6 +355,7 @@ def draw_catalog(n: int, seed: int = SEED) -> Catalog:
     shares = np.where(is_ge[:, None], np.array(GERMANIUM_SCHEME_SHARES), np.array(SILICON_SCHEME_SHARES))
     scheme = (rng.random(n)[:, None] > np.cumsum(shares, axis=1)).sum(axis=1)
     names, fallback = _unique_names(rng, scheme, cls, polarity, num["ft"])
+    polarity, names = add_fets(seed, n, num, text, polarity, names, mosfet_share, jfet_share)
 
     written = names.astype("<U18")
     lower = rng.random(n) < 0.05
@@ -419,8 +426,10 @@ def catalog_chunks(catalog: Catalog, seed: int = SEED, chunk_rows: int = CHUNK_R
             cols[name] = _render_quantity(rng, catalog.numbers[name][sl], "")
         for name in ("hfe_ic", "ft", "vbe_on", "vbe_ic", "vce_sat", "icbo"):
             cols[name] = _render_quantity(rng, catalog.numbers[name][sl], UNITS[name])
-        for name in ("package", "pinout", "application"):
+        for name in ("package", "pinout", "application", "mode", "id_max_ref", "body_diode"):
             cols[name] = catalog.text[name][sl].astype(object)
+        for name in FET_NUMBERS:
+            cols[name] = _render_signed(rng, catalog.numbers[name][sl], FET_UNITS[name])
         is_ge = np.array([c.material == "ge" for c in CLASSES])[catalog.cls[sl]]
         obsolete = rng.random(m) < np.where(is_ge, 0.9, 0.15)
         cols["obsolete"] = np.where(obsolete, "yes", np.where(rng.random(m) < 0.5, "no", "")).astype(object)
@@ -437,16 +446,33 @@ def catalog_chunks(catalog: Catalog, seed: int = SEED, chunk_rows: int = CHUNK_R
         yield pd.DataFrame({name: cols.get(name, blank) for name in FIELD_NAMES})
 
 
-def synthetic_frame(n: int, seed: int = SEED) -> pd.DataFrame:
-    """The whole synthetic catalog as one frame of text cells (for small ``n``)."""
-    catalog = draw_catalog(n, seed)
+def _render_signed(rng: np.random.Generator, values: np.ndarray, unit: str) -> np.ndarray:
+    """:func:`_render_quantity` for a field that may be negative (a threshold or cut-off)."""
+    out = _render_quantity(rng, np.abs(values), unit)
+    negative = np.flatnonzero(values < 0)
+    out[negative] = np.char.add("-", out[negative].astype(str)).astype(object)
+    return out
+
+
+FET_UNITS: dict[str, str] = {
+    "vds": "V", "vgs_max": "V", "id_max": "A", "rds_on": "Ω", "rds_on_vgs": "V", "rds_on_id": "A",
+    "vgs_th_min": "V", "vgs_th_max": "V", "qg": "C", "qgd": "C", "ciss": "F", "trr": "s",
+    "vgs_off_min": "V", "vgs_off_max": "V", "idss_min": "A", "idss_max": "A", "yfs": "S",
+    "yfs_id": "A", "en": "V/√Hz"}
+
+
+def synthetic_frame(n: int, seed: int = SEED, mosfet_share: float = MOSFET_SHARE,
+                    jfet_share: float = JFET_SHARE) -> pd.DataFrame:
+    """The whole synthetic catalog as one frame of text cells (for small ``n``), with FETs."""
+    catalog = draw_catalog(n, seed, mosfet_share, jfet_share)
     return pd.concat(list(catalog_chunks(catalog, seed)), ignore_index=True)
 
 
 def write_catalog_csv(path: str | Path, n: int, seed: int = SEED,
                       on_rows: Any = None) -> Catalog:
-    """Write the synthetic catalog of ``n`` rows as a CSV; ``on_rows(count)`` reports progress."""
-    catalog = draw_catalog(n, seed)
+    """Write the synthetic catalog of ``n`` rows (with FETs) as a CSV; ``on_rows(count)``
+    reports progress."""
+    catalog = draw_catalog(n, seed, MOSFET_SHARE, JFET_SHARE)
     with open(path, "w", encoding="utf-8", newline="") as fh:
         for i, frame in enumerate(catalog_chunks(catalog, seed)):
             frame.to_csv(fh, index=False, header=(i == 0), lineterminator="\n")

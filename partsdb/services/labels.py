@@ -86,8 +86,11 @@ def label_contents(session: Session, places: Sequence[str] = ()) -> list[LabelCo
 
 
 def _label_device(row: DeviceRow) -> LabelDevice:
+    if row.kind in ("mosfet", "jfet"):  # a FET's ratings: Vds and Id max
+        return LabelDevice(row.designation, row.polarity, row.material, row.vds, row.id_max,
+                           row.package, row.pinout, row.kind)
     return LabelDevice(row.designation, row.polarity, row.material, row.vceo, row.ic_max,
-                       row.package, row.pinout)
+                       row.package, row.pinout, row.kind)
 
 
 # ---------------------------------------------------------------- drawing

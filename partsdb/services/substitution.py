@@ -451,7 +451,9 @@ def worked_example(db: Database, command: str = "partsdb") -> str:
     with db.session() as session:
         cat = load_catalog(session)
         qty, places = stock_columns(session, cat)
+        # Bipolar originals only: this finder ranks bipolar parts (its catalog holds no FET).
         obsolete = session.scalars(_select(DeviceRow.designation).where(DeviceRow.obsolete)
+                                   .where(DeviceRow.kind.in_(KINDS))
                                    .order_by(DeviceRow.key)).all()
         originals = [d for d in obsolete if qty[cat.index[normalize(d)]] == 0] or list(obsolete)
         for original in originals:

@@ -87,11 +87,21 @@ def test_every_hostile_quantity_is_refused_and_writes_nothing(db_url: str, verb:
     db.dispose()
 
 
-def test_every_fet_circuit_case_is_refused_and_writes_nothing(db_url: str) -> None:
-    from partsdb.device import FIELDS
+def test_every_hostile_fet_field_is_refused_naming_the_field(db_url: str) -> None:
+    """FET fields (device add with the options derived from device.FIELDS): non-finite numbers,
+    stray ± signs, wrong units, wrong signs for the channel, fields of the other kind; each one
+    line naming the field, exit 2, nothing written."""
+    db = _workshop(db_url)
+    before = dump(db)
+    for case in _load("hostile_fet_fields.json"):
+        result = CliRunner().invoke(main, ["--db", db_url, "device", "add", "QF9", *case["args"]])
+        _refused(result, case["exit"], one_line=True, case=case["why"])
+        assert case["field"] in result.stderr, f"{case['why']}: {result.stderr}"
+        assert dump(db) == before, case["why"]
+    db.dispose()
 
-    if "idss_min" not in {f.name for f in FIELDS}:
-        pytest.skip("FET fields not in partsdb.device yet")
+
+def test_every_fet_circuit_case_is_refused_and_writes_nothing(db_url: str) -> None:
     db = _workshop(db_url)
     with db.session() as session:
         catalog.add_device(session, {"designation": "QJ1", "kind": "jfet", "polarity": "n",

@@ -40,6 +40,10 @@ def test_fet_add_show_json_in_si_units(run) -> None:  # type: ignore[no-untyped-
     assert jfet["body_diode"] is None
     table = run("device", "show", "HX-J12").output
     assert "N-channel" in table and "Vgs(off) min" in table
+    # Cautions where a FET is shown: static on MOSFET gates, switch-mode primaries (common
+    # practice; IEC 61340-5-1 for electrostatic protection).
+    assert "static" in table and "primary side" in table
+    assert any("static" in c for c in data["cautions"])
 
 
 def test_list_by_kind_shows_fet_columns(run) -> None:  # type: ignore[no-untyped-def]

@@ -95,3 +95,17 @@ def test_more_devices_than_fit_say_how_many_are_left_out() -> None:
     shown = [t for t in texts if t.startswith("AC")]
     assert 0 < len(shown) < 20
     assert f"+ {20 - len(shown)} more (see partsdb stock)" in texts
+
+
+def test_a_fet_label_names_the_channel_and_its_ratings_and_draws_four_leads() -> None:
+    """A FET's row says NMOS / NJFET with its Vds and Id max (the invented demo parts), and a
+    dual-gate FET's four leads are all drawn, in stored order (gate 1 first)."""
+    from partsdb.labels import device_facts
+
+    mos = LabelDevice("2SK8624", "n", "si", 200.0, 17.0, "TO-220", "GDS", "mosfet")
+    assert device_facts(mos) == "NMOS Si  200 V  17 A  TO-220"
+    jfet = LabelDevice("2SJ8106", "p", "si", 40.0, None, "TO-92", "SGD", "jfet")
+    assert device_facts(jfet) == "PJFET Si  40 V  Id -  TO-92"
+    letters = [m for m in lead_figure(0, 0, "SDGG") if isinstance(m, Text)]
+    assert [t.text for t in sorted(letters, key=lambda t: t.x)] == ["S", "D", "G", "G"]
+    assert device_facts(BC547B).startswith("NPN Si  45 V")  # bipolar rows unchanged

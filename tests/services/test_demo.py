@@ -27,6 +27,10 @@ DEVICE_HEADER = [
     "designation", "kind", "polarity", "material", "vceo", "vcbo", "vebo", "ic_max", "ptot",
     "ptot_ref", "tj_max", "hfe_min", "hfe_max", "hfe_ic", "ft", "vbe_on", "vbe_ic", "vce_sat",
     "icbo", "package", "pinout", "application", "obsolete", "notes", "low_stock",
+    # The FET columns (blank on every bipolar row).
+    "mode", "rth_jc", "vds", "vgs_max", "id_max", "id_max_ref", "rds_on", "rds_on_vgs",
+    "rds_on_id", "vgs_th_min", "vgs_th_max", "qg", "qgd", "ciss", "body_diode", "trr",
+    "vgs_off_min", "vgs_off_max", "idss_min", "idss_max", "yfs", "yfs_id", "en",
 ]
 STOCK_HEADER = ["designation", "location", "quantity", "condition", "note"]
 MOVEMENT_HEADER = ["designation", "location", "change", "reason", "job", "note"]
