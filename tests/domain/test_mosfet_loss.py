@@ -141,3 +141,20 @@ def test_bad_point_is_refused_with_the_field_named(kwargs: dict, field: str) -> 
 def test_ambient_at_tj_max_is_refused() -> None:
     with pytest.raises(MosfetCheckError, match="ambient"):
         check_mosfet(PART, MosfetPoint(vds=10, id=1, drive=10, ambient=175))
+
+
+def test_p_channel_record_is_read_by_magnitude() -> None:
+    # A P-channel record stores its threshold signed (-2 .. -4 V); the worse part is the
+    # larger magnitude, 4 V. Drive 6 V: Rds = 0.2 x (10 - 4)/(6 - 4) = 0.6 ohm (hand).
+    from types import SimpleNamespace
+
+    from partsdb.mosfet_loss import params_from_record
+
+    record = SimpleNamespace(designation="XP1", polarity="p", vds=60.0, vgs_max=20.0,
+                             id_max=5.0, id_max_ref=None, ptot=2.0, ptot_ref="ambient",
+                             tj_max=150.0, rth_jc=None, rds_on=0.2, rds_on_vgs=10.0,
+                             vgs_th_min=-2.0, vgs_th_max=-4.0, qg=None, package="SO-8")
+    params = params_from_record(record)
+    assert params.vgs_th_max == 4.0
+    r = check_mosfet(params, MosfetPoint(vds=30, id=1, drive=6, ambient=25))
+    assert r.rds_on_drive == pytest.approx(0.6)
