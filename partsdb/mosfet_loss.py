@@ -63,6 +63,8 @@ class MosfetParams:
     vds_max: float | None = None
     vgs_max: float | None = None
     id_max: float | None = None
+    id_max_ref: str | None = None
+    """"case" or "ambient": where Id max is stated at 25 °C (None: as ``ptot_ref``)."""
     ptot: float | None = None
     ptot_ref: str | None = None
     tj_max: float | None = None
@@ -257,6 +259,9 @@ def check_mosfet(params: MosfetParams, point: MosfetPoint,
               _limit("vgs", point.drive, params.vgs_max, policy.voltage, "V",
                      "gate drive against Vgs max")]
     rds_drive, conduction25, sw, t_sw = _losses(params, point, notes)
+    if params.id_max is not None and (params.id_max_ref or params.ptot_ref) == "case":
+        notes.append("Id max is stated at a 25 °C case; with the case hotter the maker's "
+                     "derating curve allows less (common practice)")
     if params.rds_on is not None and conduction25 is None:
         limits[2] = Limit("vgs", params.vgs_th_max, None, point.drive, None, STATUSES[UNDER],
                           None, "V", "drive at or below Vgs(th) max: may not turn on")
@@ -344,7 +349,8 @@ def params_from_record(record: Any) -> MosfetParams:
 
     return MosfetParams(
         name=record.designation, polarity=record.polarity, vds_max=mag("vds"),
-        vgs_max=mag("vgs_max"), id_max=mag("id_max"), ptot=mag("ptot"),
+        vgs_max=mag("vgs_max"), id_max=mag("id_max"),
+        id_max_ref=getattr(record, "id_max_ref", None), ptot=mag("ptot"),
         ptot_ref=getattr(record, "ptot_ref", None), tj_max=getattr(record, "tj_max", None),
         rth_jc=mag("rth_jc"), rds_on=mag("rds_on"), rds_on_vgs=mag("rds_on_vgs"),
         vgs_th_max=max((v for v in (mag("vgs_th_min"), mag("vgs_th_max")) if v is not None),
