@@ -168,9 +168,11 @@ def _device_params(state: CliState, designation: str) -> Any:
 @click.option("--vcc", type=QuantityParam("V", "vcc", positive=False), default=None,
               help="Supply magnitude, e.g. 12V (a PNP stage may be given as -9V).")
 @click.option("--r1", type=QuantityParam("Ω", "r1", positive=False), default=None,
-              help="Divider: collector-side rail to base, e.g. 47k.")
+              help="Divider: collector-side rail to base (jfet-divider: supply to gate), "
+                   "e.g. 47k.")
 @click.option("--r2", type=QuantityParam("Ω", "r2", positive=False), default=None,
-              help="Divider: base to emitter-side rail, e.g. 10k.")
+              help="Divider: base to emitter-side rail (jfet-divider: gate to ground), "
+                   "e.g. 10k.")
 @click.option("--rb", type=QuantityParam("Ω", "rb", positive=False), default=None,
               help="Fixed: rail to base; collector-feedback: collector to base.")
 @click.option("--rc", type=QuantityParam("Ω", "rc", positive=False), default=None,
