@@ -241,7 +241,7 @@ def device_list(state: CliState, polarity: str | None, material: str | None, kin
 
     columns = ["Designation", "Type", "Vceo", "Ic max", "Ptot", "hFE", "fT", "Package", "Stock"]
     if any(d.is_fet for d in devices):  # the kind-dependent columns say what they hold
-        columns[2:7] = ["Vceo/Vds", "Ic/Id max", "Ptot", "hFE/Rds(on)/Idss", "fT/Qg/|yfs|"]
+        columns[2:7] = ["Vceo/Vds", "Ic/Id max", "Ptot", "hFE/Rds(on)/Idss", "fT/Qg/yfs"]
     rows = []
     for d in devices:
         if d.is_fet:

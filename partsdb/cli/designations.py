@@ -20,6 +20,7 @@ from partsdb.cli.common import (
     pass_state,
     print_table,
 )
+from partsdb.device import POLARITY_WORDS
 
 if TYPE_CHECKING:
     from sqlalchemy.orm import Session
@@ -49,7 +50,8 @@ def decode(designation: str, fmt: str) -> None:
         ("Scheme", result.standard),
         ("Registered as", result.registered_as),
         ("Material", result.material_text or result.material),
-        ("Polarity", result.polarity.upper() if result.polarity else None),
+        ("Polarity" if result.family != "fet" else "Channel",
+         POLARITY_WORDS.get(result.polarity, result.polarity) if result.polarity else None),
         ("Device type", result.device_type),
         ("Application", result.application),
         ("Power class", result.power_class),

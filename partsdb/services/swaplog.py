@@ -203,6 +203,12 @@ def audit(session: Session, policy: Policy | str | None = None) -> list[AuditIte
                                    [f"{swap.substitute} is no longer a stored device"]))
             continue
         original = catalog.get_device(session, swap.original)
+        fet = next((d for d in (original, device) if d is not None and d.is_fet), None)
+        if fet is not None:  # the checks below are the bipolar ones
+            items.append(AuditItem(swap, "unchecked", pol.name,
+                                   [f"{fet.designation} is a FET ({fet.kind}): this audit "
+                                    "re-checks bipolar swaps only"]))
+            continue
         if original is not None:
             requirement = Requirement.from_device(original)
         else:

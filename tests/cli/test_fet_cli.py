@@ -81,3 +81,30 @@ def test_bipolar_commands_refuse_a_fet_with_exit_2(run) -> None:  # type: ignore
         assert result.exit_code == 2, args
         assert "HX-N60T: not a bipolar part (N-channel mosfet)" in result.output
         assert "Traceback" not in result.output
+
+
+def test_a_workshop_sheet_with_datasheet_fet_headers(run, tmp_path) -> None:  # type: ignore[no-untyped-def]
+    """Headers as datasheet tables print them ("VDS", "ID", "Rds(on) (mΩ)", "IDSS (mA)",
+    "Vgs(off)", "gfs (mS)") map to the FET fields; bare numbers take the header's unit
+    (hand conversions: 28 mΩ = 0.028 Ω, 6.5 mA = 0.0065 A, 12 mS = 0.012 S)."""
+    sheet = tmp_path / "fets.csv"
+    sheet.write_text(
+        "Type;Kind;Channel;Material;VDS;ID;Rds(on) (mΩ);Rds(on) at Vgs;IDSS (mA);Idss max (mA);"
+        "Vgs(off);Vgs(off) max;gfs (mS)\n"
+        "HX-N70;mosfet;N-ch;si;60;30;28;10;;;;;\n"
+        "HX-J70;jfet;n;si;40;;;;2.6;6.5;-0.5;-2.5;12\n", encoding="utf-8")
+    result = run("import", str(sheet))
+    assert result.exit_code == 0, result.output
+    mos = json.loads(run("device", "show", "HX-N70", "--format", "json").output)
+    assert mos["rds_on"] == pytest.approx(0.028) and mos["id_max"] == 30.0
+    assert mos["polarity"] == "n" and mos["vds"] == 60.0
+    jfet = json.loads(run("device", "show", "HX-J70", "--format", "json").output)
+    assert jfet["idss_min"] == pytest.approx(2.6e-3) and jfet["idss_max"] == pytest.approx(6.5e-3)
+    assert jfet["vgs_off_min"] == -0.5 and jfet["yfs"] == pytest.approx(0.012)
+
+
+def test_substitute_for_a_fet_original_says_not_a_bipolar_part(run) -> None:  # type: ignore[no-untyped-def]
+    run(*ADD_MOSFET)
+    result = run("substitute", "HX-N60T")
+    assert result.exit_code == 2
+    assert "not a bipolar part" in result.output and "Traceback" not in result.output

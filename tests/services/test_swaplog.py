@@ -192,3 +192,17 @@ def test_set_outcome_after_the_fact(shop: Any) -> None:
             swaplog.set_outcome(session, 999, "worked")
         with pytest.raises(swaplog.SwapError, match="outcome: 'maybe'"):
             swaplog.set_outcome(session, swap_id, "maybe")
+
+
+def test_a_recorded_fet_swap_is_listed_unchecked_and_the_audit_goes_on(shop: Any) -> None:
+    """A swap with a FET on either side is recorded, and the (bipolar) audit lists it as
+    unchecked, naming the FET, instead of failing the whole audit."""
+    with shop.session() as session:
+        catalog.add_device(session, {"designation": "QWF1", "kind": "mosfet", "polarity": "n",
+                                     "material": "si", "vds": "60V"})
+        swaplog.add(session, "QW1", "QW2", "J-1", vce_peak=20.0)
+        swaplog.add(session, "QWF0", "QWF1", "J-3")
+    with shop.session() as session:
+        items = swaplog.audit(session)
+    assert [i.verdict for i in items] == ["suitable", "unchecked"]
+    assert "QWF1 is a FET (mosfet)" in items[1].problems[0]
