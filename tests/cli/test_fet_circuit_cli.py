@@ -157,3 +157,49 @@ def test_bad_input_is_one_line_exit_2(db: str, args: list[str], field: str) -> N
     err = r.stderr.strip()
     assert len(err.splitlines()) == 1 and "Traceback" not in r.output, err
     assert field in err, err
+
+
+@pytest.fixture
+def demo(demo_db) -> str:  # type: ignore[no-untyped-def]
+    return str(demo_db.url)
+
+
+@pytest.mark.ngspice
+def test_demo_jfet_swap_fix_holds_in_ngspice(demo: str, tmp_path: Path) -> None:
+    # The demo's mic-preamp JFET 2SK8170 (Idss 2.6..6.5 mA, Vgs(off) -0.4..-1.5 V) replaced by
+    # the low-Idss rank 2SK8171 (1.2..3.0 mA, -0.2..-0.8 V) in a self-bias stage. The records
+    # are only inputs: the oracle is ngspice with NJF cards written here from the raw windows
+    # (typical = geometric means, BETA = Idss/Vp^2).
+    from tests.domain.test_jfet_bias import spice_point
+
+    r = run(demo, "bias", "jfet-self", "--vdd", "15V", "--rd", "2k2", "--rs", "220",
+            "--device", "2SK8170", "--substitute", "2SK8171", "--format", "json")
+    assert r.exit_code == 0, r.output
+    data = json.loads(r.output)
+    orig_idss, orig_vp = math.sqrt(2.6e-3 * 6.5e-3), math.sqrt(0.4 * 1.5)
+    sub_idss, sub_vp = math.sqrt(1.2e-3 * 3.0e-3), math.sqrt(0.2 * 0.8)
+    want, _, _ = spice_point(tmp_path, "self", 15.0, 2200.0, 220.0, orig_idss, orig_vp)
+    assert data["original"]["id"] == pytest.approx(want, rel=0.02)
+    before, _, _ = spice_point(tmp_path, "self", 15.0, 2200.0, 220.0, sub_idss, sub_vp)
+    assert data["substitute"]["id"] == pytest.approx(before, rel=0.02)
+    fix = data["fix"]
+    after, _, _ = spice_point(tmp_path, "self", 15.0, 2200.0, fix["exact"], sub_idss, sub_vp)
+    assert after == pytest.approx(want, rel=0.02)
+    for series in ("e12", "e24"):
+        got, _, _ = spice_point(tmp_path, "self", 15.0, 2200.0, fix[series]["value"],
+                                sub_idss, sub_vp)
+        assert fix[series]["id"] == pytest.approx(got, rel=0.02)
+
+
+def test_demo_mosfet_check_by_hand(demo: str) -> None:
+    # Demo 2SK8610: Rds(on) 0.15 ohm at 10 V, Rth j-c 1.0 K/W, Tj max 150, TO-220 (records
+    # are only inputs). 4 A on a 2 K/W sink with 0.5 K/W mounting at 30 °C:
+    #   Rth = 1 + 0.5 + 2 = 3.5 K/W; P(25 °C) = 16 x 0.15 = 2.4 W;
+    #   Tj = 30 + 8.4 x 1.005^(Tj - 25): 30 -> 38.612 -> 38.990 -> 39.007 -> 39.008 (steady:
+    #   1.005^14.008 = exp(14.008 x 0.0049875) = exp(0.069865) = 1.07236, x 8.4 = 9.008).
+    r = run(demo, "check", "2SK8610", "--vds", "150V", "--id", "4A", "--drive", "10V",
+            "--ambient", "30", "--heatsink", "2", "--case-to-sink", "0.5", "--format", "json")
+    assert r.exit_code == 0, r.output
+    data = json.loads(r.output)
+    assert data["rth_total"] == pytest.approx(3.5)
+    assert data["tj_estimate"] == pytest.approx(39.008, abs=0.01)
