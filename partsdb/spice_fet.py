@@ -8,8 +8,9 @@
   VTO from Vgs(th) (the middle of the window; sign by channel and mode), KP from Rds(on) at its
   test drive through the linear-region law 1/Rds = KP (W/L) (Vgs - Vt) with W = L = 1, so
   KP = 1/(Rds (Vgs - Vt)). With a body diode the card is a ``.subckt`` (drain gate source) of
-  the MOSFET and a diode from source to drain (default IS; TT = trr when the record has it, a
-  rough stand-in for the reverse recovery).
+  the MOSFET and its body diode (anode at the source for N-channel, at the drain for
+  P-channel; default IS; TT = trr when the record has it, a rough stand-in for the reverse
+  recovery).
 """
 
 from __future__ import annotations
@@ -108,7 +109,8 @@ def mosfet_card(p: MosfetCardParams) -> str:
         return "\n".join(lines) + "\n"
     tt = f" TT={p.trr:.6e}" if p.trr is not None else ""
     rough = "; TT = trr, rough" if tt else ""
-    lines += [f"* body diode source to drain (IS 1e-14 A, the SPICE default{rough})",
+    way = "source to drain" if p.polarity == "n" else "drain to source"
+    lines += [f"* body diode, anode to cathode {way} (IS 1e-14 A, the SPICE default{rough})",
               f".subckt {name} d g s",
               f"M1 d g s s {name}_M",
               "D1 s d " + f"{name}_BD" if p.polarity == "n" else "D1 d s " + f"{name}_BD",
