@@ -340,7 +340,7 @@ _TYPE_WORDS: dict[tuple[str, str], str] = {("mosfet", "n"): "NMOS", ("mosfet", "
 
 
 def speed_cell(device: Device) -> str:
-    """The list's last figure: fT of a bipolar part, Qg of a MOSFET, |yfs| of a JFET."""
+    """The list's last figure: fT of a bipolar part, Qg of a MOSFET, yfs of a JFET."""
     name = {"mosfet": "qg", "jfet": "yfs"}.get(device.kind, "ft")
     return device.display(name).replace(" ", "")
 
@@ -366,9 +366,7 @@ def rating_cells(device: Device) -> tuple[str, str, str]:
 
     if device.kind == "mosfet" and device.mode != "depletion":
         return cell("vds"), cell("id_max"), cell("rds_on")
-    if device.kind == "mosfet":  # a depletion MOSFET is chosen by its Idss, like a JFET
-        return cell("vds"), cell("id_max"), window(device.idss_min, device.idss_max, "A")
-    if device.kind == "jfet":
+    if device.kind in FET_KINDS:  # a JFET, or a depletion MOSFET: chosen by its Idss window
         return cell("vds"), cell("id_max"), window(device.idss_min, device.idss_max, "A")
     lo, hi = device.hfe_min, device.hfe_max
     hfe = ("—" if lo is None and hi is None else f"{lo:g}+" if hi is None

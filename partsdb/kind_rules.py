@@ -34,8 +34,14 @@ def check_kind_rules(columns: Mapping[str, Any], n: int, kinds: Any, fet: np.nda
     for spec in FIELDS:
         if spec.kinds is None or spec.name not in columns or spec.name == "mode":
             continue
-        present = _present(columns[spec.name], n) if spec.kind != "flag" else np.array(
-            [v is not None for v in columns[spec.name]], dtype=bool)
+        if spec.name in cols:  # a number column: NaN is blank (no pass over the cells)
+            present = ~np.isnan(cols[spec.name])
+        elif spec.kind == "flag":
+            present = np.array([v is not None for v in columns[spec.name]], dtype=bool)
+        else:
+            present = _present(columns[spec.name], n)
+        if not present.any():
+            continue
         wrong = present & ~np.isin(kinds, np.array(sorted(spec.kinds), dtype=object))
         flag(wrong, spec.name, lambda i, s=spec: (
             f"{s.name}: a {_KIND_WORDS[s.kinds]} field ({s.label}), not used on a "  # type: ignore[index]

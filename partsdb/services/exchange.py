@@ -244,9 +244,15 @@ def _parse_quantity_column(name: str, cells: pd.Series, problems: dict[int, list
     import numpy as np
 
     spec = FIELD_BY_NAME[name]
-    text = _stripped(cells)
-    if spec.sign == "magnitude":
-        text = [strip_plus_minus(cell) for cell in text]
+    raw = cells.tolist()
+    # One C-speed scan of the joined column answers "all blank?" (most FET columns of a mostly
+    # bipolar file) and "any ± here?" before any pass over the cells.
+    joined = "\n".join(raw)
+    if not joined.strip():
+        return np.full(len(raw), np.nan)
+    text = [cell.strip() for cell in raw]
+    if spec.sign == "magnitude" and ("±" in joined or "+" in joined):
+        text = [strip_plus_minus(cell) if cell[:1] in ("±", "+") else cell for cell in text]
     numbers, errors = parse_quantities(text, spec.unit if spec.kind == "quantity" else "", name,
                                        bare_scale=scale)
     for pos, err in errors.items():
@@ -328,6 +334,10 @@ def _parse_chunk(frame: pd.DataFrame, scales: dict[str, float] | None = None
         if spec.name not in frame.columns:
             continue
         cells = frame[spec.name].astype(str)
+        if spec.kind in ("choice", "flag") and not spec.required \
+                and not "\n".join(cells.tolist()).strip():
+            columns[spec.name] = [None] * n  # an all-blank optional column (one C-speed scan)
+            continue
         if spec.kind in ("quantity", "count"):
             columns[spec.name] = _parse_quantity_column(spec.name, cells, problems,
                                                         (scales or {}).get(spec.name, 1.0))

@@ -14,6 +14,7 @@ from dataclasses import dataclass
 from sqlalchemy import select
 from sqlalchemy.orm import Session
 
+from partsdb.device import FET_KINDS
 from partsdb.services.stock import _device_totals
 from partsdb.storage.models import DeviceRow
 
@@ -95,7 +96,9 @@ def reorder_list(session: Session) -> list[ReorderLine]:
         target = target_of(low, r.reorder_to)
         if target - have <= 0:
             continue
-        sub = best_substitute(session, r.designation) if r.obsolete else None
+        # The substitute finder ranks bipolar parts only: an obsolete FET gets no suggestion.
+        sub = best_substitute(session, r.designation) \
+            if r.obsolete and r.kind not in FET_KINDS else None
         lines.append(ReorderLine(r.designation, have, low, target, target - have,
                                  bool(r.obsolete), sub))
     return lines
