@@ -22,13 +22,14 @@ from partsdb.cli.common import (
     pass_state,
     print_table,
 )
+from partsdb.cli.fet_circuit import FET_KINDS, fet_card, run_jfet_bias, run_mosfet_check
 
 if TYPE_CHECKING:
     from partsdb.bias import BiasReport, StageResult
     from partsdb.derating import Policy
     from partsdb.operating import OperatingCheck
 
-NETWORK_CHOICES = ("divider", "collector-feedback", "fixed")
+NETWORK_CHOICES = ("divider", "collector-feedback", "fixed", "jfet-self", "jfet-divider")
 
 
 def _q(value: float | None, unit: str, digits: int = 3) -> str:
@@ -52,10 +53,21 @@ def _policy(name: str) -> Policy:
 
 @click.command()
 @click.argument("designation")
-@click.option("--vce", type=QuantityParam("V", "vce", positive=False), required=True,
-              help="Collector-emitter voltage magnitude at the operating point, e.g. 12V.")
-@click.option("--ic", type=QuantityParam("A", "ic", positive=False), required=True,
-              help="Collector current magnitude, e.g. 150mA.")
+@click.option("--vce", type=QuantityParam("V", "vce", positive=False), default=None,
+              help="Bipolar: collector-emitter voltage magnitude at the operating point, "
+                   "e.g. 12V.")
+@click.option("--ic", type=QuantityParam("A", "ic", positive=False), default=None,
+              help="Bipolar: collector current magnitude, e.g. 150mA.")
+@click.option("--vds", type=QuantityParam("V", "vds", positive=False), default=None,
+              help="MOSFET: drain-source voltage it blocks and switches, e.g. 48V.")
+@click.option("--id", "id_", type=QuantityParam("A", "id", positive=False), default=None,
+              help="MOSFET: RMS drain current while it conducts, e.g. 5A.")
+@click.option("--drive", type=QuantityParam("V", "drive", positive=False), default=None,
+              help="MOSFET: gate-source drive while on, e.g. 10V.")
+@click.option("--fsw", type=QuantityParam("Hz", "fsw", positive=False), default=None,
+              help="MOSFET: switching frequency, e.g. 100kHz (adds a switching-loss estimate).")
+@click.option("--gate-current", type=QuantityParam("A", "gate_current"), default=None,
+              help="MOSFET, with --fsw: the driver's gate current, e.g. 500mA.")
 @click.option("--power", type=QuantityParam("W", "power", positive=False), default=None,
               help="Dissipation if not Vce x Ic (e.g. with a pulsed or AC load), e.g. 2W.")
 @click.option("--ambient", type=TemperatureParam("ambient"), default=25.0, show_default=True,
@@ -68,10 +80,17 @@ def _policy(name: str) -> Policy:
               help="Derating policy name (see the policies command).")
 @format_option("table", "json")
 @pass_state
-def check(state: CliState, designation: str, vce: float, ic: float, power: float | None,
+def check(state: CliState, designation: str, vce: float | None, ic: float | None,
+          vds: float | None, id_: float | None, drive: float | None, fsw: float | None,
+          gate_current: float | None, power: float | None,
           ambient: float, heatsink: float | None, case_to_sink: float | None,
           policy_name: str, fmt: str) -> None:
-    """Grade a device at one operating point: Vce, Ic, dissipation and junction temperature.
+    """Grade a device at one operating point: voltage, current, dissipation and junction
+    temperature.
+
+    A bipolar part takes --vce and --ic. A MOSFET takes --vds, --id and --drive (and
+    optionally --fsw with --gate-current): conduction loss at a self-consistent junction
+    temperature, a switching-loss estimate and the heat sink needed.
 
     Example: partsdb check XK101 --vce 9V --ic 20mA --ambient 40
     """
@@ -80,6 +99,24 @@ def check(state: CliState, designation: str, vce: float, ic: float, power: float
 
     policy = _policy(policy_name)
     device = load_device(state, designation)
+    fet_options = [n for n, v in (("--vds", vds), ("--id", id_), ("--drive", drive),
+                                  ("--fsw", fsw), ("--gate-current", gate_current))
+                   if v is not None]
+    if device.kind in FET_KINDS or fet_options:
+        if device.kind == "jfet":
+            fail(f"{device.designation}: not a bipolar part ({device.polarity_text} jfet); "
+                 "check takes a MOSFET or a bipolar part (a JFET stage: partsdb bias "
+                 "jfet-self)")
+        if vce is not None or ic is not None or power is not None:
+            what = (f"{device.designation}: not a bipolar part ({device.polarity_text} "
+                    f"{device.kind})" if device.kind in FET_KINDS else "--vce/--ic/--power")
+            fail(f"{what}; --vce/--ic/--power are for a bipolar part, a MOSFET takes --vds, "
+                 "--id and --drive")
+        run_mosfet_check(device, vds, id_, drive, fsw, gate_current, ambient, heatsink,
+                         case_to_sink, policy, fmt)
+        return
+    if vce is None or ic is None:
+        fail("--vce, --ic: missing; expected both for a bipolar part")
     try:
         result = check_operating_point(
             device, vce, ic, power=power, ambient=ambient, heatsink=heatsink,
@@ -128,16 +165,24 @@ def _device_params(state: CliState, designation: str) -> Any:
 
 @click.command()
 @click.argument("network", type=click.Choice(NETWORK_CHOICES))
-@click.option("--vcc", type=QuantityParam("V", "vcc", positive=False), required=True,
+@click.option("--vcc", type=QuantityParam("V", "vcc", positive=False), default=None,
               help="Supply magnitude, e.g. 12V (a PNP stage may be given as -9V).")
 @click.option("--r1", type=QuantityParam("Ω", "r1", positive=False), default=None,
-              help="Divider: collector-side rail to base, e.g. 47k.")
+              help="Divider: collector-side rail to base (jfet-divider: supply to gate), "
+                   "e.g. 47k.")
 @click.option("--r2", type=QuantityParam("Ω", "r2", positive=False), default=None,
-              help="Divider: base to emitter-side rail, e.g. 10k.")
+              help="Divider: base to emitter-side rail (jfet-divider: gate to ground), "
+                   "e.g. 10k.")
 @click.option("--rb", type=QuantityParam("Ω", "rb", positive=False), default=None,
               help="Fixed: rail to base; collector-feedback: collector to base.")
-@click.option("--rc", type=QuantityParam("Ω", "rc", positive=False), required=True,
+@click.option("--rc", type=QuantityParam("Ω", "rc", positive=False), default=None,
               help="Collector resistor, e.g. 2k2.")
+@click.option("--vdd", type=QuantityParam("V", "vdd", positive=False), default=None,
+              help="JFET networks: supply, e.g. 20V (a P-channel stage may be given as -15V).")
+@click.option("--rd", type=QuantityParam("Ω", "rd", positive=False), default=None,
+              help="JFET networks: drain resistor, e.g. 3k3.")
+@click.option("--rs", type=QuantityParam("Ω", "rs", positive=False), default=None,
+              help="JFET networks: source resistor, e.g. 1k (0 for none).")
 @click.option("--re", type=QuantityParam("Ω", "re", positive=False), default=None,
               help="Emitter resistor, e.g. 470R; required for a divider, 0 when omitted "
                    "for the others.")
@@ -161,8 +206,9 @@ def _device_params(state: CliState, designation: str) -> Any:
 @click.option("--netlist", is_flag=True, help="Also print the ngspice netlist of each stage.")
 @format_option("table", "json")
 @pass_state
-def bias(state: CliState, network: str, vcc: float, r1: float | None, r2: float | None,
-         rb: float | None, rc: float, re: float | None, device_name: str | None,
+def bias(state: CliState, network: str, vcc: float | None, r1: float | None,
+         r2: float | None, rb: float | None, rc: float | None, vdd: float | None,
+         rd: float | None, rs: float | None, re: float | None, device_name: str | None,
          polarity: str | None, hfe: float | None, vbe: float | None, vbe_ic: float | None,
          substitute_name: str | None, ambient: float, no_leakage: bool, model: str,
          netlist: bool, fmt: str) -> None:
@@ -173,11 +219,31 @@ def bias(state: CliState, network: str, vcc: float, r1: float | None, r2: float 
     --polarity --hfe --vbe. With --substitute, shows the shift in Ic and Vce and the one
     resistor (R2 or Rb) to change, with its nearest E12 and E24 values. Values are magnitudes.
 
+    JFET networks (common source, Shockley's equation, the Idss and Vgs(off) windows'
+    corners): jfet-self (--vdd --rd --rs --device) and jfet-divider (adding --r1 supply to
+    gate, --r2 gate to ground). With --substitute, both parts' points and the source resistor
+    that restores the original's drain current.
+
     Example: partsdb bias divider --vcc 9V --r1 47k --r2 10k --rc 2k2 --re 470 --device XK101
     --substitute XK202
     """
     from partsdb.bias import BiasError, Stage, TransistorParams, analyse_bias
 
+    if network in ("jfet-self", "jfet-divider"):
+        bipolar = [n for n, v in (("--vcc", vcc), ("--rb", rb), ("--rc", rc), ("--re", re),
+                                  ("--polarity", polarity), ("--hfe", hfe), ("--vbe", vbe),
+                                  ("--vbe-ic", vbe_ic)) if v is not None]
+        if bipolar or no_leakage or netlist or model != "auto" or ambient != 25.0:
+            fail(f"{', '.join(bipolar) or 'option'}: not used by {network}; expected --vdd, "
+                 "--rd, --rs, --device (and --r1 --r2 for jfet-divider)")
+        run_jfet_bias(state, network, vdd, rd, rs, r1, r2, device_name, substitute_name, fmt)
+        return
+    jfet_only = [n for n, v in (("--vdd", vdd), ("--rd", rd), ("--rs", rs)) if v is not None]
+    if jfet_only:
+        fail(f"{', '.join(jfet_only)}: for the JFET networks; expected --vcc, --rc, --re for "
+             f"the {network} network")
+    if vcc is None or rc is None:
+        fail("--vcc, --rc: missing; expected both for a bipolar stage")
     direct = [name for name, v in (("--polarity", polarity), ("--hfe", hfe), ("--vbe", vbe))
               if v is not None]
     if device_name is not None and direct:
@@ -293,11 +359,18 @@ def _print_bias(report: BiasReport) -> None:
 def spice(state: CliState, designation: str) -> None:
     """Print a SPICE .model card for a stored device (BF, IS, TF derived from its record).
 
+    A JFET gets an NJF/PJF card (VTO = Vgs(off), BETA = Idss/Vp^2); a MOSFET an approximate
+    level-1 card (VTO from Vgs(th), KP from Rds(on) at its drive), with its body diode.
+
     Example: partsdb spice XK101 > xk101.lib
     """
     from partsdb.spice import model_card
 
-    click.echo(model_card(load_device(state, designation)), nl=False)
+    device = load_device(state, designation)
+    if device.kind in FET_KINDS:
+        click.echo(fet_card(device), nl=False)
+        return
+    click.echo(model_card(device), nl=False)
 
 
 COMMANDS = (check, bias, spice)

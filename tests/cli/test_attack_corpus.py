@@ -113,3 +113,21 @@ def test_every_hostile_fet_field_is_refused_naming_the_field(db_url: str) -> Non
         assert case["field"] in result.stderr, f"{case['why']}: {result.stderr}"
         assert dump(db) == before, case["why"]
     db.dispose()
+
+
+def test_every_fet_circuit_case_is_refused_and_writes_nothing(db_url: str) -> None:
+    db = _workshop(db_url)
+    with db.session() as session:
+        catalog.add_device(session, {"designation": "QJ1", "kind": "jfet", "polarity": "n",
+                                     "material": "si", "idss_min": "2mA", "idss_max": "8mA",
+                                     "vgs_off_min": "-1V", "vgs_off_max": "-4V"})
+        catalog.add_device(session, {"designation": "QM1", "kind": "mosfet", "material": "si",
+                                     "mode": "enhancement", "polarity": "n", "vds": "100V",
+                                     "id_max": "20A", "rds_on": "0.1", "rds_on_vgs": "10V",
+                                     "tj_max": "150", "ptot": "50W", "ptot_ref": "case"})
+    before = dump(db)
+    for case in _load("fet_circuit_cases.json"):
+        result = CliRunner().invoke(main, ["--db", db_url, *case["command"]])
+        _refused(result, case["exit"], one_line=True, case=case["why"])
+        assert dump(db) == before, case["why"]
+    db.dispose()
