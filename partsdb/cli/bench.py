@@ -13,7 +13,7 @@ import click
 from partsdb.cli.common import emit_json, fail, format_option
 
 _UNITS = {"import_rows_per_s": "rows/s", "import_mapped_rows_per_s": "rows/s",
-          "rank_ms": "ms", "rank_cold_ms": "ms",
+          "rank_ms": "ms", "rank_cold_ms": "ms", "rank_uncached_ms": "ms",
           "rank_floor_ms": "ms", "rank_ratio": "x", "find_ms": "ms", "find_floor_ms": "ms",
           "find_ratio": "x", "find_agreement": "share", "cli_help_s": "s",
           "cli_substitute_s": "s", "cli_substitute_catalog_s": "s", "peak_rss_mb": "MiB"}
