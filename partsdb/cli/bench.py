@@ -6,6 +6,8 @@ Progress goes to stderr, the result to stdout.
 
 from __future__ import annotations
 
+from collections.abc import Callable
+from pathlib import Path
 from typing import Any
 
 import click
@@ -16,7 +18,8 @@ _UNITS = {"import_rows_per_s": "rows/s", "import_mapped_rows_per_s": "rows/s",
           "rank_ms": "ms", "rank_cold_ms": "ms", "rank_uncached_ms": "ms",
           "rank_floor_ms": "ms", "rank_ratio": "x", "find_ms": "ms", "find_floor_ms": "ms",
           "find_ratio": "x", "find_agreement": "share", "cli_help_s": "s",
-          "cli_substitute_s": "s", "cli_substitute_catalog_s": "s", "peak_rss_mb": "MiB"}
+          "cli_substitute_s": "s", "cli_substitute_catalog_s": "s", "peak_rss_mb": "MiB",
+          "tui_first_screen_s": "s", "tui_keystroke_ms": "ms"}
 
 
 class _Sizes(click.ParamType):
@@ -52,8 +55,10 @@ def _number(value: float | None) -> str:
                    "the other and print how each figure grew.")
 @click.option("--repeat", type=click.IntRange(min=1, max=1000), default=5, show_default=True,
               help="Timed runs per figure (the median is reported), after one warm-up run.")
+@click.option("--tui", "with_tui", is_flag=True,
+              help="Also time the terminal UI on the catalog (first screen, one search key).")
 @format_option("table", "json")
-def bench(devices: list[int], repeat: int, fmt: str) -> None:
+def bench(devices: list[int], repeat: int, with_tui: bool, fmt: str) -> None:
     """Measure import, substitute ranking, fuzzy find and start-up on a synthetic catalog.
 
     Builds an invented catalog of DEVICES rows (fixed seed) in a temporary database through the
@@ -75,10 +80,15 @@ def bench(devices: list[int], repeat: int, fmt: str) -> None:
                 tasks[step] = progress.add_task(step, total=total)
             progress.update(tasks[step], completed=done, total=total)
 
+        extra: Callable[[Path], dict[str, float]] | None = None
+        if with_tui:
+            from tui.timing import measure_tui
+
+            extra = measure_tui
         results = []
         for size in devices:
             try:
-                results.append(run_bench(size, repeat, progress=report))
+                results.append(run_bench(size, repeat, progress=report, extra=extra))
             except ValueError as err:
                 fail(str(err))
             tasks.clear()
@@ -102,10 +112,10 @@ def bench(devices: list[int], repeat: int, fmt: str) -> None:
 def growth(small: Any, large: Any) -> dict[str, float | None]:
     """How much each figure's time grew from ``small`` to ``large`` (a rate as the time of the
     whole catalog; a share and memory as they are)."""
-    from partsdb.perf.bench import METRICS
+    from partsdb.perf.bench import METRICS, TUI_METRICS
 
     grown: dict[str, float | None] = {}
-    for name in METRICS:
+    for name in (*METRICS, *TUI_METRICS):
         a, b = small.metrics.get(name), large.metrics.get(name)
         if a is None or b is None or a == 0 or b == 0:
             grown[name] = None
@@ -138,7 +148,7 @@ def _print_table(result: Any) -> None:
     from rich.console import Console
     from rich.table import Table
 
-    from partsdb.perf.bench import METRICS, TARGETS, TARGETS_BY_SIZE, meets_target
+    from partsdb.perf.bench import METRICS, TARGETS, TARGETS_BY_SIZE, TUI_METRICS, meets_target
 
     machine = result.machine
     judged = result.devices in TARGETS_BY_SIZE
@@ -148,7 +158,7 @@ def _print_table(result: Any) -> None:
                         f"Python {machine['python']}", header_style="bold")
     for column in ("Figure", "Value", "Unit", "Target", "Met"):
         table.add_column(column, justify="right" if column in ("Value", "Target") else "left")
-    for name in METRICS:
+    for name in (*METRICS, *(m for m in TUI_METRICS if m in result.metrics)):
         value = result.metrics.get(name)
         target = targets.get(name)
         # The targets are set for two catalog sizes; other sizes are shown, not judged.

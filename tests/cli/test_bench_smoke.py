@@ -142,3 +142,14 @@ def test_targets_are_judged_at_the_million_too() -> None:
     assert meets_target("find_agreement", 0.99, MILLION) is True
     assert meets_target("find_ms", 30, 500_000) is None  # no targets at that size
     assert set(TARGETS_MILLION) <= set(METRICS)
+
+
+def test_tui_figures_through_the_pilot() -> None:
+    result = CliRunner().invoke(main, ["bench", "--devices", "300", "--repeat", "1", "--tui",
+                                       "--format", "json"])
+    assert result.exit_code == 0, result.output + (result.stderr or "")
+    data = json.loads(result.stdout)
+    from partsdb.perf.bench import TUI_METRICS
+
+    assert set(data) == {"devices", "machine", *METRICS, *TUI_METRICS}
+    assert 0 < data["tui_first_screen_s"] < 60 and 0 < data["tui_keystroke_ms"] < 60_000
