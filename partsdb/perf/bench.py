@@ -533,14 +533,17 @@ def write_mapped_sheet(source: Path, target: Path) -> None:
     in mA and fT bare numbers in MHz (cells with their own unit kept), outlines lower-cased."""
     import pandas as pd
 
-    frame = pd.read_csv(source, dtype=str, keep_default_na=False)
-    for name, factor in (("ic_max", 1e3), ("ft", 1e-6)):
-        numbers = pd.to_numeric(frame[name], errors="coerce")
-        bare = numbers.notna()
-        frame.loc[bare, name] = (numbers[bare] * factor).map(lambda v: f"{v:.6g}")
-    frame["package"] = frame["package"].str.lower().str.replace("-", "", regex=False)
-    frame = frame.rename(columns=SHEET_HEADERS)
-    frame.to_csv(target, sep=";", index=False, lineterminator="\n")
+    # In chunks: a million rows of text cells at once would hold about 1 GiB of Python strings.
+    with open(target, "w", encoding="utf-8", newline="") as out:
+        for i, frame in enumerate(pd.read_csv(source, dtype=str, keep_default_na=False,
+                                              chunksize=50_000)):
+            for name, factor in (("ic_max", 1e3), ("ft", 1e-6)):
+                numbers = pd.to_numeric(frame[name], errors="coerce")
+                bare = numbers.notna()
+                frame.loc[bare, name] = (numbers[bare] * factor).map(lambda v: f"{v:.6g}")
+            frame["package"] = frame["package"].str.lower().str.replace("-", "", regex=False)
+            frame = frame.rename(columns=SHEET_HEADERS)
+            frame.to_csv(out, sep=";", index=False, header=i == 0, lineterminator="\n")
 
 
 def run_bench(devices: int = DEFAULT_DEVICES, repeat: int = DEFAULT_REPEAT, *,
