@@ -3,8 +3,10 @@
 A :class:`SearchIndex` is built once from the catalog's designations (and optionally notes):
 normalised keys, a sorted key array for prefix look-ups, a dict for exact look-ups, and lower-cased
 notes. ``find`` then answers one query without a Python loop over the rows: exact and prefix hits
-come from the dict and a binary search, close spellings from one rapidfuzz ``cdist`` pass in C,
-words in notes from numpy's vectorised substring search.
+come from binary searches in the sorted keys, close spellings from rapidfuzz on the keys that
+:class:`partsdb.findindex.CloseIndex` cannot rule out (the same result as scoring every key,
+which ``find(..., exhaustive=True)`` does), words in notes from numpy's vectorised substring
+search.
 
 Ranking, strongest first (the score bands keep the order when hits are merged):
   exact normalised match 100; prefix 91-99; a body marking without "2S" matched to the
@@ -24,10 +26,9 @@ from dataclasses import asdict, dataclass
 from typing import Any
 
 import numpy as np
-from rapidfuzz import process
-from rapidfuzz.distance import OSA
 
 from partsdb.designations import JIS_MARKING_LETTERS, normalize
+from partsdb.findindex import CloseIndex, scan_close
 
 EXACT = 100
 PREFIX_BEST, PREFIX_FLOOR = 99, 91
@@ -108,14 +109,13 @@ class SearchIndex:
         self._designations: list[str] = list(designations)
         n = len(self._designations)
         self._keys: list[str] = [normalize(d) for d in self._designations]
-        self._exact: dict[str, list[int]] = {}
-        for i, key in enumerate(self._keys):
-            self._exact.setdefault(key, []).append(i)
         self._lengths = np.fromiter(map(len, self._keys), dtype=np.int32, count=n)
         self._max_len = int(self._lengths.max()) if n else 0
         keys_array = np.array(self._keys, dtype=f"<U{max(self._max_len, 1)}")
         self._order = np.argsort(keys_array, kind="stable")
         self._sorted = keys_array[self._order]
+        del keys_array
+        self._close_index = CloseIndex(self._keys)
         self._note_rows = np.zeros(0, dtype=np.int64)
         self._note_text: np.ndarray | None = None
         self._note_blob = ""
@@ -140,6 +140,14 @@ class SearchIndex:
 
     # ------------------------------------------------------------------ passes
 
+    def _exact(self, key: str) -> np.ndarray:
+        """Positions of the keys equal to ``key``, in input order."""
+        if not key or len(key) > self._max_len:
+            return self._order[:0]
+        lo = int(np.searchsorted(self._sorted, key, side="left"))
+        hi = int(np.searchsorted(self._sorted, key, side="right"))
+        return self._order[lo:hi]  # a stable sort keeps equal keys in input order
+
     def _prefixed(self, q: str, limit: int) -> list[tuple[int, int]]:
         """Up to ``limit`` (position, extra length) of keys that start with ``q`` (not equal)."""
         if not q or len(q) >= self._max_len:
@@ -155,18 +163,13 @@ class SearchIndex:
             positions, lengths = positions[pick], lengths[pick]
         return [(int(p), int(n) - len(q)) for p, n in zip(positions, lengths, strict=True)]
 
-    def _close(self, q: str, limit: int) -> list[tuple[int, float]]:
-        """Up to a few times ``limit`` (position, similarity 0-1) of close spellings."""
-        n = len(self._keys)
-        if n == 0:
-            return []
-        sims = process.cdist([q], self._keys, scorer=OSA.normalized_similarity,
-                             dtype=np.float32)[0]
+    def _close(self, q: str, limit: int, exhaustive: bool) -> list[tuple[int, float]]:
+        """Up to a few times ``limit`` (position, similarity 0-1) of close spellings: the best
+        by similarity, then position."""
         k = max(4 * limit, 40)
-        pick = np.flatnonzero(sims >= FUZZY_CUTOFF)  # usually few: no selection over every key
-        if pick.shape[0] > k:
-            pick = pick[np.argpartition(-sims[pick], k - 1)[:k]]
-        return [(int(p), float(sims[p])) for p in pick]
+        if exhaustive:
+            return scan_close(q, self._keys, k, FUZZY_CUTOFF)
+        return self._close_index.close(q, k, FUZZY_CUTOFF)
 
     def _in_notes(self, query: str, limit: int) -> list[tuple[int, float]]:
         """(position, fraction of query words found) for notes holding any query word."""
@@ -187,8 +190,12 @@ class SearchIndex:
 
     # ------------------------------------------------------------------ find
 
-    def find(self, query: str, limit: int = 10) -> list[Hit]:
-        """The best ``limit`` hits for ``query``, strongest first (see the module docstring)."""
+    def find(self, query: str, limit: int = 10, *, exhaustive: bool = False) -> list[Hit]:
+        """The best ``limit`` hits for ``query``, strongest first (see the module docstring).
+
+        ``exhaustive`` scores every key for close spellings instead of the keys the index
+        cannot rule out: the same hits, slower; the reference the bench compares with.
+        """
         if limit < 1:
             raise ValueError(f"limit: {limit!r} is not valid; expected 1 or more")
         q = normalize(query)
@@ -199,7 +206,7 @@ class SearchIndex:
                 best[position] = (score, reason)
 
         def offer_key(key: str, score: int, reason: str) -> None:
-            for position in self._exact.get(key, ()):
+            for position in self._exact(key).tolist():
                 offer(position, score, reason)
 
         if q:
@@ -211,7 +218,7 @@ class SearchIndex:
                       f"prefix (gain group {tail})" if gain else "prefix")
             self._jis(q, limit, offer, offer_key)
             self._slips(q, offer_key)
-            for position, sim in self._close(q, limit):
+            for position, sim in self._close(q, limit, exhaustive):
                 if position not in best:
                     offer(position, min(FUZZY_CAP, round(100 * sim)),
                           describe_slip(q, self._keys[position]))

@@ -22,10 +22,12 @@ _backend_counts: Counter[str] = Counter()
 @pytest.fixture(autouse=True)
 def _private_user_dirs(tmp_path_factory: pytest.TempPathFactory,
                        monkeypatch: pytest.MonkeyPatch) -> None:
-    """Point the per-user data and config directories at a temporary folder."""
+    """Point the per-user data, config and cache directories at a temporary folder."""
     home = tmp_path_factory.mktemp("home")
     monkeypatch.setenv("XDG_DATA_HOME", str(home / "data"))
     monkeypatch.setenv("XDG_CONFIG_HOME", str(home / "config"))
+    monkeypatch.setenv("XDG_CACHE_HOME", str(home / "cache"))
+    monkeypatch.delenv("PARTSDB_CACHE_DIR", raising=False)
     monkeypatch.delenv("PARTSDB_DB", raising=False)
     monkeypatch.delenv("PARTSDB_CONFIG", raising=False)
 

@@ -1,8 +1,9 @@
 """Substitution glue: catalog columns from the database, requirement, stock, history, ranking.
 
 The candidate columns are read with raw DBAPI queries into numpy (never ORM objects) and kept
-per database, keyed on (row count, newest ``updated_at``), so repeated rankings in one process
-reuse the arrays; any device added, edited, imported or removed changes the key.
+per database, keyed on (row count, newest ``updated_at``, highest id), so repeated rankings in
+one process reuse the arrays; any device added, edited, imported or removed changes the key.
+A new process finds them in :mod:`partsdb.services.colcache` (SQLite only), under the same key.
 
 A ranking needs only the rows of the requirement's polarity and kind (the hard constraints), so
 :func:`rank_substitutes` reads and caches that group alone (:func:`load_group`: one query
@@ -92,10 +93,11 @@ _GROUP_SQL = (_NUMBER_SELECT + ", designation, key, COALESCE(package, '') || '|'
 
 
 def catalog_version(session: Session) -> tuple[Any, ...]:
-    """(row count, newest updated_at): changes whenever a device is added, edited or removed."""
+    """(row count, newest updated_at, highest id): changes whenever a device is added, edited
+    or removed."""
     row = session.connection().exec_driver_sql(
-        "SELECT COUNT(*), MAX(updated_at) FROM devices").one()
-    return (int(row[0]), str(row[1]))
+        "SELECT COUNT(*), MAX(updated_at), MAX(id) FROM devices").one()
+    return (int(row[0]), str(row[1]), str(row[2]))
 
 
 def read_catalog(session: Session) -> CatalogColumns:
@@ -174,8 +176,10 @@ def _columns_from_rows(number_rows: list[Any], text_rows: list[Any], text_at: in
         pinout = (names_, np.array(per_row, dtype=np.int16))
     packages, package_codes = package
     pinouts, pinout_codes = pinout
+    # Designations and keys as fixed-width Unicode arrays: no Python object per row is kept
+    # (the rows shown become strings when read).
     return CatalogColumns(
-        designation=np.array(text[0], dtype=object), key=np.array(text[1], dtype=object),
+        designation=np.array(text[0], dtype=str), key=np.array(text[1], dtype=str),
         polarity=codes[0], kind=codes[1], material=codes[2],
         case_rated=((packed >> 6) & 1).astype(bool),
         package=package_codes, pinout=pinout_codes,
@@ -214,6 +218,21 @@ def load_catalog(session: Session) -> CatalogColumns:
     return _cached(session, "all", lambda: read_catalog(session))[0]
 
 
+def _from_disk(session: Session, part: str, version: tuple[Any, ...],
+               read: Callable[[], CatalogColumns]) -> CatalogColumns:
+    """``read()``, or the columns a process before kept on disk at this ``version``."""
+    from partsdb.services import colcache
+
+    database = colcache.database_path(session)
+    if database is None:
+        return read()
+    columns = colcache.load(database, part, version)
+    if columns is None:
+        columns = read()
+        colcache.store(database, part, version, columns)
+    return columns
+
+
 def load_group(session: Session, polarity: str, kind: str) -> tuple[CatalogColumns, int]:
     """(columns of one polarity and kind, rows in the whole catalog), cached like
     :func:`load_catalog`; the whole catalog's cached columns serve when already loaded."""
@@ -237,7 +256,7 @@ def _cached(session: Session, part: str, read: Any, version: tuple[Any, ...] | N
         hit = _CACHE.get(key)
         if hit is not None and hit[0] == version and part in hit[1]:
             return hit[1][part], version
-    columns = read()
+    columns = _from_disk(session, part, version, read)
     with _LOCK:
         hit = _CACHE.get(key)
         if hit is None or hit[0] != version:
@@ -247,9 +266,17 @@ def _cached(session: Session, part: str, read: Any, version: tuple[Any, ...] | N
     return columns, version
 
 
-def clear_cache() -> None:
+def clear_cache(session: Session | None = None) -> None:
+    """Forget the columns kept in this process; with ``session``, also those kept on disk for
+    its database."""
     with _LOCK:
         _CACHE.clear()
+    if session is not None:
+        from partsdb.services import colcache
+
+        database = colcache.database_path(session)
+        if database is not None:
+            colcache.remove(database)
 
 
 def stock_columns(session: Session, cat: CatalogColumns

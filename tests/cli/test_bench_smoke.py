@@ -105,3 +105,51 @@ def test_meets_target_reads_the_direction() -> None:
 def test_sloppy_query_is_a_misspelling() -> None:
     assert sloppy_query("2SC1815") == "2sc8115"
     assert sloppy_query("OC7") == "oc"
+
+
+def test_two_sizes_print_the_growth_of_each_figure() -> None:
+    result = CliRunner().invoke(main, ["bench", "--devices", "300,600", "--repeat", "1",
+                                       "--format", "json"])
+    assert result.exit_code == 0, result.output + (result.stderr or "")
+    data = json.loads(result.stdout)
+    small, large = data["runs"]
+    assert (small["devices"], large["devices"]) == (300, 600)
+    # Growth of a time is the ratio of the two times; of a rate, the ratio of the whole
+    # catalog's import times (rows / rate): 600 / r2 over 300 / r1.
+    assert data["growth"]["find_ms"] == pytest.approx(large["find_ms"] / small["find_ms"])
+    assert data["growth"]["import_rows_per_s"] == pytest.approx(
+        (600 / large["import_rows_per_s"]) / (300 / small["import_rows_per_s"]))
+    # The pruned find returns what scoring every key with rapidfuzz returns.
+    assert small["find_agreement"] == large["find_agreement"] == 1.0
+    table = CliRunner().invoke(main, ["bench", "--devices", "300,400", "--repeat", "1"])
+    assert table.exit_code == 0, table.output
+    assert "growth from 300 to 400 devices" in table.stdout
+
+
+@pytest.mark.parametrize("sizes", ["200000,abc", "300,50", ","])
+def test_bench_refuses_bad_sizes(sizes: str) -> None:
+    result = CliRunner().invoke(main, ["bench", "--devices", sizes])
+    assert result.exit_code == 2
+    assert "--devices" in result.output and "100 or more" in result.output
+
+
+def test_targets_are_judged_at_the_million_too() -> None:
+    from partsdb.perf.bench import MILLION, TARGETS_MILLION, TUI_METRICS
+
+    assert meets_target("find_ms", 30, MILLION) is True
+    assert meets_target("find_ms", 30.1, MILLION) is False
+    assert meets_target("find_ratio", 0.26, MILLION) is False
+    assert meets_target("find_agreement", 0.99, MILLION) is True
+    assert meets_target("find_ms", 30, 500_000) is None  # no targets at that size
+    assert set(TARGETS_MILLION) <= {*METRICS, *TUI_METRICS}
+
+
+def test_tui_figures_through_the_pilot() -> None:
+    result = CliRunner().invoke(main, ["bench", "--devices", "300", "--repeat", "1", "--tui",
+                                       "--format", "json"])
+    assert result.exit_code == 0, result.output + (result.stderr or "")
+    data = json.loads(result.stdout)
+    from partsdb.perf.bench import TUI_METRICS
+
+    assert set(data) == {"devices", "machine", *METRICS, *TUI_METRICS}
+    assert 0 < data["tui_first_screen_s"] < 60 and 0 < data["tui_keystroke_ms"] < 60_000

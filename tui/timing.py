@@ -1,0 +1,67 @@
+"""The terminal UI's two speed figures, measured through Textual's pilot (``partsdb bench --tui``).
+
+* ``tui_first_screen_s``: from creating the app on a database to its first screen (the Devices
+  view, 80x24) mounted and painted: what a technician waits for after ``partsdb tui``, less the
+  interpreter's start.
+* ``tui_keystroke_ms``: one key typed into the Devices search, after the shared search index is
+  built (a background thread after the first screen), until the key is handled and the screen
+  is idle again with the hits shown: the median over several keys, each after a pause longer
+  than the search's debounce, so each key runs a search.
+"""
+
+from __future__ import annotations
+
+import asyncio
+import statistics
+import time
+from pathlib import Path
+from typing import Any
+
+QUERY = "2sc18"
+"""Typed one key at a time: a JIS-style start that grows from many hits to few."""
+INDEX_WAIT_S = 600.0
+
+
+async def _measure(path: Path) -> dict[str, float]:
+    from partsdb.storage.database import open_database
+    from tui.app import PartsdbApp
+    from tui.devices import SEARCH_DEBOUNCE, DevicesView
+
+    db = open_database(path, notify=None)
+    try:
+        start = time.perf_counter()
+        app = PartsdbApp(db, start="devices", cursor_blink=False, poll_seconds=0)
+        async with app.run_test(size=(80, 24)) as pilot:
+            await pilot.pause()
+            first_screen = time.perf_counter() - start
+            waited = time.perf_counter()
+            while app.catalog_index.index is None:
+                if time.perf_counter() - waited > INDEX_WAIT_S:
+                    raise RuntimeError("the search index was not built within "
+                                       f"{INDEX_WAIT_S:.0f} s")
+                await pilot.pause(0.05)
+            # The worker goes on to import the heavier views' modules: let it finish, so the
+            # keys are timed on an idle app, as a technician types after the first seconds.
+            await app.workers.wait_for_complete()
+            view = app.query_one(DevicesView)
+            await pilot.press("slash")
+            times = []
+            for key in QUERY:
+                await pilot.pause(SEARCH_DEBOUNCE * 2)
+                before = view.searches_run
+                t = time.perf_counter()
+                await pilot.press(key)
+                await pilot.pause()
+                times.append(time.perf_counter() - t)
+                if view.searches_run != before + 1:
+                    raise RuntimeError(f"typing {key!r} ran {view.searches_run - before} "
+                                       "searches; expected one")
+    finally:
+        db.dispose()
+    return {"tui_first_screen_s": first_screen,
+            "tui_keystroke_ms": 1000 * statistics.median(times)}
+
+
+def measure_tui(path: str | Path) -> dict[str, Any]:
+    """Both figures on the SQLite database at ``path`` (see the module docstring)."""
+    return asyncio.run(_measure(Path(path)))
