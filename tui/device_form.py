@@ -24,15 +24,29 @@ if TYPE_CHECKING:
     from partsdb.storage.database import Database
 
 
+EXAMPLES: dict[str, str] = {
+    "vceo": "40V", "vcbo": "60V", "vebo": "5V", "ic_max": "200mA", "ptot": "625mW",
+    "tj_max": "150 °C", "hfe_min": "110", "hfe_max": "450", "hfe_ic": "2mA", "ft": "300MHz",
+    "vbe_on": "0.65V", "vbe_ic": "2mA", "vce_sat": "0.2V", "icbo": "15nA",
+}
+"""The example shown in each quantity field: a small-signal silicon part's usual figure in the
+field's own unit (common practice), so no hint contradicts its field."""
+HINT_WIDTH = 56
+"""Characters of a help text shown as a hint (the form's field width at 80 columns)."""
+
+
 def placeholder(spec: FieldSpec) -> str:
     if spec.choices:
         return " / ".join(spec.choices)
     if spec.kind == "bool":
         return "yes / no"
     if spec.kind == "quantity":
-        return {"V": "e.g. 40V", "A": "e.g. 200mA", "W": "e.g. 625mW", "Hz": "e.g. 300MHz",
-                "°C": "e.g. 150", "": "e.g. 110"}.get(spec.unit, spec.unit)
-    return spec.help[:30] if spec.help else ""
+        example = EXAMPLES.get(spec.name)
+        return f"e.g. {example}" if example else spec.unit
+    text = spec.help or ""
+    if len(text) > HINT_WIDTH:  # cut at a word, and say so
+        text = text[:HINT_WIDTH - 1].rsplit(" ", 1)[0].rstrip(",;") + "…"
+    return text
 
 
 class DeviceForm(ModalScreen[Device | None]):

@@ -66,7 +66,7 @@ class StockForm(ModalScreen[str | None]):
         r = self.request
         place_label = {"receive": "To place", "take": "From place", "return": "To place",
                        "move": "From place", "count": "At place"}[r.action]
-        fields = [("designation", "Device", r.designation, "e.g. BC547B"),
+        fields = [("designation", "Device", r.designation, "e.g. OC375"),
                   ("quantity", "Quantity",
                    str(r.quantity) if r.action == "count" and r.quantity is not None else "",
                    "whole number"),
@@ -116,7 +116,7 @@ class StockForm(ModalScreen[str | None]):
         action = self.request.action
         found: list[tuple[str, str]] = []
         if not self.value("designation"):
-            found.append(("designation", "device: empty; expected a designation such as BC547B"))
+            found.append(("designation", "device: empty; expected a designation such as OC375"))
         try:
             parse_count(self.value("quantity") or "", allow_zero=action == "count")
         except ValueError as err:
@@ -230,7 +230,7 @@ class StockForm(ModalScreen[str | None]):
         action = self.request.action
         designation = self.value("designation")
         if not designation:
-            raise ValueError("device: empty; expected a designation such as BC547B")
+            raise ValueError("device: empty; expected a designation such as OC375")
         qty = parse_count(self.value("quantity") or "", allow_zero=action == "count")
         place = self.value("place")
         if not place:

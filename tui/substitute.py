@@ -5,7 +5,7 @@ circuit stress and policy; the ranking itself is done by ``partsdb.services.subs
 The selected candidate is shown beside the requirement parameter by parameter, each ratio as
 a small bar with its status word, its flags, the lead drawing when the lead order differs, and
 the safety caution, always. Actions: take one from its drawer, record the swap, save the report,
-open the stage on the Bench.
+open the pair in the Stage view.
 """
 
 from __future__ import annotations
@@ -125,7 +125,7 @@ class SubstituteView(Vertical):
         Binding("t", "take_one", "Take one"),
         Binding("w", "record_swap", "Log swap"),
         Binding("o", "save_report", "Report"),
-        Binding("b", "to_bench", "Bench"),
+        Binding("b", "to_stage", "Stage"),
         Binding("down", "focus_list", "List", show=False),
     ]
 
@@ -149,7 +149,7 @@ class SubstituteView(Vertical):
             yield TextField(placeholder="original designation (fuzzy), Enter", id="sub-query",
                             compact=True)
             # An example, not a value: "e.g." and italics say so (the field starts empty).
-            yield TextField(placeholder="optional spec, e.g. vceo=60V ic_max=1A", id="sub-spec",
+            yield TextField(placeholder="optional spec, e.g. Vceo=60V Icmax=1A", id="sub-spec",
                             compact=True)
         with Horizontal(id="sub-stress"):
             for row in STRESS_FIELDS:  # every stress the CLI offers, from the one table
@@ -231,7 +231,7 @@ class SubstituteView(Vertical):
         stress = self._stress()
         if not query and not spec:
             raise ValueError("original: empty; type a designation, or a spec such as "
-                             "polarity=npn vceo=60V ic_max=1A")
+                             "Polarity=npn Vceo=60V Icmax=1A")
         with self.db.session() as session:
             original, note = (substitution.resolve_original(session, query, self._index)
                               if query else (None, ""))
@@ -286,7 +286,7 @@ class SubstituteView(Vertical):
         grid.add_column("Status")
         for check in c.checks:
             need, offered = c.shown.get(check.parameter, ("—", "—"))
-            grid.add_row(check.parameter, need, offered, ratio_bar(check.ratio),
+            grid.add_row(LABEL.get(check.parameter, check.parameter), need, offered, ratio_bar(check.ratio),
                          Text(check.status, style=STATUS_STYLE.get(check.status, "")))
         head = Text(f"{c.designation}: ", style="bold")
         head.append(c.verdict, style=STATUS_STYLE.get(c.verdict, ""))
@@ -378,14 +378,14 @@ class SubstituteView(Vertical):
                                         check),
                              lambda v: v and self.notify(f"Report saved to {v['path']}."))
 
-    def action_to_bench(self) -> None:
+    def action_to_stage(self) -> None:
         c = self.selected()
         if c is None or self.original is None:
             self.notify("Rank substitutes for a stored original first.", severity="warning")
             return
         app: Any = self.app
-        app.action_show("bench")
-        app.view("bench").fill(self.original, c.designation)
+        app.action_show("stage")
+        app.view("stage").fill(self.original, c.designation)
 
 
 def problem_text(problem: Any) -> Text:
@@ -394,7 +394,7 @@ def problem_text(problem: Any) -> Text:
     if problem.is_flag:
         return Text("FLAG ", style="bold yellow") + Text(problem.note)
     head = Text(problem.status.upper() + " ", style=STATUS_STYLE.get(problem.status, ""))
-    return head + Text(f"{problem.parameter}: {problem.note}")
+    return head + Text(f"{LABEL.get(problem.parameter, problem.parameter)}: {problem.note}")
 
 
 def _short_caution() -> str:
