@@ -32,8 +32,9 @@ def decode(designation: str, fmt: str) -> None:
     """Explain what DESIGNATION's numbering scheme says about the part.
 
     Reads Pro Electron (AC951), JIS C 7012 (2SC8150, or the marking C8150), JEDEC EIA-370
-    (2N9106) and the older European O names (OC375); the examples are the demo's invented names. Inferences are listed as such; a name no
-    scheme explains is reported as unknown. No database is needed.
+    (2N9106) and the older European O names (OC375); these examples are the demo's invented
+    names. Inferences are listed as such; a name no scheme explains is reported as unknown.
+    No database is needed.
     """
     from partsdb.designations import decode as decode_designation
     from partsdb.designations import normalize
