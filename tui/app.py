@@ -149,6 +149,12 @@ class PartsdbApp(App[None]):
         *[Binding(spec.fkey, f"show('{spec.ident}')", spec.title, show=False, priority=True)
           for spec in VIEWS],
         Binding("escape", "leave_field", "Leave field", show=False),
+        # Tab at priority, like the function keys: a barcode scanner types a designation and a
+        # Tab in one burst, and Textual routes each key to the field focused when the key is
+        # read. As a plain binding the Tab moved the focus only after it had come back from the
+        # field, when the rest of the burst had been queued to that same field already.
+        Binding("tab", "focus_step(1)", "Next field", show=False, priority=True),
+        Binding("shift+tab", "focus_step(-1)", "Previous field", show=False, priority=True),
         # ctrl+l redraws a terminal in most programs; here it re-reads the database as well.
         Binding("ctrl+l", "refresh_data", "Refresh", show=False, priority=True),
         Binding("ctrl+p", "command_palette", "Commands", show=False, priority=True),
@@ -315,6 +321,13 @@ class PartsdbApp(App[None]):
         else:
             self.screen.focus_next()
         self.refresh_bindings()
+
+    def action_focus_step(self, step: int) -> None:
+        """Focus the next (1) or previous (-1) field now, so the keys after it go there."""
+        if step > 0:
+            self.screen.focus_next()
+        else:
+            self.screen.focus_previous()
 
     def action_leave_field(self) -> None:
         """Esc in a view's text field: focus leaves it for the view's list (or the next

@@ -221,23 +221,27 @@ class StageView(Horizontal):
         from partsdb.units import format_quantity as fq
 
         results = [report.original] + ([report.substitute] if report.substitute else [])
+        # One value per cell and no cell wraps: at 80 columns the results get about 48
+        # characters, and a value split over two lines ("1.63" / "V") misreads.
         table = Table(box=None, padding=(0, 1), header_style="bold")
-        table.add_column("")
+        table.add_column("", no_wrap=True)
         for r in results:
-            table.add_column(r.device, justify="right")
+            table.add_column(r.device, justify="right", no_wrap=True)
         rows: list[tuple[str, list[str]]] = [
             ("Ic", [fq(r.point.ic, "A") for r in results]),
             ("Vce", [fq(r.point.vce, "V") for r in results]),
-            ("Vb / Ve", [f"{fq(r.point.vb, 'V')} / {fq(r.point.ve, 'V')}" for r in results]),
-            ("P device", [fq(r.point.power, "W") for r in results]),
-            ("region", [r.point.region for r in results]),
-            ("Ic over hFE", [f"{fq(r.ic_hfe_min, 'A')}..{fq(r.ic_hfe_max, 'A')}" for r in results]),
+            ("Vb", [fq(r.point.vb, "V") for r in results]),
+            ("Ve", [fq(r.point.ve, "V") for r in results]),
+            ("Dissipation", [fq(r.point.power, "W") for r in results]),
+            ("Region", [r.point.region for r in results]),
+            ("Ic, hFE min", [fq(r.ic_hfe_min, "A") for r in results]),
+            ("Ic, hFE max", [fq(r.ic_hfe_max, "A") for r in results]),
         ]
         checks = []
         for device, r in zip(devices, results, strict=False):
             checks.append(check_operating_point(device, r.point.vce, r.point.ic, r.point.power,
                                                 ambient=ambient))
-        rows.append(("P allowed", [fq(c.p_allowed, "W") if c.p_allowed else "—" for c in checks]))
+        rows.append(("Ptot allowed", [fq(c.p_allowed, "W") if c.p_allowed else "—" for c in checks]))
         for name, cells in rows:
             table.add_row(name, *cells)
         status = Text("Checks: ")
@@ -255,16 +259,7 @@ class StageView(Horizontal):
             shift.append(f", Vce by {report.vce_change:+.2f} V")
             parts.append(shift)
         if report.fix is not None:
-            fix = report.fix
-            name = fix.resistor.upper()
-            parts.append(Text(
-                f"Fix: {name} {fq(fix.original_value, 'Ω')} -> {fq(fix.exact, 'Ω')} exact, "
-                f"for Ic {fq(fix.target_ic, 'A')}, {fix.target}", style="cyan"))
-            for label, opt in (("E12", fix.e12), ("E24", fix.e24)):
-                parts.append(Text(
-                    f"  {label} {fq(opt.value, 'Ω')}: Ic {fq(opt.ic, 'A')} ({opt.region}); "
-                    f"hFE min {fq(opt.ic_hfe_min, 'A')} ({opt.region_hfe_min}), "
-                    f"hFE max {fq(opt.ic_hfe_max, 'A')} ({opt.region_hfe_max})", style="cyan"))
+            parts += fix_parts(report)
         for note in [*report.notes, *(n for r in results for n in r.notes),
                      *(n for c in checks for n in c.notes)]:
             parts.append(Text("· " + note, style="dim"))
@@ -282,6 +277,31 @@ class StageView(Horizontal):
             data.points.append((mark, r.device, r.point.vce, r.point.ic, point_style))
         for plot in self.query(VcePlot):
             plot.plot(data)
+
+
+def fix_parts(report: BiasReport) -> list[Any]:
+    """The resistor fix: one line naming it, a table of the exact, E12 and E24 values with Ic at
+    the typical hFE and at both ends of the window (a region other than active is named in
+    the cell), and the target in words last (prose may wrap; the values do not)."""
+    from partsdb.units import format_quantity as fq
+
+    fix = report.fix
+    assert fix is not None
+    name = fix.resistor.upper()
+
+    def ic(value: float, region: str) -> str:
+        return fq(value, "A") + ("" if region in ("", "active") else f" {region}")
+
+    table = Table(box=None, padding=(0, 1), header_style="bold cyan", style="cyan")
+    for label in ("", name, "Ic", "hFE min", "hFE max"):
+        table.add_column(label, justify="left" if not label else "right", no_wrap=True)
+    table.add_row("exact", fq(fix.exact, "Ω"), fq(fix.target_ic, "A"), "", "")
+    for label, opt in (("E12", fix.e12), ("E24", fix.e24)):
+        table.add_row(label, fq(opt.value, "Ω"), ic(opt.ic, opt.region),
+                      ic(opt.ic_hfe_min, opt.region_hfe_min),
+                      ic(opt.ic_hfe_max, opt.region_hfe_max))
+    return [Text(f"Fix: change {name} from {fq(fix.original_value, 'Ω')}", style="bold cyan"),
+            table, Text(f"  target Ic {fq(fix.target_ic, 'A')}: {fix.target}", style="cyan")]
 
 
 def model_name(report: BiasReport) -> str:

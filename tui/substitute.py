@@ -326,6 +326,8 @@ class SubstituteView(Vertical):
 
     def _prefill_one(self, form: StockForm) -> None:
         form.query_one("#sf-quantity", TextField).value = "1"
+        if form.job_required:  # the shop's config asks for the job: the cursor waits there
+            form.query_one("#sf-job", TextField).focus()
 
     def _after_take(self, result: str | None) -> None:
         if result is None:

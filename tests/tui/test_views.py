@@ -261,7 +261,9 @@ async def test_substitute_search_then_take_one(shop_db: Any) -> None:
         await pilot.pause()
         detail = static_text(view.query_one("#sub-detail", Static))
         # EBC vs CBE: the pinout check is marginal and says which lead goes where.
-        assert "vceo" in detail and "MARGINAL pinout: re-form leads" in detail
+        # Engineering labels, never code keys (Vceo, Ic max).
+        assert "Vceo" in detail and "Ic max" in detail and "ic_max" not in detail
+        assert "MARGINAL Pinout: re-form leads" in detail
         assert "lead" in detail
         await pilot.press("t")
         await pilot.pause()
