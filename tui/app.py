@@ -286,10 +286,15 @@ class PartsdbApp(App[None]):
         self.build_index()
 
     def _database_label(self) -> str:
+        """The database as the strip names it: a SQLite file by its name (the full path is the
+        tooltip), a server by its masked URL; "read-only" when opened so."""
         try:
-            return self.db.describe()
+            full = self.db.describe()
         except Exception:  # a label must never stop the app
             return ""
+        label = full.rsplit("/", 1)[-1] if full.startswith("sqlite") else full
+        self.query_one("#db-label", PlaceLabel).tooltip = full
+        return label + (" (read-only)" if getattr(self.db, "read_only", False) else "")
 
     def view(self, ident: str) -> Any:
         return self.query_one(f"#{ident}")

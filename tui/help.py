@@ -18,7 +18,7 @@ from partsdb.cautions import SAFETY_CAUTIONS
 KEYS: tuple[tuple[str, str, str], ...] = (
     ("Anywhere", "F1 or ?", "this help (Esc closes it)"),
     ("Anywhere", "ctrl+p", "commands: every main action by name"),
-    ("Anywhere", "esc", "leave a text field (then number and letter keys act on the view)"),
+    ("Anywhere", "esc", "leave a text field for the view's list"),
     ("Anywhere", "tab / shift+tab", "next / previous field"),
     ("Anywhere", "ctrl+l", "refresh: re-read the database (changes made elsewhere also show "
                           "by themselves within about a second)"),
@@ -48,18 +48,18 @@ def view_keys() -> list[tuple[str, str, str]]:
 
     first, last = VIEWS[0], VIEWS[-1]
     return [
-        ("Anywhere", f"{first.number}…{last.number} or click a tab",
+        ("Anywhere", f"{first.number}…{last.number}",
          ", ".join(f"{spec.number} {spec.title}" for spec in VIEWS)
-         + " (outside a text field)"),
+         + "; or click a tab (in a text field digits are typed: Esc first)"),
         ("Anywhere", f"{first.fkey.upper()}…{last.fkey.upper()}",
-         "the same views, also from inside a text field"),
+         "the same views, from inside a text field too"),
     ]
 
 
 def help_renderable() -> Group:
     keys = Table(show_header=True, header_style="bold", box=None, padding=(0, 1), expand=True)
     keys.add_column("Where", style="cyan", no_wrap=True)
-    keys.add_column("Key", style="bold", no_wrap=True)
+    keys.add_column("Key", style="bold", max_width=16)
     keys.add_column("Does")
     for where, key, does in [*view_keys(), *KEYS]:
         keys.add_row(where, key, does)

@@ -21,9 +21,10 @@ from rich.text import Text
 from textual import on
 from textual.app import ComposeResult
 from textual.binding import Binding, BindingType
-from textual.containers import Horizontal, VerticalScroll
+from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.widgets import Button, Label, Select, Static
 
+from partsdb.cautions import SHORT_CAUTION
 from tui.inputs import TextField
 from tui.plot import Curve, PlotData, VcePlot
 
@@ -45,7 +46,11 @@ FIELDS: tuple[tuple[str, str, str, str], ...] = (
 )
 DEFAULT_NETWORK = "divider"
 """The network the form starts with (one of partsdb.bias.NETWORKS)."""
-SUPPLY_HINT = "Vcc: the supply magnitude, or a PNP stage's negative supply (-9V)"
+PLOT_HEIGHT = 14
+"""Rows of the Vce-Ic plot (as in partsdb.tcss)."""
+WIDE = 110
+"""Columns from which the results may share their side with the plot (the app's -wide)."""
+SUPPLY_HINT = "Vcc: its magnitude, or a PNP stage's negative supply as drawn (-9V)"
 """The supply rule on screen (the CLI's ``bias --vcc`` rule, partsdb.bias.supply_magnitude)."""
 EMPTY_RESULT = "Fill the stage and press Enter to solve it."
 STATUS_STYLE = {"ok": "green", "marginal": "yellow", "under-rated": "bold red", "unknown": "dim"}
@@ -86,9 +91,12 @@ class StageView(Horizontal):
             yield Button("Solve", id="sg-solve", compact=True, variant="primary")
             yield Static("", id="stage-error", classes="form-error")
             yield VcePlot(id="stage-plot-narrow", classes="stage-plot")
-        with VerticalScroll(id="stage-result-box"):
-            yield Static(EMPTY_RESULT, id="stage-result")
-            yield VcePlot(id="stage-plot-wide", classes="stage-plot")
+        with Vertical(id="stage-right"):
+            with VerticalScroll(id="stage-result-box"):
+                yield Static(EMPTY_RESULT, id="stage-result")
+                yield VcePlot(id="stage-plot-wide", classes="stage-plot")
+            # Always in sight, not at the end of a scrolled result.
+            yield Static(Text(SHORT_CAUTION, style="bold"), id="stage-caution")
 
     def load(self) -> None:
         """Offer every network the bias library solves (once); nothing else to read."""
@@ -216,7 +224,6 @@ class StageView(Horizontal):
         return report, [original, substitute], ambient
 
     def _show(self, report: BiasReport, devices: list[Device], ambient: float) -> None:
-        from partsdb.cautions import SHORT_CAUTION
         from partsdb.operating import check_operating_point
         from partsdb.units import format_quantity as fq
 
@@ -263,7 +270,6 @@ class StageView(Horizontal):
         for note in [*report.notes, *(n for r in results for n in r.notes),
                      *(n for c in checks for n in c.notes)]:
             parts.append(Text("· " + note, style="dim"))
-        parts.append(Text(SHORT_CAUTION, style="bold red"))
         self.query_one("#stage-result", Static).update(Group(*parts))
 
         stage = report.stage
@@ -277,6 +283,18 @@ class StageView(Horizontal):
             data.points.append((mark, r.device, r.point.vce, r.point.ic, point_style))
         for plot in self.query(VcePlot):
             plot.plot(data)
+        self.call_after_refresh(self.place_plot)
+
+    def on_resize(self) -> None:
+        self.call_after_refresh(self.place_plot)
+
+    def place_plot(self) -> None:
+        """The plot beside the results (under them) when the screen is wide and they leave it
+        room; else below the form. Both plots hold the same data; the layout shows one."""
+        box = self.query_one("#stage-result-box")
+        result = self.query_one("#stage-result", Static)
+        room = box.size.height - result.outer_size.height >= PLOT_HEIGHT
+        self.set_class(self.app.size.width >= WIDE and room, "-plot-beside")
 
 
 def fix_parts(report: BiasReport) -> list[Any]:
