@@ -18,7 +18,7 @@ from sqlalchemy.orm import Session
 from partsdb.derating import Policy
 from partsdb.designations import normalize
 from partsdb.errors import InvalidInput, NotFoundError
-from partsdb.ranking import Candidate, Requirement, SpecError, Stress, assess
+from partsdb.ranking import LABEL, Candidate, Requirement, SpecError, Stress, assess
 from partsdb.services import catalog
 from partsdb.spec_fields import STRESS_FIELDS
 from partsdb.storage.models import SwapRow
@@ -209,7 +209,9 @@ def audit(session: Session, policy: Policy | str | None = None) -> list[AuditIte
             requirement = Requirement(polarity=device.polarity, kind=device.kind,
                                       designation=swap.original, source="given")
         cand = assess(device, requirement, swap.stress, pol)
-        problems = [f"{c.parameter}: {c.status} ({c.note})" for c in cand.checks
+        # Named by the engineering label (Vceo), as every face shows parameters.
+        problems = [f"{LABEL.get(c.parameter, c.parameter)}: {c.status} ({c.note})"
+                    for c in cand.checks
                     if c.status in ("under-rated",)]
         problems += [f.message for f in cand.flags if f.code == "incompatible"]
         verdict = cand.verdict
