@@ -19,6 +19,7 @@ from textual.widgets import Button, Input, Label, Static
 from partsdb.device import FIELDS, Device, FieldSpec
 from tui.form_guard import close_asking, input_values, select_field
 from tui.inputs import TextField
+from tui.wording import in_labels
 
 if TYPE_CHECKING:
     from partsdb.storage.database import Database
@@ -93,7 +94,7 @@ class DeviceForm(ModalScreen[Device | None]):
 
     def _show(self, field: str, message: str) -> None:
         box = self.query_one(f"#err-{field}", Static)
-        box.update(message)
+        box.update(in_labels(message))
         box.set_class(bool(message), "shown")
 
     @on(Input.Changed, ".form-input")

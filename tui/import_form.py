@@ -20,6 +20,7 @@ from textual.widgets import Button, Checkbox, Input, Label, Static
 
 from partsdb.device import FIELD_BY_NAME, Device
 from tui.inputs import TextField
+from tui.wording import in_labels
 
 if TYPE_CHECKING:
     from partsdb.services.sheet import SheetReport
@@ -48,7 +49,8 @@ def describe(report: SheetReport, limit: int = 40) -> str:
             device.display(name) for name in PREVIEW_FIELDS))
     lines.append(report.summary())
     notes = [f"note: {n}" for n in report.notices]
-    notes += [f"assumed: line {r['line']}: {r['designation']}: " + ", ".join(r["assumed"])
+    notes += [f"assumed: line {r['line']}: {r['designation']}: "
+              + in_labels(", ".join(r["assumed"]))
               for r in report.assumed]
     notes += [f"warning: line {r['line']}: {r['designation']}: {r['message']}"
               for r in report.warnings]

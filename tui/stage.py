@@ -27,6 +27,7 @@ from textual.widgets import Button, Label, Select, Static
 from partsdb.cautions import SHORT_CAUTION
 from tui.inputs import TextField
 from tui.plot import Curve, PlotData, VcePlot
+from tui.wording import in_labels
 
 if TYPE_CHECKING:
     from partsdb.bias import BiasReport
@@ -136,7 +137,7 @@ class StageView(Horizontal):
             self.report, devices, ambient = self._solve()
             self.ambient = ambient
         except (ValueError, LookupError) as err:
-            error.update(Text("NOT SOLVED: " + str(err), style="bold yellow"))
+            error.update(Text("NOT SOLVED: " + in_labels(str(err)), style="bold yellow"))
             return
         error.update("")
         self._show(self.report, devices, ambient)

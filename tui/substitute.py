@@ -28,6 +28,7 @@ from partsdb.services import substitution
 from partsdb.spec_fields import STRESS_FIELDS
 from tui.inputs import TextField
 from tui.stock_forms import StockForm, StockRequest
+from tui.wording import in_labels
 
 if TYPE_CHECKING:
     from partsdb.storage.database import Database
@@ -201,7 +202,7 @@ class SubstituteView(Vertical):
             self.result, self.original, note = self._rank()
         except (ValueError, LookupError) as err:
             message = str(err.args[0]) if isinstance(err, KeyError) and err.args else str(err)
-            self._status(Text("NOT RANKED: " + message, style="bold yellow"))
+            self._status(Text("NOT RANKED: " + in_labels(message), style="bold yellow"))
             return
         self._show_result(note)
 

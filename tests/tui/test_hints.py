@@ -46,3 +46,13 @@ SOURCES = [*(ROOT / "tui").glob("*.py"), *(ROOT / "partsdb/cli").glob("*.py")]
 @pytest.mark.parametrize("path", SOURCES, ids=lambda p: p.name)
 def test_no_real_part_number_in_hints_or_help(path: Path) -> None:
     assert not REAL_NUMBERS.search(path.read_text(encoding="utf-8"))
+
+
+def test_messages_name_fields_by_label() -> None:
+    from tui.wording import in_labels
+
+    assert in_labels("ic_max: '1x' is not valid") == "Ic max: '1x' is not valid"
+    assert in_labels("vbe_on without vbe_ic; tj_max, ft") == "Vbe(on) without Vbe at Ic; Tj max, fT"
+    assert in_labels("vce_peak: 12 A") == "Vce peak: 12 A"
+    # ordinary words stay as they are, and a key inside another word is not touched
+    assert in_labels("the package and the notes; ptotal") == "the package and the notes; ptotal"
