@@ -49,6 +49,7 @@ def test_every_config_key_is_documented() -> None:
 
     for key in PROFILE_KEYS:
         assert key in keys, key
+    assert "require_job" in keys  # [stock]
 
 
 def test_every_header_spelling_and_outline_is_documented() -> None:

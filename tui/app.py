@@ -1,67 +1,138 @@
-"""The partsdb terminal UI: six views over one database, built by one factory.
+"""The partsdb terminal UI: its views over one database, built by one factory.
 
 ``build_app(db)`` is what both ``partsdb tui`` (through :func:`run_app`) and the tests use, so
 the app under test is the app people run. Views only call :mod:`partsdb.services` and the
 pure domain modules; they never hold SQL, scoring or unit parsing of their own.
+
+The frame is the app's own: a one-line strip of named tabs at the top (number keys or a click
+switch views), the view, and one line of the current view's keys at the bottom. Every view is
+one row of :data:`VIEWS`; the strip, the number and function keys, the command list, the help
+and the refresh all read that table, so a new view is one row.
 """
 
 from __future__ import annotations
 
 import threading
-from collections.abc import Iterable
+from collections.abc import Callable, Iterable
+from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, ClassVar
 
 from rich.text import Text
-from textual import on
+from textual import events, on
 from textual.app import App, ComposeResult, SystemCommand
 from textual.binding import Binding, BindingType
+from textual.command import CommandPalette
+from textual.containers import Horizontal
 from textual.screen import ModalScreen, Screen
-from textual.widgets import ContentSwitcher, Footer, Static
+from textual.widget import Widget
+from textual.widgets import ContentSwitcher, Footer, Input, Static
 
-from tui.bench import BenchView
 from tui.catalog_data import SharedIndex
 from tui.devices import DevicesView
 from tui.drawers import DrawersView
 from tui.help import HelpScreen
 from tui.jobs import JobsView
 from tui.ledger import LedgerView
+from tui.stage import StageView
 from tui.substitute import SubstituteView
 from tui.swaplog import SwapLogView
 
 if TYPE_CHECKING:
-    from collections.abc import Callable
-
     from partsdb.search import SearchIndex
     from partsdb.storage.database import Database
 
-VIEWS: tuple[tuple[str, str, str], ...] = (
-    ("drawers", "f2", "Drawers"),
-    ("devices", "f3", "Devices"),
-    ("substitute", "f4", "Substitute"),
-    ("bench", "f5", "Bench"),
-    ("ledger", "f6", "Ledger"),
-    ("swaps", "f7", "Swaps"),
-    ("jobs", "f8", "Jobs"),
+
+@dataclass(frozen=True)
+class ViewSpec:
+    """One view of the app: one row of :data:`VIEWS`."""
+
+    ident: str
+    """The view's widget id and the name ``action_show`` takes."""
+    title: str
+    """The tab's name, also used in the help and the command list."""
+    number: str
+    """The number key that shows it (outside a text field)."""
+    fkey: str
+    """The function key that shows it from anywhere (also inside a text field)."""
+    factory: Callable[..., Widget]
+    """Builds the view: ``factory(db, id=ident)``."""
+    focus: str | None = None
+    """Selector of the widget focused when the view is shown (None: the first focusable)."""
+
+
+VIEWS: tuple[ViewSpec, ...] = (
+    ViewSpec("drawers", "Drawers", "1", "f2", DrawersView, "#lots-table"),
+    ViewSpec("devices", "Devices", "2", "f3", DevicesView, "#dev-search"),
+    ViewSpec("substitute", "Substitute", "3", "f4", SubstituteView, "#sub-query"),
+    ViewSpec("stage", "Stage", "4", "f5", StageView, "#sg-original"),
+    ViewSpec("ledger", "Ledger", "5", "f6", LedgerView, "#lg-device"),
+    ViewSpec("swaps", "Swaps", "6", "f7", SwapLogView, "#swaps-table"),
+    ViewSpec("jobs", "Jobs", "7", "f8", JobsView, ".jb-focus"),
 )
 
 
-class ViewBar(Static):
-    """The line above the footer: every view with its key, the current one marked, and the
-    database."""
+def view_spec(ident: str) -> ViewSpec:
+    """The row of :data:`VIEWS` named ``ident`` (KeyError naming the known ones if none)."""
+    for spec in VIEWS:
+        if spec.ident == ident:
+            return spec
+    raise KeyError(f"view: {ident!r} is not known; expected one of "
+                   + ", ".join(s.ident for s in VIEWS))
 
-    def show(self, current: str, database: str) -> None:
-        text = Text()
-        for ident, key, label in VIEWS:
-            style = "reverse bold" if ident == current else "dim"
-            text.append(f"{key.upper()}", style=style + " bold")
-            text.append(f" {label}", style=style)
-            text.append("  ")
-        text.append(f" {database}", style="italic dim")
-        self.update(text)
+
+class ViewTab(Static):
+    """One named tab of the strip; a click shows its view."""
+
+    def __init__(self, spec: ViewSpec) -> None:
+        super().__init__(f"{spec.number} {spec.title}", id=f"tab-{spec.ident}",
+                         classes="view-tab")
+        self.ident = spec.ident
+        self.tooltip = f"{spec.title} ({spec.number} or {spec.fkey.upper()})"
+
+    def on_click(self, event: events.Click) -> None:
+        event.stop()
+        app: Any = self.app
+        app.action_show(self.ident)
+
+
+class PlaceLabel(Static):
+    """The open database, right-aligned in what the tabs leave; cut from the left (the file
+    name matters more than the folder)."""
+
+    def __init__(self, **kwargs: Any) -> None:
+        super().__init__("", **kwargs)
+        self.label = ""
+
+    def show(self, label: str) -> None:
+        self.label = label
+        self.update(self._fit())
+
+    def on_resize(self) -> None:
+        self.update(self._fit())
+
+    def _fit(self) -> Text:
+        width = max(0, self.size.width - 1)
+        text = self.label
+        if len(text) > width:
+            text = ("…" + text[len(text) - width + 1:]) if width > 1 else ""
+        return Text(text, style="italic", justify="right")
+
+
+class TabStrip(Horizontal):
+    """The top line: every view as a named tab, the shown one marked, and the database."""
+
+    def compose(self) -> ComposeResult:
+        for spec in VIEWS:
+            yield ViewTab(spec)
+        yield PlaceLabel(id="db-label")
+
+    def mark(self, current: str) -> None:
+        for tab in self.query(ViewTab):
+            tab.set_class(tab.ident == current, "-current")
 
 
 class PartsdbApp(App[None]):
-    """Drawers, Devices, Substitute, Bench, Ledger and Swaps over one open database."""
+    """The views of :data:`VIEWS` over one open database."""
 
     CSS_PATH = "partsdb.tcss"
     TITLE = "partsdb"
@@ -69,16 +140,26 @@ class PartsdbApp(App[None]):
     BINDINGS: ClassVar[list[BindingType]] = [
         Binding("f1", "help", "Help"),
         Binding("question_mark", "help", "Help", show=False),
-        # The view keys are drawn by the ViewBar just above the footer (one line for all six
-        # at 80 columns); the Textual footer below it lists the current view's actions.
-        # Priority: the app switches the view the moment F2-F7 arrives. Without it the key
-        # first travels to the focused field and back, and a character typed right behind it
-        # (tmux delivers both in one read) went to the old view's field and was lost.
-        *[Binding(key, f"show('{ident}')", label, show=False, priority=True)
-          for ident, key, label in VIEWS],
+        # Number keys switch views when no text field has the focus (in a field a digit is
+        # typed; Esc leaves the field). Function keys switch from anywhere. Priority for the
+        # function keys: the app switches the moment one arrives. Without it the key first
+        # travels to the focused field and back, and a character typed right behind it (tmux
+        # delivers both in one read) went to the old view's field and was lost.
+        *[Binding(spec.number, f"show('{spec.ident}')", spec.title, show=False)
+          for spec in VIEWS],
+        *[Binding(spec.fkey, f"show('{spec.ident}')", spec.title, show=False, priority=True)
+          for spec in VIEWS],
+        Binding("escape", "leave_field", "Leave field", show=False),
+        # Tab at priority, like the function keys: a barcode scanner types a designation and a
+        # Tab in one burst, and Textual routes each key to the field focused when the key is
+        # read. As a plain binding the Tab moved the focus only after it had come back from the
+        # field, when the rest of the burst had been queued to that same field already.
+        Binding("tab", "focus_step(1)", "Next field", show=False, priority=True),
+        Binding("shift+tab", "focus_step(-1)", "Previous field", show=False, priority=True),
         # ctrl+l redraws a terminal in most programs; here it re-reads the database as well.
-        Binding("ctrl+l", "refresh_data", "Refresh", priority=True),
-        Binding("ctrl+q", "quit", "Quit", show=False),
+        Binding("ctrl+l", "refresh_data", "Refresh", show=False, priority=True),
+        Binding("ctrl+p", "command_palette", "Commands", show=False, priority=True),
+        Binding("ctrl+q", "quit", "Close", show=False, priority=True),
     ]
 
     def __init__(self, db: Database, *, start: str = "drawers", cursor_blink: bool = True,
@@ -100,15 +181,11 @@ class PartsdbApp(App[None]):
         """The fuzzy index over the catalog, shared by Devices and Substitute."""
 
     def compose(self) -> ComposeResult:
+        yield TabStrip(id="tab-strip")
         with ContentSwitcher(initial=self.start, id="views"):
-            yield DrawersView(self.db, id="drawers")
-            yield DevicesView(self.db, id="devices")
-            yield SubstituteView(self.db, id="substitute")
-            yield BenchView(self.db, id="bench")
-            yield LedgerView(self.db, id="ledger")
-            yield SwapLogView(self.db, id="swaps")
-            yield JobsView(self.db, id="jobs")
-        yield ViewBar(id="view-bar")
+            for spec in VIEWS:
+                yield spec.factory(self.db, id=spec.ident)
+        # One line: the shown view's keys, then the app's own (Help, Refresh, Commands).
         yield Footer(compact=True)
 
     def on_mount(self) -> None:
@@ -166,15 +243,15 @@ class PartsdbApp(App[None]):
         if self._catalog_mark is not None and catalog != self._catalog_mark:
             self.catalog_changed()
         self._catalog_mark = catalog
-        for ident, _key, _label in VIEWS:
-            view = self.view(ident)
+        for spec in VIEWS:
+            view = self.view(spec.ident)
             if hasattr(view, "refresh_data"):
-                view.refresh_data(visible=ident == self.current)
+                view.refresh_data(visible=spec.ident == self.current)
         self.notify(f"Data {why}: view re-read.", timeout=2)
 
     def _warm_up(self) -> None:
         # One thread, in order of need: the search index (typing in Devices), then the imports
-        # of Bench and Substitute. Two threads at once fight the UI for the GIL.
+        # of Stage and Substitute. Two threads at once fight the UI for the GIL.
         if self.catalog_index.index is None and not self.catalog_index.building:
             self.catalog_index.building = True
             self.run_worker(self._index_then_imports, thread=True, group="index")
@@ -210,10 +287,15 @@ class PartsdbApp(App[None]):
         self.build_index()
 
     def _database_label(self) -> str:
+        """The database as the strip names it: a SQLite file by its name (the full path is the
+        tooltip), a server by its masked URL; "read-only" when opened so."""
         try:
-            return self.db.describe()
+            full = self.db.describe()
         except Exception:  # a label must never stop the app
             return ""
+        label = full.rsplit("/", 1)[-1] if full.startswith("sqlite") else full
+        self.query_one("#db-label", PlaceLabel).tooltip = full
+        return label + (" (read-only)" if getattr(self.db, "read_only", False) else "")
 
     def view(self, ident: str) -> Any:
         return self.query_one(f"#{ident}")
@@ -230,13 +312,12 @@ class PartsdbApp(App[None]):
             self.screen.dismiss()
         self.current = ident
         self.query_one("#views", ContentSwitcher).current = ident
-        self.query_one(ViewBar).show(ident, self._database_label())
+        self.query_one(TabStrip).mark(ident)
+        self.query_one("#db-label", PlaceLabel).show(self._database_label())
         view = self.view(ident)
         if hasattr(view, "load"):
             view.load()
-        focus = {"drawers": "#lots-table", "devices": "#dev-search", "substitute": "#sub-query",
-                 "bench": "#bn-original", "ledger": "#lg-device",
-                 "swaps": "#swaps-table", "jobs": ".jb-focus"}.get(ident)
+        focus = view_spec(ident).focus
         targets = view.query(focus) if focus else None
         # Focus now, not through focus() (which defers it to a later message): a key typed
         # right after F3/F4 may already be queued behind this one, and must reach the new
@@ -246,6 +327,26 @@ class PartsdbApp(App[None]):
         else:
             self.screen.focus_next()
         self.refresh_bindings()
+
+    def action_focus_step(self, step: int) -> None:
+        """Focus the next (1) or previous (-1) field now, so the keys after it go there."""
+        if step > 0:
+            self.screen.focus_next()
+        else:
+            self.screen.focus_previous()
+
+    def action_leave_field(self) -> None:
+        """Esc in a view's text field: focus leaves it for the view's list (or the next
+        widget that is not a text field), so number keys and the view's letter keys work."""
+        focused = self.screen.focused
+        if not isinstance(focused, Input) or isinstance(self.screen, ModalScreen):
+            return
+        view = self.view(self.current)
+        for widget in view.query("DataTable, VirtualTable, Tree"):
+            if widget.focusable and widget.display:
+                self.screen.set_focus(widget)
+                return
+        self.screen.set_focus(None)
 
     def action_help(self) -> None:
         if not isinstance(self.screen, HelpScreen):
@@ -257,11 +358,12 @@ class PartsdbApp(App[None]):
         self.view("substitute").search_for(event.designation)
 
     def get_system_commands(self, screen: Screen[Any]) -> Iterable[SystemCommand]:
-        """The palette's main actions, after Textual's own (theme, keys, quit)."""
-        yield from super().get_system_commands(screen)
-        for ident, key, label in VIEWS:
-            yield SystemCommand(f"Go to {label}", f"Show the {label} view ({key.upper()})",
-                                lambda i=ident: self.action_show(i))
+        """The command list (ctrl+p): partsdb's own commands only, in its own words."""
+        for spec in VIEWS:
+            yield SystemCommand(f"Show {spec.title}",
+                                f"Switch to the {spec.title} view ({spec.number} or "
+                                f"{spec.fkey.upper()})",
+                                lambda i=spec.ident: self.action_show(i))
         for action in ("receive", "take", "return", "move", "count"):
             yield SystemCommand(f"Stock: {action}", f"{action.capitalize()} parts of the selected "
                                 "lot (Drawers)", lambda a=action: self._drawer_action(a))
@@ -269,7 +371,21 @@ class PartsdbApp(App[None]):
                             lambda: self._devices_action("add"))
         yield SystemCommand("Device: edit", "Edit the selected device",
                             lambda: self._devices_action("edit"))
-        yield SystemCommand("Help and safety cautions", "Keys and cautions (F1)", self.action_help)
+        yield SystemCommand("Refresh", "Re-read the database into the open view (ctrl+l)",
+                            self.action_refresh_data)
+        yield SystemCommand("Help and safety cautions", "Keys of every view and the cautions (F1)",
+                            self.action_help)
+        yield SystemCommand("Close partsdb", "Close the database and leave (ctrl+q)", self.exit)
+
+    def action_command_palette(self) -> None:
+        """The command list, asking in partsdb's words."""
+        if self.use_command_palette and not CommandPalette.is_open(self):
+            self.push_screen(CommandPalette(placeholder="Command: a view, stock, device, help…",
+                                            id="--command-palette"))
+
+    def action_help_quit(self) -> None:
+        """ctrl+c does not close partsdb (it copies in a text field); say which key does."""
+        self.notify("ctrl+q closes partsdb.", timeout=3)
 
     def _drawer_action(self, action: str) -> None:
         self.action_show("drawers")
@@ -281,7 +397,7 @@ class PartsdbApp(App[None]):
 
 
 def _import_heavy_modules() -> None:
-    """Import what the Bench and Substitute views need (scipy among it: about 1 s) in the
+    """Import what the Stage and Substitute views need (scipy among it: about 1 s) in the
     background, so their first use does not wait for it."""
     import partsdb.bias
     import partsdb.services.substitution  # noqa: F401

@@ -19,9 +19,27 @@ from textual.widgets import Button, Input, Label, Static
 from partsdb.device import FIELDS, Device, FieldSpec, applies
 from tui.form_guard import close_asking, input_values, select_field
 from tui.inputs import TextField
+from tui.wording import in_labels
 
 if TYPE_CHECKING:
     from partsdb.storage.database import Database
+
+
+EXAMPLES: dict[str, str] = {
+    "vceo": "40V", "vcbo": "60V", "vebo": "5V", "ic_max": "200mA", "ptot": "625mW",
+    "tj_max": "150 °C", "hfe_min": "110", "hfe_max": "450", "hfe_ic": "2mA", "ft": "300MHz",
+    "vbe_on": "0.65V", "vbe_ic": "2mA", "vce_sat": "0.2V", "icbo": "15nA",
+    "rth_jc": "1.5K/W", "vds": "100V", "vgs_max": "20V", "id_max": "30A", "rds_on": "28mΩ",
+    "rds_on_vgs": "10V", "rds_on_id": "15A", "vgs_th_min": "2V", "vgs_th_max": "4V",
+    "qg": "25nC", "qgd": "8nC", "ciss": "1.2nF", "trr": "60ns", "vgs_off_min": "0.4V",
+    "vgs_off_max": "2.5V", "idss_min": "2mA", "idss_max": "6mA", "yfs": "12mS", "yfs_id": "2mA",
+    "en": "2nV/√Hz",
+}
+"""The example shown in each quantity field: a small-signal silicon part's usual figure in the
+field's own unit (common practice: small-signal silicon for bipolar fields, a power MOSFET's
+and an audio JFET's for the FET fields), so no hint contradicts its field."""
+HINT_WIDTH = 56
+"""Characters of a help text shown as a hint (the form's field width at 80 columns)."""
 
 
 def placeholder(spec: FieldSpec) -> str:
@@ -32,11 +50,12 @@ def placeholder(spec: FieldSpec) -> str:
     if spec.kind == "flag":
         return "yes / no / blank"
     if spec.kind == "quantity":
-        return {"V": "e.g. 40V", "A": "e.g. 200mA", "W": "e.g. 625mW", "Hz": "e.g. 300MHz",
-                "°C": "e.g. 150", "": "e.g. 110", "Ω": "e.g. 28mΩ", "C": "e.g. 25nC",
-                "F": "e.g. 1.2nF", "S": "e.g. 12mS", "s": "e.g. 60ns", "K/W": "e.g. 2 K/W",
-                "V/√Hz": "e.g. 2nV/rtHz"}.get(spec.unit, spec.unit)
-    return spec.help[:30] if spec.help else ""
+        example = EXAMPLES.get(spec.name)
+        return f"e.g. {example}" if example else spec.unit
+    text = spec.help or ""
+    if len(text) > HINT_WIDTH:  # cut at a word, and say so
+        text = text[:HINT_WIDTH - 1].rsplit(" ", 1)[0].rstrip(",;") + "…"
+    return text
 
 
 class DeviceForm(ModalScreen[Device | None]):
@@ -98,7 +117,7 @@ class DeviceForm(ModalScreen[Device | None]):
 
     def _show(self, field: str, message: str) -> None:
         box = self.query_one(f"#err-{field}", Static)
-        box.update(message)
+        box.update(in_labels(message))
         box.set_class(bool(message), "shown")
 
     @on(Input.Changed, ".form-input")

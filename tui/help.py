@@ -16,14 +16,13 @@ from textual.widgets import Static
 from partsdb.cautions import SAFETY_CAUTIONS
 
 KEYS: tuple[tuple[str, str, str], ...] = (
-    ("Anywhere", "F2 to F8",
-     "Drawers / Devices / Substitute / Bench / Ledger / Swaps / Jobs"),
     ("Anywhere", "F1 or ?", "this help (Esc closes it)"),
-    ("Anywhere", "ctrl+p", "command palette: every main action by name"),
+    ("Anywhere", "ctrl+p", "commands: every main action by name"),
+    ("Anywhere", "esc", "leave a text field for the view's list"),
     ("Anywhere", "tab / shift+tab", "next / previous field"),
     ("Anywhere", "ctrl+l", "refresh: re-read the database (changes made elsewhere also show "
                           "by themselves within about a second)"),
-    ("Anywhere", "ctrl+q", "quit"),
+    ("Anywhere", "ctrl+q", "close partsdb"),
     ("Drawers", "r t u m c", "receive, take (with a job ref.), return, move, count the selected lot"),
     ("Drawers", "e", "edit the selected lot's condition or note (written to the ledger)"),
     ("Drawers", "z", "undo the last movement (asks first, naming what it reverses)"),
@@ -34,8 +33,9 @@ KEYS: tuple[tuple[str, str, str], ...] = (
     ("Substitute", "enter", "rank substitutes for the original typed in the search field"),
     ("Substitute", "t / w / o", "take one of the selected candidate / record the swap / save the report"),
     ("Substitute", "j", "write the job sheet of the original and the selected candidate"),
-    ("Bench", "enter or ctrl+r", "solve the stage for both transistors"),
-    ("Bench", "ctrl+s", "write the job sheet of the solved pair with this stage (.pdf/.html/.md)"),
+    ("Substitute", "b", "open the selected pair in the Stage view"),
+    ("Stage", "enter or ctrl+r", "solve the stage for both transistors"),
+    ("Stage", "ctrl+s", "write the job sheet of the solved pair with this stage (.pdf/.html/.md)"),
     ("Ledger", "type in a filter", "device, place, job, from/to date (YYYY-MM-DD)"),
     ("Swaps", "type in a filter", "original, substitute, job, outcome, from/to date"),
     ("Swaps", "o", "set the outcome and note of the highlighted swap (! = audit finding)"),
@@ -46,12 +46,26 @@ KEYS: tuple[tuple[str, str, str], ...] = (
 )
 
 
+def view_keys() -> list[tuple[str, str, str]]:
+    """The view keys, from the app's table of views (a new view shows here by itself)."""
+    from tui.app import VIEWS
+
+    first, last = VIEWS[0], VIEWS[-1]
+    return [
+        ("Anywhere", f"{first.number}…{last.number}",
+         ", ".join(f"{spec.number} {spec.title}" for spec in VIEWS)
+         + "; or click a tab (in a text field digits are typed: Esc first)"),
+        ("Anywhere", f"{first.fkey.upper()}…{last.fkey.upper()}",
+         "the same views, from inside a text field too"),
+    ]
+
+
 def help_renderable() -> Group:
     keys = Table(show_header=True, header_style="bold", box=None, padding=(0, 1), expand=True)
     keys.add_column("Where", style="cyan", no_wrap=True)
-    keys.add_column("Key", style="bold", no_wrap=True)
+    keys.add_column("Key", style="bold", max_width=16)
     keys.add_column("Does")
-    for where, key, does in KEYS:
+    for where, key, does in [*view_keys(), *KEYS]:
         keys.add_row(where, key, does)
     parts: list[Text | Table] = [Text("Keys", style="bold underline"), keys, Text(""),
                                  Text("Safety", style="bold underline")]

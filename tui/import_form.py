@@ -18,8 +18,9 @@ from textual.containers import Horizontal, Vertical, VerticalScroll
 from textual.screen import ModalScreen
 from textual.widgets import Button, Checkbox, Input, Label, Static
 
-from partsdb.device import Device
+from partsdb.device import FIELD_BY_NAME, Device
 from tui.inputs import TextField
+from tui.wording import in_labels
 
 if TYPE_CHECKING:
     from partsdb.services.sheet import SheetReport
@@ -29,20 +30,27 @@ PREVIEW_FIELDS = ("designation", "polarity", "vceo", "ic_max", "ptot", "ptot_ref
 CAUTION = "Warnings are prompts to check the datasheet, never ratings."
 
 
+def field_label(name: str) -> str:
+    """A field as the user reads it: its engineering label (Ic max), not its key."""
+    spec = FIELD_BY_NAME.get(name)
+    return spec.label if spec is not None else name.replace("_", " ")
+
+
 def describe(report: SheetReport, limit: int = 40) -> str:
     """The preview as plain lines (columns, first devices as stored, counts, notes)."""
     lines = ["Columns: " + ", ".join(
-        f"{c.header} -> {c.field}" + (f" [{c.unit}]" if c.unit else "") if c.field
+        f"{c.header} -> {field_label(c.field)}" + (f" [{c.unit}]" if c.unit else "") if c.field
         else f"{c.header} (ignored)" for c in report.columns)]
     lines.append("First devices as they will be stored ("
-                 + ", ".join(PREVIEW_FIELDS) + "):")
+                 + ", ".join(field_label(name) for name in PREVIEW_FIELDS) + "):")
     for row in report.preview:
         device = Device(**{k: v for k, v in row.items() if k != "line"})
         lines.append(f"  line {row['line']}: " + "  ".join(
             device.display(name) for name in PREVIEW_FIELDS))
     lines.append(report.summary())
     notes = [f"note: {n}" for n in report.notices]
-    notes += [f"assumed: line {r['line']}: {r['designation']}: " + ", ".join(r["assumed"])
+    notes += [f"assumed: line {r['line']}: {r['designation']}: "
+              + in_labels(", ".join(r["assumed"]))
               for r in report.assumed]
     notes += [f"warning: line {r['line']}: {r['designation']}: {r['message']}"
               for r in report.warnings]

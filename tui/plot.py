@@ -40,7 +40,8 @@ def draw(data: PlotData, width: int, height: int) -> Text:
 
     label_w = 8
     cols = max(10, width - label_w - 1)
-    rows = max(4, height - 3)
+    legend = legend_lines(data, width)
+    rows = max(4, height - 2 - len(legend))
     vmax = data.vcc * 1.05 if data.vcc > 0 else 1.0
     ics = [ic for _, _, _, ic, _ in data.points if ic > 0]
     if data.load_resistance:
@@ -85,18 +86,27 @@ def draw(data: PlotData, width: int, height: int) -> Text:
     out.append(" " * label_w + "└" + "─" * cols + "\n", style="dim")
     out.append(" " * label_w + " 0" + ("Vce " + format_quantity(vmax, "V")).rjust(cols - 1) + "\n",
                style="dim")
-    legend = Text("  ")
-    for curve in data.curves:
-        legend.append(curve.mark, style=curve.style)
-        legend.append(f" {curve.label}  ")
-    for mark, label, _, _, style in data.points:
-        legend.append(mark, style=style)
-        legend.append(f" {label}  ")
-    if data.load_resistance:
-        legend.append("·", style="dim")
-        legend.append(" load line")
-    out.append_text(legend)
+    out.append_text(Text("\n").join(legend))
     return out
+
+
+def legend_lines(data: PlotData, width: int) -> list[Text]:
+    """Every mark with its name, packed into lines of ``width`` cells (an entry is never split,
+    so a narrow plot gets a taller legend rather than a cut one)."""
+    entries: list[tuple[str, str, str]] = [(c.mark, c.style, c.label) for c in data.curves]
+    entries += [(mark, style, label) for mark, label, _, _, style in data.points]
+    if data.load_resistance:
+        entries.append(("·", "dim", "load line"))
+    lines: list[Text] = []
+    line = Text("  ")
+    for mark, style, label in entries:
+        entry = Text(mark, style=style) + Text(f" {label}  ")
+        if line.cell_len > 2 and line.cell_len + entry.cell_len - 2 > width:
+            lines.append(line)
+            line = Text("  ")
+        line.append_text(entry)
+    lines.append(line)
+    return lines
 
 
 class VcePlot(Widget):

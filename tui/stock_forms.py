@@ -42,6 +42,23 @@ class StockRequest:
     """The lot's current quantity (shown; a count starts from it)."""
 
 
+def _job_required() -> bool:
+    """The config's ``[stock] require_job``; a broken config file is reported when the take is
+    made (check_job), not here."""
+    from partsdb.services.config import job_required
+
+    try:
+        return job_required()
+    except ValueError:
+        return False
+
+
+def check_job(job: str | None) -> None:
+    from partsdb.services.config import check_job as check
+
+    check(job)
+
+
 def parse_count(text: str, allow_zero: bool) -> int:
     """A whole number of parts from the form within the one quantity limit (limits.py), or
     LimitError (a ValueError) naming what was expected: "inf" or 20 digits are refused, never
@@ -60,13 +77,15 @@ class StockForm(ModalScreen[str | None]):
         super().__init__()
         self.db = db
         self.request = request
+        self.job_required = request.action == "take" and _job_required()
+        """This shop's config requires a job reference on every take: the form asks for it."""
 
     def _fields(self) -> list[tuple[str, str, str, str]]:
         """(id, label, initial value, placeholder) for this action."""
         r = self.request
         place_label = {"receive": "To place", "take": "From place", "return": "To place",
                        "move": "From place", "count": "At place"}[r.action]
-        fields = [("designation", "Device", r.designation, "e.g. BC547B"),
+        fields = [("designation", "Device", r.designation, "e.g. OC375"),
                   ("quantity", "Quantity",
                    str(r.quantity) if r.action == "count" and r.quantity is not None else "",
                    "whole number"),
@@ -77,13 +96,16 @@ class StockForm(ModalScreen[str | None]):
             fields.append(("condition", "Condition", r.condition if r.action != "receive"
                            else (r.condition or "new"), " / ".join(CONDITIONS)))
         if r.action in ("take", "return", "receive", "move"):
-            fields.append(("job", "Job ref.", "", "job or repair ticket"))
+            fields.append(("job", "Job ref.", "", "required: job or repair ticket"
+                           if self.job_required else "job or repair ticket"))
         fields.append(("note", "Note", "", ""))
         return fields
 
     def compose(self) -> ComposeResult:
         r = self.request
         held = "" if r.quantity is None else f"  (lot holds {r.quantity})"
+        if self.job_required:
+            held += "  (job reference required)"
         with Vertical(id="form-box", classes="form stock-form"):
             yield Static(f"{r.action.capitalize()} parts{held}", classes="form-title")
             for ident, label, value, hint in self._fields():
@@ -116,7 +138,7 @@ class StockForm(ModalScreen[str | None]):
         action = self.request.action
         found: list[tuple[str, str]] = []
         if not self.value("designation"):
-            found.append(("designation", "device: empty; expected a designation such as BC547B"))
+            found.append(("designation", "device: empty; expected a designation such as OC375"))
         try:
             parse_count(self.value("quantity") or "", allow_zero=action == "count")
         except ValueError as err:
@@ -136,6 +158,11 @@ class StockForm(ModalScreen[str | None]):
         if condition and condition.lower() not in stock.CONDITIONS:
             found.append(("condition", f"condition: {condition!r} is not valid; expected one of "
                           + ", ".join(stock.CONDITIONS)))
+        if action == "take":  # the CLI's rule (a broken config file is reported here too)
+            try:
+                check_job(self.value("job"))
+            except ValueError as err:
+                found.append(("job", str(err)))
         return found
 
     def _show_problems(self, found: list[tuple[str, str]]) -> None:
@@ -230,7 +257,7 @@ class StockForm(ModalScreen[str | None]):
         action = self.request.action
         designation = self.value("designation")
         if not designation:
-            raise ValueError("device: empty; expected a designation such as BC547B")
+            raise ValueError("device: empty; expected a designation such as OC375")
         qty = parse_count(self.value("quantity") or "", allow_zero=action == "count")
         place = self.value("place")
         if not place:

@@ -5,7 +5,7 @@ circuit stress and policy; the ranking itself is done by ``partsdb.services.subs
 The selected candidate is shown beside the requirement parameter by parameter, each ratio as
 a small bar with its status word, its flags, the lead drawing when the lead order differs, and
 the safety caution, always. Actions: take one from its drawer, record the swap, write the job
-sheet of the pair, save the report, open the stage on the Bench.
+sheet of the pair, save the report, open the pair in the Stage view.
 """
 
 from __future__ import annotations
@@ -28,6 +28,7 @@ from partsdb.services import substitution
 from partsdb.spec_fields import STRESS_FIELDS, stresses_for
 from tui.inputs import TextField
 from tui.stock_forms import StockForm, StockRequest
+from tui.wording import in_labels
 
 if TYPE_CHECKING:
     from partsdb.storage.database import Database
@@ -126,7 +127,7 @@ class SubstituteView(Vertical):
         Binding("w", "record_swap", "Log swap"),
         Binding("j", "job_sheet", "Job sheet"),
         Binding("o", "save_report", "Report"),
-        Binding("b", "to_bench", "Bench"),
+        Binding("b", "to_stage", "Stage"),
         Binding("down", "focus_list", "List", show=False),
     ]
 
@@ -150,7 +151,7 @@ class SubstituteView(Vertical):
             yield TextField(placeholder="original designation (fuzzy), Enter", id="sub-query",
                             compact=True)
             # An example, not a value: "e.g." and italics say so (the field starts empty).
-            yield TextField(placeholder="optional spec, e.g. vceo=60V ic_max=1A", id="sub-spec",
+            yield TextField(placeholder="optional spec, e.g. Vceo=60V Icmax=1A", id="sub-spec",
                             compact=True)
         with Horizontal(id="sub-stress"):
             for row in STRESS_FIELDS:  # every stress the CLI offers, from the one table
@@ -204,7 +205,7 @@ class SubstituteView(Vertical):
             self.result, self.original, note = self._rank()
         except (ValueError, LookupError) as err:
             message = str(err.args[0]) if isinstance(err, KeyError) and err.args else str(err)
-            self._status(Text("NOT RANKED: " + message, style="bold yellow"))
+            self._status(Text("NOT RANKED: " + in_labels(message), style="bold yellow"))
             return
         self._show_result(note)
 
@@ -233,7 +234,7 @@ class SubstituteView(Vertical):
         spec = substitution.parse_spec(self.query_one("#sub-spec", TextField).value)
         if not query and not spec:
             raise ValueError("original: empty; type a designation, or a spec such as "
-                             "polarity=npn vceo=60V ic_max=1A")
+                             "Polarity=npn Vceo=60V Icmax=1A")
         with self.db.session() as session:
             original, note = (substitution.resolve_original(session, query, self._index)
                               if query else (None, ""))
@@ -303,7 +304,7 @@ class SubstituteView(Vertical):
         grid.add_column("Status")
         for check in c.checks:
             need, offered = c.shown.get(check.parameter, ("—", "—"))
-            grid.add_row(check.parameter, need, offered, ratio_bar(check.ratio),
+            grid.add_row(LABEL.get(check.parameter, check.parameter), need, offered, ratio_bar(check.ratio),
                          Text(check.status, style=STATUS_STYLE.get(check.status, "")))
         head = Text(f"{c.designation}: ", style="bold")
         head.append(c.verdict, style=STATUS_STYLE.get(c.verdict, ""))
@@ -343,6 +344,8 @@ class SubstituteView(Vertical):
 
     def _prefill_one(self, form: StockForm) -> None:
         form.query_one("#sf-quantity", TextField).value = "1"
+        if form.job_required:  # the shop's config asks for the job: the cursor waits there
+            form.query_one("#sf-job", TextField).focus()
 
     def _after_take(self, result: str | None) -> None:
         if result is None:
@@ -414,14 +417,14 @@ class SubstituteView(Vertical):
                                         check),
                              lambda v: v and self.notify(f"Report saved to {v['path']}."))
 
-    def action_to_bench(self) -> None:
+    def action_to_stage(self) -> None:
         c = self.selected()
         if c is None or self.original is None:
             self.notify("Rank substitutes for a stored original first.", severity="warning")
             return
         app: Any = self.app
-        app.action_show("bench")
-        app.view("bench").fill(self.original, c.designation)
+        app.action_show("stage")
+        app.view("stage").fill(self.original, c.designation)
 
 
 def problem_text(problem: Any) -> Text:
@@ -430,7 +433,7 @@ def problem_text(problem: Any) -> Text:
     if problem.is_flag:
         return Text("FLAG ", style="bold yellow") + Text(problem.note)
     head = Text(problem.status.upper() + " ", style=STATUS_STYLE.get(problem.status, ""))
-    return head + Text(f"{problem.parameter}: {problem.note}")
+    return head + Text(f"{LABEL.get(problem.parameter, problem.parameter)}: {problem.note}")
 
 
 def _short_caution() -> str:

@@ -90,6 +90,21 @@ def _number(name: str, value: object, *, low: float = 0.0, allow_low: bool = Tru
     return float(value)  # type: ignore[arg-type]
 
 
+SUPPLY_RULE = "Vcc is the supply magnitude; a PNP stage may be given as a negative supply"
+"""The supply rule in one line, for the faces to show beside the field."""
+
+
+def supply_magnitude(vcc: float, polarity: str, field: str = "vcc") -> float:
+    """The supply magnitude of a stage whose transistor has ``polarity``: a PNP stage may be
+    given its (negative) supply as drawn; an NPN stage's must be positive; 0 V is refused."""
+    if vcc < 0 and polarity == "npn":
+        raise BiasError(field, f"{vcc:g} V", "a positive supply for an NPN stage (only a PNP "
+                        "stage may be given a negative supply)")
+    if vcc == 0:
+        raise BiasError(field, "0 V", "a supply magnitude above 0 V")
+    return abs(vcc)
+
+
 @dataclass(frozen=True)
 class Stage:
     """A common-emitter bias network; resistances in ohms, ``vcc`` the supply magnitude."""

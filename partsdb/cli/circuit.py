@@ -227,7 +227,13 @@ def bias(state: CliState, network: str, vcc: float | None, r1: float | None,
     Example: partsdb bias divider --vcc 9V --r1 47k --r2 10k --rc 2k2 --re 470 --device XK101
     --substitute XK202
     """
-    from partsdb.bias import BiasError, Stage, TransistorParams, analyse_bias
+    from partsdb.bias import (
+        BiasError,
+        Stage,
+        TransistorParams,
+        analyse_bias,
+        supply_magnitude,
+    )
 
     if network in ("jfet-self", "jfet-divider"):
         bipolar = [n for n, v in (("--vcc", vcc), ("--rb", rb), ("--rc", rc), ("--re", re),
@@ -259,14 +265,10 @@ def bias(state: CliState, network: str, vcc: float | None, r1: float | None,
             assert polarity is not None and hfe is not None and vbe is not None
             original = TransistorParams(name="given", polarity=polarity, hfe=hfe, vbe=vbe,
                                         vbe_ic=vbe_ic)
-        if vcc < 0 and original.polarity == "npn":
-            fail(f"--vcc: {vcc:g} V is negative for an NPN stage; expected a positive supply "
-                 "(only a PNP stage may be given a negative supply)")
-        if vcc == 0:
-            fail("--vcc: 0 V is not valid; expected a supply magnitude above 0 V")
+        magnitude = supply_magnitude(vcc, original.polarity, "--vcc")  # the TUI's rule too
         if re is None and network != "divider":
             re = 0.0  # fixed and collector-feedback stages are often built without Re
-        stage = Stage(network=network, vcc=abs(vcc), rc=rc, re=re, r1=r1, r2=r2, rb=rb)
+        stage = Stage(network=network, vcc=magnitude, rc=rc, re=re, r1=r1, r2=r2, rb=rb)
         substitute = None if substitute_name is None else _device_params(state, substitute_name)
         report = analyse_bias(stage, original, substitute, model=model, ambient=ambient,
                               leakage=not no_leakage)

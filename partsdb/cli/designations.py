@@ -32,15 +32,16 @@ if TYPE_CHECKING:
 def decode(designation: str, fmt: str) -> None:
     """Explain what DESIGNATION's numbering scheme says about the part.
 
-    Reads Pro Electron (BC547B), JIS C 7012 (2SC1815, or the marking C1815), JEDEC EIA-370
-    (2N3055) and the older European O names (OC71). Inferences are listed as such; a name no
-    scheme explains is reported as unknown. No database is needed.
+    Reads Pro Electron (AC951), JIS C 7012 (2SC8150, or the marking C8150), JEDEC EIA-370
+    (2N9106) and the older European O names (OC375); these examples are the demo's invented
+    names. Inferences are listed as such; a name no scheme explains is reported as unknown.
+    No database is needed.
     """
     from partsdb.designations import decode as decode_designation
     from partsdb.designations import normalize
 
     if not normalize(designation):
-        fail(f"designation: {designation!r} is empty; expected a part number such as BC547B")
+        fail(f"designation: {designation!r} is empty; expected a part number such as AC951")
     result = decode_designation(designation)
     if fmt == "json":
         emit_json(result.to_json())
@@ -85,8 +86,8 @@ def find(state: CliState, query: str, limit: int, in_stock: bool, fmt: str) -> N
     """Find devices whose designation is spelled like QUERY, or whose notes hold its words.
 
     Forgives case, spaces and dashes, a gain-group letter too many or too few, letter O for
-    zero, two swapped characters and one wrong digit; a marking without 2S (C1815) finds the
-    JIS name (2SC1815). Exit code 1 when nothing matches.
+    zero, two swapped characters and one wrong digit; a marking without 2S (C8150) finds the
+    JIS name (2SC8150). Exit code 1 when nothing matches.
     """
     from partsdb.designations import normalize
     from partsdb.search import SearchIndex

@@ -102,7 +102,9 @@ def take(state: CliState, designation: str, qty: str | int, from_: str, conditio
     """Take parts out of a drawer (refused, changing nothing, if fewer are there)."""
     qty = _quantity(qty)
     from partsdb.services import stock as svc
+    from partsdb.services.config import check_job
 
+    check_job(job)  # before any database work: a refused take opens nothing
     view = state.database().transact(
         lambda session: svc.take(session, designation, qty, from_, condition, job, note))
     _said("took", view)

@@ -23,6 +23,9 @@ another file. A missing file is not an error (built-in policies, default weights
     gap = 2             # mm between labels
     code = true         # a QR code of the place path on each label
 
+    [stock]
+    require_job = true  # every take names its job (CLI `stock take --job`, the TUI asks)
+
     [import.profiles.workshop]      # `partsdb import FILE --profile workshop`
     map = { "Art.-Nr." = "designation", "Fach" = "location" }
     unit = { ic_max = "mA", ft = "MHz" }
@@ -73,11 +76,11 @@ def load_config(path: Path | None = None) -> dict[str, Any]:
         raise ConfigError(f"{path}: not valid TOML ({err})") from err
     except OSError as err:
         raise ConfigError(f"{path}: cannot be read ({err.strerror})") from err
-    known = {"policies", "weights", "labels", "import"}
+    known = {"policies", "weights", "labels", "import", "stock"}
     unknown = sorted(set(data) - known)
     if unknown:
         raise ConfigError(f"{path}: unknown table(s) {', '.join(unknown)}; known: "
-                          "policies, weights, labels, import")
+                          "policies, weights, labels, import, stock")
     return data
 
 
@@ -157,6 +160,26 @@ def load_label_settings(path: Path | None = None) -> dict[str, Any]:
             raise ConfigError(f"{path}: labels.{key} = {value!r}; expected "
                               f"{'true or false' if kind is bool else 'text' if kind is str else 'a number'}")
     return dict(data)
+
+
+def job_required(path: Path | None = None) -> bool:
+    """Whether this shop's config requires a job reference on every take (``[stock]
+    require_job = true``; default false)."""
+    path = path or config_path()
+    data = load_config(path).get("stock", {})
+    if not isinstance(data, dict) or set(data) - {"require_job"}:
+        raise ConfigError(f"{path}: stock: expected a [stock] table with require_job only")
+    value = data.get("require_job", False)
+    if not isinstance(value, bool):
+        raise ConfigError(f"{path}: stock.require_job = {value!r}; expected true or false")
+    return value
+
+
+def check_job(job: str | None, action: str = "take", path: Path | None = None) -> None:
+    """Refuse a take without a job reference when the config requires one (InvalidInput)."""
+    if action == "take" and job_required(path) and not (job or "").strip():
+        raise InvalidInput("job: empty; expected a job reference (this shop's config requires "
+                           "one for every take: [stock] require_job)")
 
 
 PROFILE_KEYS = ("map", "unit", "ignore", "ignore_unknown")

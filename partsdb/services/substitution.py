@@ -29,6 +29,7 @@ from sqlalchemy.orm import Session
 
 from partsdb.derating import Policy
 from partsdb.designations import normalize
+from partsdb.device import FIELD_BY_NAME
 from partsdb.ranking import (
     KINDS,
     MATERIALS,
@@ -372,21 +373,40 @@ def original_kind(session: Session, designation: str | None) -> str | None:
     return device.kind if device is not None else None
 
 
+def spec_key(text: str) -> str:
+    """A spec name as typed, compared without case, spaces, ``_`` or ``-``: ``Ic max``, ``Icmax``
+    and ``ic_max`` are one name."""
+    return "".join(ch for ch in text.casefold() if ch not in " _-")
+
+
+SPEC_NAMES_TYPED: dict[str, str] = {
+    **{spec_key(name): name for name in SPEC_FIELDS},
+    **{spec_key(FIELD_BY_NAME[name].label): name for name in SPEC_FIELDS},
+}
+"""Every way a spec name may be typed (the field's label or its key) -> the field."""
+
+
 def parse_spec(text: str) -> dict[str, Any]:
     """A spec line, ``name=value`` pairs (spaces or commas between), each value read like the
-    device field it names: ``vceo=60V ic_max=1A package=TO-126``."""
+    device field it names; a name is the field's label written without spaces, in any case
+    (``Vceo=60V Icmax=1A Package=TO-126``), or its key (``ic_max``)."""
     from partsdb.device import parse_field
 
     spec: dict[str, Any] = {}
     for item in text.replace(",", " ").split():
-        name, sep, value = item.partition("=")
-        name = name.strip().lower()
+        typed, sep, value = item.partition("=")
         if not sep or not value:
-            raise SpecError(f"spec: {item!r} is not valid; expected name=value such as vceo=60V")
-        if name not in SPEC_FIELDS:
-            raise SpecError(f"spec: {name!r} is not a spec field; expected one of "
-                            + ", ".join(SPEC_FIELDS))
-        spec[name] = parse_field(name, value.strip())
+            raise SpecError(f"spec: {item!r} is not valid; expected name=value such as Vceo=60V")
+        name = SPEC_NAMES_TYPED.get(spec_key(typed))
+        if name is None:
+            raise SpecError(f"spec: {typed!r} is not a spec field; expected one of "
+                            + ", ".join(FIELD_BY_NAME[n].label for n in SPEC_FIELDS)
+                            + " (written without spaces: Icmax=1A)")
+        try:
+            spec[name] = parse_field(name, value.strip())
+        except ValueError as err:  # named by its label, as the user typed it
+            label = FIELD_BY_NAME[name].label
+            raise SpecError(f"spec: {label}: " + str(err).removeprefix(f"{name}: ")) from err
     return spec
 
 

@@ -19,8 +19,9 @@ from partsdb.derating import Policy
 from partsdb.designations import normalize
 from partsdb.device import FET_KINDS
 from partsdb.errors import InvalidInput, NotFoundError
-from partsdb.ranking import Candidate, Requirement, SpecError, Stress, assess
+from partsdb.ranking import LABEL, Candidate, Requirement, SpecError, Stress, assess
 from partsdb.ranking.fet_engine import FetRequirement, assess_fet
+from partsdb.ranking.model import FET_LABELS
 from partsdb.services import catalog
 from partsdb.spec_fields import STRESS_FIELDS
 from partsdb.storage.models import SwapRow
@@ -179,6 +180,11 @@ class AuditItem:
                 "checks": [c.to_json() for c in self.candidate.checks] if self.candidate else []}
 
 
+def _label(parameter: str) -> str:
+    """A check's parameter by its engineering label (Vceo, Rds(on)), as every face shows it."""
+    return LABEL.get(parameter) or FET_LABELS.get(parameter, (parameter, ""))[0]
+
+
 def audit(session: Session, policy: Policy | str | None = None) -> list[AuditItem]:
     """Re-check every recorded swap against current device data.
 
@@ -216,7 +222,9 @@ def audit(session: Session, policy: Policy | str | None = None) -> list[AuditIte
                 Requirement(polarity=device.polarity, kind=device.kind,
                             designation=swap.original, source="given")
             cand = assess(device, requirement, swap.stress, pol)
-        problems = [f"{c.parameter}: {c.status} ({c.note})" for c in cand.checks
+        # Named by the engineering label (Vceo), as every face shows parameters.
+        problems = [f"{_label(c.parameter)}: {c.status} ({c.note})"
+                    for c in cand.checks
                     if c.status in ("under-rated",)]
         problems += [f.message for f in cand.flags if f.code == "incompatible"]
         verdict = cand.verdict

@@ -38,3 +38,26 @@ def test_ledger_at_an_unknown_place_is_not_found(run) -> None:  # type: ignore[n
     empty ledger that looks like a quiet drawer."""
     result = run("stock", "ledger", "--at", "C9")
     assert result.exit_code == 1 and "location 'C9' not found" in result.output
+
+
+def test_take_without_a_job_is_refused_when_the_config_requires_one(
+        run, tmp_path, monkeypatch) -> None:  # type: ignore[no-untyped-def]
+    """`[stock] require_job = true`: a take without --job exits 2 naming the field and the
+    setting, and writes nothing; with --job it is made."""
+    config = tmp_path / "config.toml"
+    config.write_text("[stock]\nrequire_job = true\n", encoding="utf-8")
+    monkeypatch.setenv("PARTSDB_CONFIG", str(config))
+    run(*ADD_QK55)
+    run("stock", "receive", "QK55", "10", "--to", "C2/D14", "--create")
+    refused = run("stock", "take", "QK55", "1", "--from", "C2/D14")
+    assert refused.exit_code == 2
+    assert "job: empty" in refused.output and "require_job" in refused.output
+    assert run("stock", "take", "QK55", "1", "--from", "C2/D14", "--job", "J-9").exit_code == 0
+    db = open_database(run.url, notify=None)
+    with db.session() as session:
+        assert [(e.reason, e.job) for e in stock.ledger(session)] == [("take", "J-9"),
+                                                                      ("receive", None)]
+    db.dispose()
+    config.write_text("[stock]\nrequire_job = 'yes'\n", encoding="utf-8")
+    bad = run("stock", "take", "QK55", "1", "--from", "C2/D14", "--job", "J-9")
+    assert bad.exit_code == 2 and "stock.require_job = 'yes'; expected true or false" in bad.output

@@ -94,6 +94,17 @@ def test_parse_spec_reads_each_value_like_its_device_field() -> None:
         parse_spec("colour=red")
 
 
+def test_parse_spec_takes_the_engineering_labels_in_any_case() -> None:
+    # The TUI's spec line shows labels (Vceo, Ic max, Tj max, fT), never keys: typed without
+    # spaces and in any case they name the same fields as the keys.
+    assert parse_spec("Vceo=60V Icmax=1A TJMAX=150 fT=3MHz") == \
+        {"vceo": 60.0, "ic_max": 1.0, "tj_max": 150.0, "ft": 3e6}
+    with pytest.raises(SpecError, match=r"'colour' is not a spec field; .*Ic max.*Icmax=1A"):
+        parse_spec("colour=red")
+    with pytest.raises(SpecError, match=r"^spec: Ic max: '1x' is not valid; expected a current"):
+        parse_spec("Icmax=1x")
+
+
 def test_parse_stress_reads_every_row_in_its_unit() -> None:
     stress = parse_stress({"vce_peak": "18V", "ic_peak": "150mA", "power": "300mW",
                            "ambient": "-10", "freq": "20kHz", "heatsink": "2.5"})

@@ -41,9 +41,9 @@ async def test_preview_then_import(shop_db: Any, tmp_path: Path) -> None:
         await pilot.press("enter")
         await pilot.pause()
         preview = str(form.query_one("#imp-preview", Static).content)
-        assert "Ic (mA) -> ic_max [mA]" in preview
+        assert "Ic (mA) -> Ic max [mA]" in preview  # the label, not the key
         assert "QZ 701" in preview and "100 mA" in preview  # as it will be stored
-        assert "assumed: line 2: QZ 701: ptot_ref ambient" in preview
+        assert "assumed: line 2: QZ 701: Ptot ref ambient" in preview
         with shop_db.session() as session:  # the preview wrote nothing
             assert catalog.get_device(session, "QZ 701") is None
         assert not form.query_one("#ok", Button).disabled

@@ -11,15 +11,15 @@ from tui.app import build_app
 async def test_stage_calculator_writes_the_job_sheet(tmp_path: Path) -> None:
     from pypdf import PdfReader
 
-    app = build_app(build_small_shop(tmp_path / "shop.sqlite"), start="bench",
+    app = build_app(build_small_shop(tmp_path / "shop.sqlite"), start="stage",
                     cursor_blink=False, poll_seconds=0)
     out = tmp_path / "job-5.pdf"
     async with app.run_test(size=(120, 40)) as pilot:
         await pilot.pause()
-        app.view("bench").fill("QX3310", "QX3301")
-        await pilot.click("#bn-solve")
+        app.view("stage").fill("QX3310", "QX3301")
+        await pilot.click("#sg-solve")
         await pilot.pause()
-        assert app.view("bench").report.substitute is not None
+        assert app.view("stage").report.substitute is not None
         await pilot.press("ctrl+s")
         await pilot.pause()
         await pilot.press(*"J-5", "tab", *str(out), "enter")

@@ -17,7 +17,8 @@ def _app(tmp_path: Path, start: str) -> Any:
 
 
 def test_drawers_80x24(snap_compare: Any, tmp_path: Path) -> None:
-    """The place tree beside all lots; QX3302 carries the word LOW; the view bar and keys below."""
+    """The named tabs on top (Drawers marked, the database at the right), the place tree beside
+    all lots, QX3302 carrying the word LOW, and the Drawers keys in one line below."""
     assert snap_compare(_app(tmp_path, "drawers"), terminal_size=(80, 24))
 
 
@@ -35,3 +36,22 @@ def test_substitute_120x40(snap_compare: Any, tmp_path: Path) -> None:
 def test_help_80x24(snap_compare: Any, tmp_path: Path) -> None:
     """The help screen over the drawers: keys of every view and the safety cautions."""
     assert snap_compare(_app(tmp_path, "drawers"), terminal_size=(80, 24), press=["f1"])
+
+
+async def _solve_pair(pilot: Any) -> None:
+    stage = pilot.app.view("stage")
+    stage.fill("QX3310", "QX3301")
+    stage.action_solve()
+    await pilot.pause()
+
+
+def test_stage_80x24(snap_compare: Any, tmp_path: Path) -> None:
+    """Stage tab marked; a solved swap: the values in unwrapped columns on the right, the fix as
+    a table, the plot below the form on the left (no room beside the results)."""
+    assert snap_compare(_app(tmp_path, "stage"), terminal_size=(80, 24), run_before=_solve_pair)
+
+
+def test_stage_120x40(snap_compare: Any, tmp_path: Path) -> None:
+    """Wide: the same solved swap with the plot beside the results, under them."""
+    assert snap_compare(_app(tmp_path, "stage"), terminal_size=(120, 40),
+                        run_before=_solve_pair)
