@@ -178,8 +178,9 @@ def job_required(path: Path | None = None) -> bool:
 def check_job(job: str | None, action: str = "take", path: Path | None = None) -> None:
     """Refuse a take without a job reference when the config requires one (InvalidInput)."""
     if action == "take" and job_required(path) and not (job or "").strip():
-        raise InvalidInput("job: empty; expected a job reference (this shop's config requires "
-                           "one for every take: [stock] require_job)")
+        # No [brackets]: the TUI shows the message as markup.
+        raise InvalidInput("job: empty; expected a job reference (the shop's config sets "
+                           "stock.require_job = true: every take names its job)")
 
 
 PROFILE_KEYS = ("map", "unit", "ignore", "ignore_unknown")

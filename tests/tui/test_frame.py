@@ -184,3 +184,21 @@ async def test_take_one_asks_for_the_job_when_the_config_requires_it(
     with shop_db.session() as session:
         taken = [(e.reason, e.change, e.job) for e in stock.ledger(session, "QX3302")]
     assert taken[0] == ("take", -1, "J-31")
+
+
+async def test_ctrl_c_and_the_command_prompt_speak_partsdb(shop_db: Any) -> None:
+    """ctrl+c names the key that closes partsdb in the app's words; ctrl+p opens the command
+    list with the app's own prompt."""
+    from textual.command import CommandPalette
+
+    app = build_app(shop_db, cursor_blink=False, poll_seconds=0)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        await pilot.press("ctrl+c")
+        await pilot.pause()
+        messages = [str(n.message) for n in app._notifications]
+        assert messages == ["ctrl+q closes partsdb."]
+        await pilot.press("ctrl+p")
+        await pilot.pause()
+        assert isinstance(app.screen, CommandPalette)
+        assert app.screen.query_one(Input).placeholder.startswith("Command:")
