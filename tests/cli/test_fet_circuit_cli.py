@@ -203,3 +203,17 @@ def test_demo_mosfet_check_by_hand(demo: str) -> None:
     data = json.loads(r.output)
     assert data["rth_total"] == pytest.approx(3.5)
     assert data["tj_estimate"] == pytest.approx(39.008, abs=0.01)
+
+
+def test_demo_p_channel_mosfet_takes_signed_values(demo: str) -> None:
+    # Demo 2SJ8205 (P-channel): Rds(on) 0.2 ohm at -10 V, Rth j-c 3.1 K/W. 3 A on a 5 K/W sink
+    # with 0.5 K/W mounting at 25 °C, by hand: Rth = 3.1 + 0.5 + 5 = 8.6 K/W; P(25 °C) =
+    # 9 x 0.2 = 1.8 W; Tj = 25 + 15.48 x 1.005^(Tj - 25): 25 -> 40.480 -> 41.723 -> 41.826
+    # -> 41.835 -> 41.836 (1.005^16.836 = exp(0.083970) = 1.08760, x 15.48 = 16.836).
+    signed = run(demo, "check", "2SJ8205", "--vds", "-30V", "--id", "-3A", "--drive", "-10V",
+                 "--heatsink", "5", "--case-to-sink", "0.5", "--format", "json")
+    plain = run(demo, "check", "2SJ8205", "--vds", "30V", "--id", "3A", "--drive", "10V",
+                "--heatsink", "5", "--case-to-sink", "0.5", "--format", "json")
+    assert signed.exit_code == 0 and plain.exit_code == 0, signed.output + plain.output
+    assert json.loads(signed.output)["tj_estimate"] == pytest.approx(41.836, abs=0.005)
+    assert json.loads(plain.output)["tj_estimate"] == json.loads(signed.output)["tj_estimate"]
