@@ -234,6 +234,11 @@ class _Bench:
                                f"{done.stderr.strip()[-300:]}")
         fallback = int(done.stdout.split()[-1])
         self.progress(step, self.n, self.n)
+        # Read now, while the writer is the only finished child: a later child's figure would
+        # count the pages it shared with this (by then larger) process when it was forked.
+        self.notes.append(f"the synthetic catalog's writer (a child process) peaked at "
+                          f"{peak_rss_mb(children=True):.0f} MiB; peak_rss_mb is this "
+                          "process's: imports, rankings, searches")
         if fallback:
             self.notes.append(f"{fallback} designations fell back to numbered house "
                               "names (their scheme's name space was full)")
@@ -584,9 +589,6 @@ def run_bench(devices: int = DEFAULT_DEVICES, repeat: int = DEFAULT_REPEAT, *,
     if m["find_ms"] is not None and m["find_floor_ms"]:
         m["find_ratio"] = m["find_ms"] / m["find_floor_ms"]
     m["peak_rss_mb"] = peak_rss_mb()
-    bench.notes.append(f"peak_rss_mb is this process's; the largest child process (the "
-                       f"synthetic catalog's writer, the partsdb commands) peaked at "
-                       f"{peak_rss_mb(children=True):.0f} MiB")
     # Other work on the machine skews every figure; the load average says how much there was.
     bench.notes.append(f"1-minute load average {load_before} at the start, {_load_average()} at "
                        f"the end ({os.cpu_count()} cores)")
