@@ -242,6 +242,11 @@ class _Bench:
         self.bipolar_rows = kinds["bjt"] + kinds["darlington"]
         self.notes.append(f"catalog: {self.n - self.bipolar_rows:,} of {self.n:,} rows are FETs "
                           f"({kinds['mosfet']:,} MOSFETs, {kinds['jfet']:,} JFETs)")
+        # Read now, while the writer is the only finished child: a later child's figure would
+        # count the pages it shared with this (by then larger) process when it was forked.
+        self.notes.append(f"the synthetic catalog's writer (a child process) peaked at "
+                          f"{peak_rss_mb(children=True):.0f} MiB; peak_rss_mb is this "
+                          "process's: imports, rankings, searches")
         if fallback:
             self.notes.append(f"{fallback} designations fell back to numbered house "
                               "names (their scheme's name space was full)")
@@ -592,9 +597,6 @@ def run_bench(devices: int = DEFAULT_DEVICES, repeat: int = DEFAULT_REPEAT, *,
     if m["find_ms"] is not None and m["find_floor_ms"]:
         m["find_ratio"] = m["find_ms"] / m["find_floor_ms"]
     m["peak_rss_mb"] = peak_rss_mb()
-    bench.notes.append(f"peak_rss_mb is this process's; the largest child process (the "
-                       f"synthetic catalog's writer, the partsdb commands) peaked at "
-                       f"{peak_rss_mb(children=True):.0f} MiB")
     # Other work on the machine skews every figure; the load average says how much there was.
     bench.notes.append(f"1-minute load average {load_before} at the start, {_load_average()} at "
                        f"the end ({os.cpu_count()} cores)")

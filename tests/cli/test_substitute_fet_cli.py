@@ -156,4 +156,4 @@ def test_swap_of_a_mosfet_is_recorded_with_its_stress_and_audited(url: str) -> N
         (item,) = swaplog.audit(session)
     db.dispose()
     assert item.verdict == "under-rated"
-    assert any(p.startswith("drive: under-rated") for p in item.problems)
+    assert any(p.startswith("Gate drive: under-rated") for p in item.problems)
