@@ -20,6 +20,16 @@ PLAUSIBLE: dict[str, tuple[float, float]] = {
     "ptot": (0.05, 300), "tj_max": (75, 200), "hfe_min": (5, 1000), "hfe_max": (5, 2000),
     "hfe_ic": (1e-5, 10), "ft": (1e5, 1e10), "vbe_on": (0.15, 1.5), "vbe_ic": (1e-5, 10),
     "vce_sat": (0.05, 1.5), "icbo": (1e-10, 1e-4),
+    # Field-effect parts (common practice): power MOSFETs 20-1500 V, Rds(on) mOhm to ohms at a
+    # 4.5-10 V test drive, Vgs(th) 1-5 V, Qg nC to hundreds of nC, Ciss 100 pF-10 nF, trr tens
+    # to hundreds of ns; audio JFETs Idss 0.5-30 mA, |Vgs(off)| 0.2-8 V, |yfs| 1-50 mS, en
+    # 1-20 nV/rtHz; Rth j-c 0.3-10 K/W for a power outline.
+    "rth_jc": (0.2, 20), "vds": (10, 1500), "vgs_max": (8, 40), "id_max": (0.1, 200),
+    "rds_on": (1e-3, 20), "rds_on_vgs": (2.5, 10), "rds_on_id": (0.05, 100),
+    "vgs_th_min": (0.4, 5), "vgs_th_max": (0.8, 6), "qg": (1e-9, 500e-9), "qgd": (0.3e-9, 200e-9),
+    "ciss": (50e-12, 20e-9), "trr": (10e-9, 1e-6), "vgs_off_min": (0.1, 8),
+    "vgs_off_max": (0.2, 10), "idss_min": (1e-4, 0.05), "idss_max": (1e-4, 0.1),
+    "yfs": (1e-3, 100), "yfs_id": (1e-4, 10), "en": (0.5e-9, 30e-9),
 }
 
 
