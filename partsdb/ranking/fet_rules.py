@@ -42,6 +42,7 @@ from __future__ import annotations
 import math
 
 from partsdb.derating import MARGINAL, OK, REL_TOL, UNDER, UNKNOWN
+from partsdb.jfet import saturation_overdrive
 from partsdb.mosfet_loss import RDS_TEMPCO
 from partsdb.mosfet_loss import switching_loss as _switching_loss
 
@@ -149,12 +150,10 @@ def geometric_centre(lo: float | None, hi: float | None) -> float | None:
 def self_bias_current(idss: float, vp: float, rs: float) -> float:
     """Drain current of a self-biased JFET (gate at 0 V, source resistor ``rs``) by Shockley's
     law: the root of Id = Idss (1 - Id Rs / |Vp|)^2 with Id Rs < |Vp| (module docstring)."""
+    # One solver for Shockley's law: the JFET stage module's (gate at 0 V).
     vp = abs(vp)
-    k = vp / (rs * idss)
-    # u = Id Rs / |Vp| solves u^2 - (2 + k) u + 1 = 0; the root below 1
-    b = 2.0 + k
-    u = (b - math.sqrt(b * b - 4.0)) / 2.0
-    return u * vp / rs
+    overdrive = saturation_overdrive(0.0, rs, idss, vp)
+    return idss * (overdrive / vp) ** 2
 
 
 def implied_source_resistor(idss: float, vp: float) -> float:
