@@ -155,8 +155,11 @@ class SubstituteView(Vertical):
                             compact=True)
         with Horizontal(id="sub-stress"):
             for row in STRESS_FIELDS:  # every stress the CLI offers, from the one table
-                field = TextField(placeholder=f"{row.brief} {row.unit}", id=f"ss-{row.name}",
-                                  compact=True)
+                # name and unit, or the name alone where both would not fit 80 columns (eight
+                # FET inputs leave seven characters each; the tooltip names the unit)
+                hint = f"{row.brief} {row.unit}"
+                field = TextField(placeholder=hint if len(hint) <= 7 else row.brief,
+                                  id=f"ss-{row.name}", compact=True)
                 field.tooltip = f"{row.label}: {row.help}"
                 # bipolar stresses until a field-effect original is ranked (_show_stresses_for)
                 field.display = row in stresses_for("bjt")
