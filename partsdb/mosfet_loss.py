@@ -8,16 +8,15 @@ Formulas (each an estimate, stated as such in the output):
   1/Rds = KP (Vgs - Vt): Rds(drive) = Rds(spec) (Vgs(spec) - Vt)/(Vdrive - Vt), with Vt the
   record's Vgs(th) max (the worst part). A stronger drive is not credited (the record's figure
   is kept). A drive at or below Vgs(th) max may not turn the part on at all.
-* Rds(on) against temperature: Rds(Tj) = Rds(25 °C) (1 + a)^(Tj - 25) with a = 0.7 %/K
-  (:data:`RDS_TEMPCO`; common practice for silicon power MOSFETs: datasheets' normalised curves
-  reach 1.6-2x at 125 °C, and 1.007^100 = 2.01 takes the upper end, as a verdict should). The
-  substitute finder (:mod:`partsdb.ranking.fet_rules`) uses this same figure.
+* Rds(on) against temperature: Rds(Tj) = Rds(25 °C) (1 + a)^(Tj - 25) with a = 0.5 %/K
+  (:data:`RDS_TEMPCO`; common practice: datasheets' normalised curves reach 1.5-2x at
+  125-150 °C, and 1.005^100 = 1.65, 1.005^125 = 1.87). The substitute finder
+  (:mod:`partsdb.ranking.fet_rules`) uses this same figure.
 * Conduction loss I^2 Rds(on)(Tj), with I the RMS drain current while the part conducts (for a
   PWM load give the RMS over the period).
-* Switching loss (rough, common practice): 1/2 V I (tr + tf) fsw, each edge lasting about
-  Qg/Igate (the time the driver needs to move the whole gate charge), so tr + tf = 2 Qg/Igate
-  and the loss is V I (Qg/Igate) fsw. Pessimistic (only part of Qg is moved while V and I
-  overlap); the substitute finder uses this same function.
+* Switching loss (rough, common practice): 1/2 V I (tr + tf) fsw with tr + tf about Qg/Igate,
+  the time the driver needs to move the whole gate charge. The substitute finder uses this same
+  function.
 * Junction temperature: Tj = Ta + P(Tj) Rth(total) through the chain of :mod:`partsdb.thermal`
   (Rth j-c from the record, else from a case rating; plus case-to-sink and sink-to-ambient,
   or the outline's free-air figure; a free-air rating gives Rth j-a and no sink is credited).
@@ -45,7 +44,7 @@ from partsdb.thermal import (
     free_air_case_to_ambient,
 )
 
-RDS_TEMPCO = 0.007
+RDS_TEMPCO = 0.005
 """Relative rise of Rds(on) per kelvin, compounding (common practice; see the module text)."""
 TJ_MAX_DEFAULT = 150.0
 """Tj max assumed for a silicon MOSFET whose record has none, °C (common practice)."""
@@ -140,8 +139,8 @@ def rds_at_temperature(rds25: float, tj: float) -> float:
 
 def switching_loss(vds: float, i_d: float, qg: float, gate_current: float,
                    fsw: float) -> tuple[float, float]:
-    """(loss W, tr + tf s): 1/2 V I (tr + tf) fsw with tr = tf = Qg/Igate (rough)."""
-    t = 2.0 * qg / gate_current
+    """(loss W, tr + tf s): 1/2 V I (tr + tf) fsw with tr + tf = Qg/Igate (rough)."""
+    t = qg / gate_current
     return 0.5 * vds * i_d * t * fsw, t
 
 
@@ -242,7 +241,7 @@ def _losses(params: MosfetParams, point: MosfetPoint,
             sw, t_sw = switching_loss(point.vds, point.id, params.qg, point.gate_current,
                                       point.fsw)
             notes.append(f"switching loss is an estimate: 1/2 x Vds x Id x (tr + tf) x fsw "
-                         f"with tr + tf = 2 Qg/Igate = {t_sw * 1e9:.3g} ns (common practice)")
+                         f"with tr + tf = Qg/Igate = {t_sw * 1e9:.3g} ns (common practice)")
     return rds_drive, conduction25, sw, t_sw
 
 

@@ -12,19 +12,19 @@ has no written source); :mod:`partsdb.ranking.fet_checks` turns them into checks
   V_drive < 2 x Vgs(th)max (or below rds_on_vgs with no Vgs(th) max stated): ``under-rated``
   (too little overdrive: the part may run in its linear region and overheat).
 * **Rds(on) with temperature** (:func:`rds_on_at`, common practice for silicon power MOSFETs:
-  Rds(on) roughly doubles from 25 °C to about 125-150 °C; modelled as
-  Rds(on)(Tj) = Rds(on)(25 °C) x (1 + alpha)^(Tj - 25) with alpha = 0.007 /K, which gives
-  x 2.01 at 125 °C, the upper end of the usual datasheet curve x 1.6-2.0). The figure is
-  :data:`partsdb.mosfet_loss.RDS_TEMPCO`, the one ``partsdb check`` uses.
+  Rds(on) reaches 1.5-2x its 25 °C value at 125-150 °C; modelled as
+  Rds(on)(Tj) = Rds(on)(25 °C) x (1 + alpha)^(Tj - 25) with alpha = 0.005 /K, x 1.65 at 125 °C
+  and x 1.87 at 150 °C). The figure is :data:`partsdb.mosfet_loss.RDS_TEMPCO`, the one
+  ``partsdb check`` uses.
 * **Junction temperature with conduction loss** (:func:`junction_fixed_point`): the loss
   depends on Tj and Tj on the loss, Tj = Ta + (I^2 Rds(on)(Tj) + P_other) x Rth; iterated from
   Tj = Ta to a fixed point (the map is increasing, so the iterates rise monotonically to the
   lowest fixed point when there is one). No fixed point below :data:`RUNAWAY_TJ` is thermal
   runaway (the loss grows faster with temperature than the path can carry it away).
-* **Switching loss** (:func:`switching_loss`, common practice, a first estimate): each edge
-  lasts about t = Qg / I_gate, and P_sw = 1/2 x V x I x (t_rise + t_fall) x f_sw = V x I x
-  (Qg / I_gate) x f_sw: :func:`partsdb.mosfet_loss.switching_loss`, the one ``partsdb check``
-  uses.
+* **Switching loss** (:func:`switching_loss`, common practice, a first estimate):
+  P_sw = 1/2 x V x I x (t_rise + t_fall) x f_sw with t_rise + t_fall about Qg / I_gate (the time
+  the driver needs to move the whole gate charge): :func:`partsdb.mosfet_loss.switching_loss`,
+  the one ``partsdb check`` uses.
 * **Windows on a log scale** (:func:`window_status`, as the hFE window): a candidate window
   inside the original's is ``ok``; one that overlaps it but reaches outside ``marginal``; one
   wholly outside by at most a factor :data:`WINDOW_GAP_FACTOR` ``marginal``; farther
@@ -101,7 +101,7 @@ def junction_fixed_point(ambient: float, rth: float, current: float, rds_on_25: 
 
 def switching_loss(voltage: float, current: float, qg: float, gate_current: float,
                    fsw: float) -> float:
-    """P_sw = 1/2 V I (t_r + t_f) f_sw with t_r = t_f = Qg / I_gate (module docstring), W."""
+    """P_sw = 1/2 V I (t_r + t_f) f_sw with t_r + t_f = Qg / I_gate (module docstring), W."""
     return _switching_loss(voltage, current, qg, gate_current, fsw)[0]
 
 

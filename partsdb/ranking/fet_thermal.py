@@ -20,7 +20,12 @@ from dataclasses import dataclass
 from typing import Any
 
 from partsdb.derating import OK, UNDER, UNKNOWN, Policy, grade
-from partsdb.ranking.fet_rules import junction_fixed_point, rds_on_at, switching_loss
+from partsdb.ranking.fet_rules import (
+    RDS_ALPHA,
+    junction_fixed_point,
+    rds_on_at,
+    switching_loss,
+)
 from partsdb.ranking.model import Stress
 from partsdb.thermal import (
     SINK_SWEEP,
@@ -137,9 +142,9 @@ def load_of(dev: Any, stress: Stress, mosfet: bool) -> tuple[Load, str]:
             sw = switching_loss(stress.vds_peak, stress.id_peak, qg, stress.gate_current,
                                 stress.fsw)
     text = (f"conduction Id^2 x Rds(on)(Tj) with Id {_a(stress.id_peak)}, Rds(on) "
-            f"{rds:.4g} Ω at 25 °C x (1.007)^(Tj-25)")
+            f"{rds:.4g} Ω at 25 °C x ({1 + RDS_ALPHA:g})^(Tj-25)")
     if sw:
-        text += (f" + switching 1/2 x {stress.vds_peak:g} V x {_a(stress.id_peak)} x 2 x Qg/Ig "
+        text += (f" + switching 1/2 x {stress.vds_peak:g} V x {_a(stress.id_peak)} x Qg/Ig "
                  f"x fsw = {_w(sw)} (estimate)")
     return Load(current=stress.id_peak, rds_on=rds, switching=sw, text=text), missing
 
