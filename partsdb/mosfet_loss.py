@@ -297,7 +297,11 @@ def check_mosfet(params: MosfetParams, point: MosfetPoint,
     outside = 0.0
     if ref == "case":
         outside = float(case_to_ambient(point.heatsink, point.case_to_sink, free_air))
-        if point.heatsink is None:
+        if point.heatsink is not None:
+            notes.append(f"thermal chain: Rth j-c {r_jref:.3g} + case to sink "
+                         f"{point.case_to_sink:g} (mounting of {params.package or 'an unknown outline'}"
+                         f") + sink {point.heatsink:g} = {r_jref + outside:.3g} K/W")
+        else:
             notes.append(f"no heat sink given: case-to-ambient {free_air:g} K/W in free air for "
                          f"{params.package or 'an unknown package'}"
                          + (" (assumed, common practice)" if guessed else " (common practice)"))

@@ -75,7 +75,9 @@ def _policy(name: str) -> Policy:
 @click.option("--heatsink", type=QuantityParam("K/W", "heatsink"), default=None,
               help="Sink-to-ambient thermal resistance, K/W (omit for no heat sink).")
 @click.option("--case-to-sink", type=QuantityParam("K/W", "case_to_sink", positive=False),
-              default=None, help="Case-to-sink thermal resistance, K/W (default 0.5, greased).")
+              default=None,
+              help="Case-to-sink thermal resistance, K/W (default: the outline's mounting, "
+                   "as the substitute finder takes it: 0.5 TO-3, 0.8 TO-247, 1.0 TO-220).")
 @click.option("--policy", "policy_name", default="workshop", show_default=True,
               help="Derating policy name (see the policies command).")
 @format_option("table", "json")
@@ -95,7 +97,7 @@ def check(state: CliState, designation: str, vce: float | None, ic: float | None
     Example: partsdb check XK101 --vce 9V --ic 20mA --ambient 40
     """
     from partsdb.operating import check_operating_point
-    from partsdb.thermal import DEFAULT_CASE_TO_SINK
+    from partsdb.thermal import mounting_resistance
 
     policy = _policy(policy_name)
     device = load_device(state, designation)
@@ -120,7 +122,8 @@ def check(state: CliState, designation: str, vce: float | None, ic: float | None
     try:
         result = check_operating_point(
             device, vce, ic, power=power, ambient=ambient, heatsink=heatsink,
-            case_to_sink=DEFAULT_CASE_TO_SINK if case_to_sink is None else case_to_sink,
+            case_to_sink=(mounting_resistance(device.package) if case_to_sink is None
+                          else case_to_sink),
             policy=policy)
     except ValueError as err:
         fail(str(err))

@@ -40,7 +40,7 @@ def run_mosfet_check(device: Device, vds: float | None, id_: float | None,
     """``partsdb check`` for a MOSFET."""
     from partsdb.errors import InvalidInput
     from partsdb.mosfet_loss import MosfetPoint, check_mosfet, params_from_record
-    from partsdb.thermal import DEFAULT_CASE_TO_SINK
+    from partsdb.thermal import mounting_resistance
 
     if getattr(device, "kind", None) != "mosfet":
         fail(f"device: {device.designation} is a {device.polarity_text} {device.kind}; "
@@ -58,8 +58,8 @@ def run_mosfet_check(device: Device, vds: float | None, id_: float | None,
     try:
         point = MosfetPoint(vds=vds, id=id_, drive=drive, fsw=fsw,
                             gate_current=gate_current, ambient=ambient, heatsink=heatsink,
-                            case_to_sink=DEFAULT_CASE_TO_SINK if case_to_sink is None
-                            else case_to_sink)
+                            case_to_sink=(mounting_resistance(device.package)
+                                          if case_to_sink is None else case_to_sink))
         result = check_mosfet(params_from_record(device), point, policy)
     except InvalidInput as err:
         fail(str(err))
