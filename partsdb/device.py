@@ -582,6 +582,11 @@ def parse_device(raw: Mapping[str, Any]) -> Device:
         (k, f"{k}: unknown field; known fields are {', '.join(FIELD_NAMES)}") for k in unknown
     ]
     values: dict[str, Any] = {}
+    if str(raw.get("kind", "")).strip().lower() in FET_KINDS and \
+            str(raw.get("material") or "").strip() == "":
+        # a field-effect part is silicon unless said otherwise (germanium FETs were never
+        # made; SiC and GaN parts are entered as 'other'): common practice
+        raw = {**raw, "material": "si"}
     for spec in FIELDS:
         if spec.name not in raw:
             if spec.required:
