@@ -37,6 +37,11 @@ class KitError(InvalidInput):
     """A kit file or a kit take refused; the message names the line and field."""
 
 
+
+PICK_ORDER: dict[str, int] = {"new": 0, "nos": 1, "tested": 2, "used": 3, "pulled": 4}
+"""Lot conditions in the order a kit takes them (best first): measured-good pulls before
+unmeasured ones (common practice; the conditions are :data:`partsdb.lots.CONDITIONS`)."""
+
 @dataclass(frozen=True)
 class KitLine:
     reference: str
@@ -170,18 +175,30 @@ class _Drawers:
         return sum(max(0, n) for _loc, _cond, n in self.available(designation))
 
     def reserve(self, designation: str, qty: int) -> list[tuple[str, str, int]] | None:
-        """Picks for ``qty`` parts, largest lot first (fewest drawers to open), or None when
-        the drawers no longer hold enough."""
+        """Picks for ``qty`` parts, or None when the drawers no longer hold enough.
+
+        The rule (common practice of a parts counter): the best condition first (new, new old
+        stock, tested, used, pulled: :data:`PICK_ORDER`), and one lot when one lot holds
+        enough, so the fewest drawers are opened; otherwise lots in that order, larger first.
+        """
         lots = [lot for lot in self.available(designation) if lot[2] > 0]
         if sum(lot[2] for lot in lots) < qty:
             return None
-        picks, left = [], qty
-        for location, condition, have in sorted(lots, key=lambda t: (-t[2], t[0])):
-            n = min(have, left)
-            picks.append((location, condition, n))
-            left -= n
-            if left == 0:
-                break
+
+        def rank(lot: tuple[str, str, int]) -> tuple[int, int, str]:
+            return (PICK_ORDER.get(lot[1], len(PICK_ORDER)), -lot[2], lot[0])
+
+        whole = sorted((lot for lot in lots if lot[2] >= qty), key=rank)
+        if whole:
+            picks = [(whole[0][0], whole[0][1], qty)]
+        else:
+            picks, left = [], qty
+            for location, condition, have in sorted(lots, key=rank):
+                n = min(have, left)
+                picks.append((location, condition, n))
+                left -= n
+                if left == 0:
+                    break
         self.hold(designation, picks)
         return picks
 

@@ -88,3 +88,36 @@ def test_taking_a_switched_plan_logs_each_line_as_switched(shop: Any,
         swaps = swaplog.list_swaps(session, job="J-88")
     assert sorted((s.original, s.substitute) for s in swaps) == [("QK20", "QK23"),
                                                                  ("QK20", "QK24")]
+
+
+def test_picks_prefer_the_best_condition_and_one_drawer(db_url: str, tmp_path: Path) -> None:
+    # The pick rule (common practice of a parts counter): the best condition first, and one
+    # lot when one lot holds enough. QK40 lots, worked by hand: 9 pulled in C3/D01 (largest),
+    # 3 new in C1/D02, 2 tested in C1/D05. Q1 needs 2 and Q2 needs 1: the new lot holds both
+    # in turn (3 - 2 = 1 left for Q2), so one drawer, C1/D02, is opened and no pulled part is
+    # taken. Q3 needs 4: no lot but the pulled one holds 4 whole, so it comes from C3/D01.
+    from partsdb.services import catalog, stock
+    from partsdb.services.substitution import clear_cache
+    from tests.kit_shop import kit_part
+
+    db = open_database(db_url, notify=None)
+    try:
+        with db.session() as session:
+            catalog.add_device(session, kit_part("QK40"))
+            stock.receive(session, "QK40", 9, "C3/D01", condition="pulled", create=True)
+            stock.receive(session, "QK40", 3, "C1/D02", condition="new", create=True)
+            stock.receive(session, "QK40", 2, "C1/D05", condition="tested", create=True)
+        clear_cache()
+        text = "Ref,Designation,Qty\nQ1,QK40,2\nQ2,QK40,1\n"
+        plan = kit.plan_kit(db, kit.read_kit(write_kit(tmp_path, text)))
+        assert [p.picks for p in plan.lines] == [[("C1/D02", "new", 2)], [("C1/D02", "new", 1)]]
+        plan = kit.plan_kit(db, kit.read_kit(write_kit(tmp_path, "Ref,Designation,Qty\n"
+                                                       "Q3,QK40,4\n", "q3.csv")))
+        assert plan.lines[0].picks == [("C3/D01", "pulled", 4)]
+        # 13 of them: no lot holds 13, so best condition first: 3 new, 2 tested, 8 of 9 pulled
+        plan = kit.plan_kit(db, kit.read_kit(write_kit(tmp_path, "Ref,Designation,Qty\n"
+                                                       "Q4,QK40,13\n", "q4.csv")))
+        assert plan.lines[0].picks == [("C1/D02", "new", 3), ("C1/D05", "tested", 2),
+                                       ("C3/D01", "pulled", 8)]
+    finally:
+        db.dispose()
