@@ -39,6 +39,10 @@ STATUS_STYLE = {"ok": "green", "suitable": "green", "marginal": "yellow",
 RANK_LIMIT = 30
 
 
+SEVERITY: dict[str, int] = {"under-rated": 0, "marginal": 1, "unknown": 2, "ok": 3}
+"""Order of the comparison's rows in the detail pane: what decides the verdict first."""
+
+
 def ratio_bar(ratio: float | None, width: int = 10) -> Text:
     """A bar whose midpoint mark is ratio 1.0 (just meets the need); full at 2x or more."""
     if ratio is None:
@@ -305,7 +309,9 @@ class SubstituteView(Vertical):
         grid.add_column(c.designation, justify="right")
         grid.add_column("Ratio")
         grid.add_column("Status")
-        for check in c.checks:
+        # the reasons first: under-rated, marginal and unknown rows above the ok ones, so the
+        # why of a verdict is in sight at 80x24 (each group in the checks' own order)
+        for check in sorted(c.checks, key=lambda k: SEVERITY.get(k.status, len(SEVERITY))):
             need, offered = c.shown.get(check.parameter, ("—", "—"))
             grid.add_row(LABEL.get(check.parameter, check.parameter), need, offered, ratio_bar(check.ratio),
                          Text(check.status, style=STATUS_STYLE.get(check.status, "")))
