@@ -308,8 +308,9 @@ def swap_history(session: Session, original: str) -> dict[str, PastSwaps]:
             entry[0] += 1
         elif outcome == "failed":
             entry[1] += 1
-        if job and job not in entry[2]:
-            entry[2].append(job)
+        # only swaps with an outcome are counted, so only their jobs are named (with it)
+        if job and outcome in ("worked", "failed") and f"{job}: {outcome}" not in entry[2]:
+            entry[2].append(f"{job}: {outcome}")
     return {k: PastSwaps(w, f, tuple(jobs)) for k, (w, f, jobs) in counts.items()}
 
 

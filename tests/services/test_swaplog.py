@@ -208,3 +208,14 @@ def test_a_recorded_fet_swap_is_listed_unchecked_and_the_audit_goes_on(shop: Any
         items = swaplog.audit(session)
     assert [i.verdict for i in items] == ["suitable", "unchecked"]
     assert "QWF0 is not stored and no stress was recorded" in items[1].problems[-1]
+
+
+def test_history_names_only_the_jobs_with_an_outcome(shop: Any) -> None:
+    # A swap still waiting for its outcome (unknown) is not counted, so its job is not named
+    # beside "worked 1 time(s)" either.
+    with shop.session() as session:
+        swaplog.add(session, "QW1", "QW3", "J-2", outcome="worked")
+        swaplog.add(session, "QW1", "QW3", "J-3")
+    after = {c.designation: c for c in rank_substitutes(shop, "QW1").candidates}
+    note = next(f.message for f in after["QW3"].flags if f.code == "worked-before")
+    assert "worked 1 time(s) (jobs J-2: worked)" in note and "J-3" not in note
