@@ -493,9 +493,18 @@ def rank_substitutes(target: Session | Database, designation: str | None = None,
         qty, places = stock_columns(session, cat)
         history = swap_history(session, requirement.designation) if requirement.designation \
             else None
-    return rank(cat, requirement, stress or Stress(), pol, w, qty, history=history,
-                locations=places, limit=limit, in_stock_only=in_stock_only,
-                show_rejected=show_rejected, considered=considered)
+    result = rank(cat, requirement, stress or Stress(), pol, w, qty, history=history,
+                  locations=places, limit=limit, in_stock_only=in_stock_only,
+                  show_rejected=show_rejected, considered=considered)
+    ambient = result.stress.ambient
+    if requirement.tj_max is not None and ambient is not None and ambient >= requirement.tj_max:
+        import dataclasses
+
+        note = (f"ambient {ambient:g} °C is at or above the original's Tj max "
+                f"{requirement.tj_max:g} °C: the original itself could not run there; check the "
+                "figure (the air inside the case, in °C or kelvin such as 318K)")
+        result = dataclasses.replace(result, notes=(*result.notes, note))
+    return result
 
 
 def worked_example(db: Database, command: str = "partsdb") -> str:

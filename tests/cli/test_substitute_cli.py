@@ -355,3 +355,12 @@ def test_spec_ptot_needs_its_reference(demo_url: str) -> None:
                                    "--ptot", "40W", "--ptot-ref", "case", "--heatsink",
                                    "free-air"])
     assert ok.exit_code == 0, ok.output
+
+
+@pytest.mark.parametrize(("ambient", "warned"), [("89.9", False), ("90", True), ("363.15K", True)])
+def test_ambient_at_the_originals_tj_max_is_said(url: str, ambient: str, warned: bool) -> None:
+    # QZ100's Tj max is 90 °C (its row above); 363.15 K is 90 °C. At or above it the original
+    # itself could not run, so the ranking says so (common practice: a sanity check on input).
+    result = run(url, "substitute", "QZ100", "--ambient", ambient)
+    assert result.exit_code == 0, result.output
+    assert ("at or above the original's Tj max 90 °C" in result.output) is warned
