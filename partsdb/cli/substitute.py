@@ -209,6 +209,10 @@ def _job_sheet(state: CliState, designation: str | None, pick: str | None, job: 
         fail("--output: a pdf job sheet needs a file name, e.g. --output job.pdf")
     sheet = jobsheet.make_job_sheet(state.database(), designation, pick, job=job, spec=spec,
                                     stress=stress, policy=policy_name, stage=stage_text)
+    if sheet.verdict == "under-rated":
+        # on stderr, so a sheet sent to stdout stays clean; the sheet itself states the verdict
+        click.echo(f"warning: {pick} is under-rated for {designation}; the job sheet says so "
+                   "(its under-rated rows give the reasons, its policy line the rule)", err=True)
     if output is None:
         click.echo(jobsheet.render(sheet, fmt).decode("utf-8"), nl=False)
         return

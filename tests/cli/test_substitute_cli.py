@@ -364,3 +364,11 @@ def test_ambient_at_the_originals_tj_max_is_said(url: str, ambient: str, warned:
     result = run(url, "substitute", "QZ100", "--ambient", ambient)
     assert result.exit_code == 0, result.output
     assert ("at or above the original's Tj max 90 °C" in result.output) is warned
+
+
+def test_an_under_rated_pick_is_warned_on_stderr(url: str) -> None:
+    # QZ130 is a 30 V part for the 40 V QZ100 (the audit test above): under-rated like for like.
+    result = run(url, "substitute", "QZ100", "--pick", "QZ130", "--job", "J-12")
+    assert result.exit_code == 0, result.output
+    assert "warning: QZ130 is under-rated for QZ100" in result.stderr
+    assert "warning" not in result.stdout and "QZ130" in result.stdout
