@@ -319,6 +319,8 @@ def swaplog_set(state: CliState, swap_id: int, outcome: str, note: str | None,
         return
     click.echo(f"swap #{view.id}: {view.original} -> {view.substitute} (job {view.job}): "
                f"{view.outcome or 'outcome unknown'}")
+    if note is not None:  # the note is replaced, not added to: show what it now reads
+        click.echo(f"note (replaced): {view.note or '(none)'}")
 
 
 @swaplog.command("list")
