@@ -53,7 +53,7 @@ def test_the_readme_has_commands_to_check() -> None:
     commands = readme_commands()
     assert len(commands) > 40
     # These two install the package: CI runs them (.ci/run), so the test skips them below.
-    assert commands[0].startswith("python3 -m venv .venv") and "pip install -q -e ." in commands[0]
+    assert commands[0].startswith("python3 -m venv .venv") and "pip install -q -e '.[print]'" in commands[0]
     assert commands[1].startswith("python3 -m venv .venv") and "'.[test]'" in commands[1]
     assert all(c.startswith("partsdb ") for c in commands[2:]), \
         [c for c in commands[2:] if not c.startswith("partsdb ")]
