@@ -45,8 +45,9 @@ def test_markdown_sheet_is_one_pick_with_its_drawers_leads_and_stage(run) -> Non
     result = run("substitute", "OC375", "--pick", "2SB8117", "--job", "J-2611",
                  "--stage", STAGE)
     assert result.exit_code == 0, result.output
-    text = result.output
+    text = result.stdout  # the sheet; the under-rated warning goes to stderr
     assert text.startswith("# Job sheet J-2611: OC375 -> 2SB8117")
+    assert result.stderr.startswith("warning: 2SB8117 is under-rated for OC375")
     # One candidate only: no other designation of the ranking appears in a row.
     assert "AC951" not in text and "Ranked substitutes" not in text
     for location, qty in _drawers(run.db, "2SB8117"):
@@ -82,7 +83,7 @@ def test_pdf_sheet_is_one_a4_page_reading_back_its_content(run, tmp_path: Path) 
         os.chdir(cwd)
     assert result.exit_code == 0, result.output
     # The absolute path is printed, once.
-    assert result.output.strip() == f"job sheet written to {out.resolve()}"
+    assert result.stdout.strip() == f"job sheet written to {out.resolve()}"
     reader = PdfReader(out)
     assert len(reader.pages) == 1
     page = reader.pages[0]

@@ -33,7 +33,7 @@ def test_failed_oc375_sheet_take_log_and_outcome(demo_db: Any, tmp_path: Path) -
     sheet = tmp_path / "job-J-2611.pdf"
     written = run("substitute", "OC375", "--pick", "2SA8150", "--job", "J-2611", "--format",
                   "pdf", "--output", str(sheet))
-    assert written.output.strip() == f"job sheet written to {sheet.resolve()}"
+    assert written.stdout.strip() == f"job sheet written to {sheet.resolve()}"
     text = PdfReader(sheet).pages[0].extract_text()
     assert "Job J-2611" in text and "2SA8150" in text and "C1/D06" in text
     run("stock", "take", "2SA8150", "1", "--from", "C1/D06", "--job", "J-2611")
