@@ -22,7 +22,7 @@ QUERY = "2sc18"
 INDEX_WAIT_S = 600.0
 
 
-async def _measure(path: Path) -> dict[str, float]:
+async def _measure(path: str) -> dict[str, float]:
     from partsdb.storage.database import open_database
     from tui.app import PartsdbApp
     from tui.devices import SEARCH_DEBOUNCE, DevicesView
@@ -62,6 +62,7 @@ async def _measure(path: Path) -> dict[str, float]:
             "tui_keystroke_ms": 1000 * statistics.median(times)}
 
 
-def measure_tui(path: str | Path) -> dict[str, Any]:
-    """Both figures on the SQLite database at ``path`` (see the module docstring)."""
-    return asyncio.run(_measure(Path(path)))
+def measure_tui(target: str | Path) -> dict[str, Any]:
+    """Both figures on the database at ``target``, a SQLite path or a URL (see the module
+    docstring)."""
+    return asyncio.run(_measure(str(target)))
