@@ -20,7 +20,8 @@ _UNITS = {"import_rows_per_s": "rows/s", "import_mapped_rows_per_s": "rows/s",
           "rank_floor_ms": "ms", "rank_ratio": "x", "find_ms": "ms", "find_floor_ms": "ms",
           "find_ratio": "x", "find_agreement": "share", "cli_help_s": "s",
           "cli_substitute_s": "s", "cli_substitute_catalog_s": "s", "peak_rss_mb": "MiB",
-          "tui_first_screen_s": "s", "tui_keystroke_ms": "ms"}
+          "tui_first_screen_s": "s", "tui_first_screen_pilot_s": "s", "tui_keystroke_ms": "ms",
+          "tui_keystroke_pilot_ms": "ms"}
 
 
 class _Sizes(click.ParamType):

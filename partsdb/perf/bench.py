@@ -74,7 +74,8 @@ METRICS: tuple[str, ...] = (
     "cli_substitute_catalog_s", "peak_rss_mb",
 )
 """Every measured figure, in report order; the JSON adds ``devices`` and ``machine``."""
-TUI_METRICS: tuple[str, ...] = ("tui_first_screen_s", "tui_keystroke_ms")
+TUI_METRICS: tuple[str, ...] = ("tui_first_screen_s", "tui_first_screen_pilot_s",
+                                 "tui_keystroke_ms", "tui_keystroke_pilot_ms")
 """Figures of the terminal UI (``partsdb bench --tui``, measured by ``tui.timing``): in the
 report only when measured."""
 
