@@ -182,6 +182,8 @@ class PartsdbApp(App[None]):
         """The fuzzy index over the catalog, shared by Devices and Substitute."""
         self.built: set[str] = {start}
         """The views built so far (the start view, then each on its first show)."""
+        self._typed_while_building: list[str] | None = None
+        """Characters typed while a view shown for the first time is being built."""
         self._mounting: dict[str, Any] = {}
         """Views being built: their pending mounts, awaited before they are first shown."""
         self.first_screen_at: float | None = None
@@ -352,11 +354,22 @@ class PartsdbApp(App[None]):
             self._show_built(ident, then)
             return
 
+        # Until it is built, characters typed are kept for its field, not the old view's.
+        self._typed_while_building = []
+
         async def when_built() -> None:
             await mounting
             self._show_built(ident, then)
 
         self.call_later(when_built)
+
+    async def on_event(self, event: events.Event) -> None:
+        # Taken here, before the key is forwarded to the focused field of the view left.
+        if (self._typed_while_building is not None and isinstance(event, events.Key)
+                and event.is_printable and event.character):
+            self._typed_while_building.append(event.character)
+            return
+        await super().on_event(event)
 
     def _show_built(self, ident: str, then: Callable[[Any], None] | None) -> None:
         self.current = ident
@@ -376,6 +389,9 @@ class PartsdbApp(App[None]):
         else:
             self.screen.focus_next()
         self.refresh_bindings()
+        typed, self._typed_while_building = self._typed_while_building, None
+        if typed and isinstance(self.screen.focused, Input):
+            self.screen.focused.insert_text_at_cursor("".join(typed))
         if then is not None:
             then(view)
 
