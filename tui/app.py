@@ -13,6 +13,7 @@ and the refresh all read that table, so a new view is one row.
 from __future__ import annotations
 
 import threading
+import time
 from collections.abc import Callable, Iterable
 from dataclasses import dataclass
 from typing import TYPE_CHECKING, Any, ClassVar
@@ -179,12 +180,21 @@ class PartsdbApp(App[None]):
         self.current = start
         self.catalog_index = SharedIndex(db)
         """The fuzzy index over the catalog, shared by Devices and Substitute."""
+        self.built: set[str] = {start}
+        """The views built so far (the start view, then each on its first show)."""
+        self._typed_while_building: list[str] | None = None
+        """Characters typed while a view shown for the first time is being built."""
+        self._mounting: dict[str, Any] = {}
+        """Views being built: their pending mounts, awaited before they are first shown."""
+        self.first_screen_at: float | None = None
+        """``perf_counter()`` once the first screen was painted (``partsdb bench --tui``)."""
 
     def compose(self) -> ComposeResult:
         yield TabStrip(id="tab-strip")
+        # Only the first view is built at start (composing all of them was most of the first
+        # screen's time); each other one is built the first time it is shown (show_then).
         with ContentSwitcher(initial=self.start, id="views"):
-            for spec in VIEWS:
-                yield spec.factory(self.db, id=spec.ident)
+            yield view_spec(self.start).factory(self.db, id=self.start)
         # One line: the shown view's keys, then the app's own (Help, Refresh, Commands).
         yield Footer(compact=True)
 
@@ -244,17 +254,32 @@ class PartsdbApp(App[None]):
             self.catalog_changed()
         self._catalog_mark = catalog
         for spec in VIEWS:
+            if spec.ident not in self.built:
+                continue  # reads the database when first shown
             view = self.view(spec.ident)
             if hasattr(view, "refresh_data"):
                 view.refresh_data(visible=spec.ident == self.current)
         self.notify(f"Data {why}: view re-read.", timeout=2)
 
     def _warm_up(self) -> None:
+        if self.first_screen_at is None:  # called after the first screen's refresh
+            self.first_screen_at = time.perf_counter()
+            self._build_next_view()
         # One thread, in order of need: the search index (typing in Devices), then the imports
         # of Stage and Substitute. Two threads at once fight the UI for the GIL.
         if self.catalog_index.index is None and not self.catalog_index.building:
             self.catalog_index.building = True
             self.run_worker(self._index_then_imports, thread=True, group="index")
+
+    def _build_next_view(self) -> None:
+        """Build the views not shown yet, hidden, one per screen refresh after the first
+        screen, so a view key pressed later finds its view ready (and the keys typed right
+        after it land in its field)."""
+        for spec in VIEWS:
+            if spec.ident not in self.built:
+                self.view(spec.ident)
+                self.call_after_refresh(self._build_next_view)
+                return
 
     def _index_then_imports(self) -> None:
         self.catalog_index.build()
@@ -298,7 +323,15 @@ class PartsdbApp(App[None]):
         return label + (" (read-only)" if getattr(self.db, "read_only", False) else "")
 
     def view(self, ident: str) -> Any:
-        return self.query_one(f"#{ident}")
+        """The view ``ident``; one not built yet is built now, hidden (mounted at once, composed
+        by the time the app is next idle; :meth:`show_then` waits for that)."""
+        if ident in self.built:
+            return self.query_one(f"#{ident}")
+        self.built.add(ident)
+        view = view_spec(ident).factory(self.db, id=ident)
+        view.display = False  # the switcher shows it
+        self._mounting[ident] = self.query_one("#views", ContentSwitcher).mount(view)
+        return view
 
     def check_action(self, action: str, parameters: tuple[object, ...]) -> bool | None:
         # A form holds typed input: finish or cancel it before switching views.
@@ -307,9 +340,38 @@ class PartsdbApp(App[None]):
         return True
 
     def action_show(self, ident: str) -> None:
-        """Switch to a view, loading its data the first time it is shown."""
+        """Switch to a view, building it and loading its data the first time it is shown."""
+        self.show_then(ident)
+
+    def show_then(self, ident: str, then: Callable[[Any], None] | None = None) -> None:
+        """Switch to a view, then ``then(view)``: at once when the view is built, else once
+        its first build (mounted and composed) is done."""
         if isinstance(self.screen, HelpScreen):
             self.screen.dismiss()
+        view = self.view(ident)
+        mounting = self._mounting.pop(ident, None)
+        if mounting is None or view.is_mounted:  # built (at start or in the background)
+            self._show_built(ident, then)
+            return
+
+        # Until it is built, characters typed are kept for its field, not the old view's.
+        self._typed_while_building = []
+
+        async def when_built() -> None:
+            await mounting
+            self._show_built(ident, then)
+
+        self.call_later(when_built)
+
+    async def on_event(self, event: events.Event) -> None:
+        # Taken here, before the key is forwarded to the focused field of the view left.
+        if (self._typed_while_building is not None and isinstance(event, events.Key)
+                and event.is_printable and event.character):
+            self._typed_while_building.append(event.character)
+            return
+        await super().on_event(event)
+
+    def _show_built(self, ident: str, then: Callable[[Any], None] | None) -> None:
         self.current = ident
         self.query_one("#views", ContentSwitcher).current = ident
         self.query_one(TabStrip).mark(ident)
@@ -327,6 +389,11 @@ class PartsdbApp(App[None]):
         else:
             self.screen.focus_next()
         self.refresh_bindings()
+        typed, self._typed_while_building = self._typed_while_building, None
+        if typed and isinstance(self.screen.focused, Input):
+            self.screen.focused.insert_text_at_cursor("".join(typed))
+        if then is not None:
+            then(view)
 
     def action_focus_step(self, step: int) -> None:
         """Focus the next (1) or previous (-1) field now, so the keys after it go there."""
@@ -354,8 +421,8 @@ class PartsdbApp(App[None]):
 
     @on(DevicesView.DeviceChosen)
     def _substitute_for(self, event: DevicesView.DeviceChosen) -> None:
-        self.action_show("substitute")
-        self.view("substitute").search_for(event.designation)
+        designation = event.designation
+        self.show_then("substitute", lambda view: view.search_for(designation))
 
     def get_system_commands(self, screen: Screen[Any]) -> Iterable[SystemCommand]:
         """The command list (ctrl+p): partsdb's own commands only, in its own words."""
@@ -388,12 +455,10 @@ class PartsdbApp(App[None]):
         self.notify("ctrl+q closes partsdb.", timeout=3)
 
     def _drawer_action(self, action: str) -> None:
-        self.action_show("drawers")
-        self.view("drawers").action_stock(action)
+        self.show_then("drawers", lambda view: view.action_stock(action))
 
     def _devices_action(self, action: str) -> None:
-        self.action_show("devices")
-        getattr(self.view("devices"), f"action_{action}")()
+        self.show_then("devices", lambda view: getattr(view, f"action_{action}")())
 
 
 def _import_heavy_modules() -> None:

@@ -12,7 +12,7 @@ not re-lay out the panel on every step.
 
 from __future__ import annotations
 
-from time import monotonic
+from time import monotonic, perf_counter
 from typing import TYPE_CHECKING, Any, ClassVar, cast
 
 from rich.console import Group
@@ -290,6 +290,9 @@ class DevicesView(Vertical):
         self.places: dict[str, list[str]] = {}
         self.searches_run = 0
         """How many index searches ran (a burst of keys is one; tests read it)."""
+        self.answered_at = 0.0
+        """``perf_counter()`` when the screen had refreshed after the last search's hits were
+        set (``partsdb bench --tui`` times a key to it)."""
         self._loaded = False
         self._stale = False
         self._search_timer: Timer | None = None
@@ -382,12 +385,16 @@ class DevicesView(Vertical):
                 self.shell.with_index(self._index_ready)
             return
         self.searches_run += 1
+        self.call_after_refresh(self._answered)
         hits = index.find(query, limit=SEARCH_LIMIT)
         rows = HitRows(self.db, hits, self.filters, self.stock)
         self.table.set_source(rows)
         self._count_text(f"{len(rows)} match" + ("" if len(rows) == 1 else "es"))
         if not len(rows):
             self.query_one("#dev-detail", Static).update(f"Nothing like {query!r}.")
+
+    def _answered(self) -> None:
+        self.answered_at = perf_counter()
 
     def _index_ready(self, _index: SearchIndex) -> None:
         self._waiting_for_index = False

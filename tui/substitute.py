@@ -432,8 +432,8 @@ class SubstituteView(Vertical):
             self.notify("Rank substitutes for a stored original first.", severity="warning")
             return
         app: Any = self.app
-        app.action_show("stage")
-        app.view("stage").fill(self.original, c.designation)
+        original, chosen = self.original, c.designation
+        app.show_then("stage", lambda view: view.fill(original, chosen))
 
 
 def problem_text(problem: Any) -> Text:

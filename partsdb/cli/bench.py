@@ -1,13 +1,14 @@
 """CLI: ``bench``, the performance harness (see :mod:`partsdb.perf.bench` for what each figure means).
 
-Works in a temporary directory of its own; it never opens the database named by ``--db``.
+Works in a temporary directory of its own. The global ``--db`` and ``PARTSDB_DB`` are never
+opened; the command's own ``--db URL`` (after ``bench``) runs the figures on an *empty*
+PostgreSQL database instead of SQLite files, refusing any database that holds a table.
 Progress goes to stderr, the result to stdout.
 """
 
 from __future__ import annotations
 
 from collections.abc import Callable
-from pathlib import Path
 from typing import Any
 
 import click
@@ -19,7 +20,8 @@ _UNITS = {"import_rows_per_s": "rows/s", "import_mapped_rows_per_s": "rows/s",
           "rank_floor_ms": "ms", "rank_ratio": "x", "find_ms": "ms", "find_floor_ms": "ms",
           "find_ratio": "x", "find_agreement": "share", "cli_help_s": "s",
           "cli_substitute_s": "s", "cli_substitute_catalog_s": "s", "peak_rss_mb": "MiB",
-          "tui_first_screen_s": "s", "tui_keystroke_ms": "ms"}
+          "tui_first_screen_s": "s", "tui_first_screen_pilot_s": "s", "tui_keystroke_ms": "ms",
+          "tui_keystroke_pilot_ms": "ms"}
 
 
 class _Sizes(click.ParamType):
@@ -57,8 +59,14 @@ def _number(value: float | None) -> str:
               help="Timed runs per figure (the median is reported), after one warm-up run.")
 @click.option("--tui", "with_tui", is_flag=True,
               help="Also time the terminal UI on the catalog (first screen, one search key).")
+@click.option("--db", "server", metavar="URL",
+              help="Run on this EMPTY PostgreSQL database instead of SQLite files of its own: "
+                   "the bench creates its tables there, empties them before each import and "
+                   "drops them at the end. A database holding any table is refused, untouched. "
+                   "(The global --db and PARTSDB_DB are never used by the bench.)")
 @format_option("table", "json")
-def bench(devices: list[int], repeat: int, with_tui: bool, fmt: str) -> None:
+def bench(devices: list[int], repeat: int, with_tui: bool, server: str | None,
+          fmt: str) -> None:
     """Measure import, substitute ranking, fuzzy find and start-up on a synthetic catalog.
 
     Builds an invented catalog of DEVICES rows (fixed seed) in a temporary database through the
@@ -80,7 +88,7 @@ def bench(devices: list[int], repeat: int, with_tui: bool, fmt: str) -> None:
                 tasks[step] = progress.add_task(step, total=total)
             progress.update(tasks[step], completed=done, total=total)
 
-        extra: Callable[[Path], dict[str, float]] | None = None
+        extra: Callable[[str], dict[str, float]] | None = None
         if with_tui:
             from tui.timing import measure_tui
 
@@ -88,7 +96,8 @@ def bench(devices: list[int], repeat: int, with_tui: bool, fmt: str) -> None:
         results = []
         for size in devices:
             try:
-                results.append(run_bench(size, repeat, progress=report, extra=extra))
+                results.append(run_bench(size, repeat, progress=report, extra=extra,
+                                         db_url=server))
             except ValueError as err:
                 fail(str(err))
             tasks.clear()

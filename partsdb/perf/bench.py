@@ -74,7 +74,8 @@ METRICS: tuple[str, ...] = (
     "cli_substitute_catalog_s", "peak_rss_mb",
 )
 """Every measured figure, in report order; the JSON adds ``devices`` and ``machine``."""
-TUI_METRICS: tuple[str, ...] = ("tui_first_screen_s", "tui_keystroke_ms")
+TUI_METRICS: tuple[str, ...] = ("tui_first_screen_s", "tui_first_screen_pilot_s",
+                                 "tui_keystroke_ms", "tui_keystroke_pilot_ms")
 """Figures of the terminal UI (``partsdb bench --tui``, measured by ``tui.timing``): in the
 report only when measured."""
 
@@ -207,8 +208,10 @@ def _run_cli(args: list[str], env: dict[str, str]) -> None:
 
 class _Bench:
     def __init__(self, devices: int, repeat: int, workdir: Path, progress: Progress | None,
-                 seed: int) -> None:
+                 seed: int, server: str | None = None) -> None:
         self.n = devices
+        self.server = server
+        """A PostgreSQL URL checked empty by :func:`check_empty_server` (None: SQLite files)."""
         self.repeat = repeat
         self.dir = workdir
         self.progress = progress or (lambda step, done, total: None)
@@ -251,9 +254,17 @@ class _Bench:
             self.notes.append(f"{fallback} designations fell back to numbered house "
                               "names (their scheme's name space was full)")
 
+    @property
+    def catalog_target(self) -> str:
+        """The bench's catalog database as ``--db`` takes it."""
+        return self.server or str(self.dir / "catalog.sqlite")
+
     def _fresh_db(self, name: str) -> Any:
         from partsdb.storage.database import open_database
 
+        if self.server is not None:  # one database: emptied (only the bench's tables) instead
+            drop_bench_tables(self.server)
+            return open_database(self.server, notify=None)
         path = self.dir / name
         for suffix in ("", "-wal", "-shm", "-journal"):
             Path(str(path) + suffix).unlink(missing_ok=True)
@@ -429,12 +440,14 @@ class _Bench:
         env.pop("PARTSDB_DB", None)
         self.metrics["cli_help_s"] = median_seconds(lambda: _run_cli(["--help"], env), self.repeat)
         self.progress(step, 1, 3)
-        catalog_args = ["--db", str(self.dir / "catalog.sqlite"), "substitute",
-                        *substitute_options(REQUIREMENT)]
+        # The database through the environment: a server URL's password stays off the
+        # command line (where other users' `ps` would show it).
+        catalog_env = {**env, "PARTSDB_DB": self.catalog_target}
+        catalog_args = ["substitute", *substitute_options(REQUIREMENT)]
         self.metrics["cli_substitute_catalog_s"] = median_seconds(
-            lambda: _run_cli(catalog_args, env), self.repeat)
+            lambda: _run_cli(catalog_args, catalog_env), self.repeat)
         self.notes.append("cli_substitute_catalog_s: partsdb substitute "
-                          f"{' '.join(catalog_args[3:])} on the bench's catalog database")
+                          f"{' '.join(catalog_args[1:])} on the bench's catalog database")
         self.progress(step, 2, 3)
         from partsdb.services.demo import DemoError, build_demo
 
@@ -559,44 +572,105 @@ def write_mapped_sheet(source: Path, target: Path) -> None:
             frame.to_csv(out, sep=";", index=False, header=i == 0, lineterminator="\n")
 
 
+def _server_engine(url: str) -> Any:
+    from partsdb.errors import InvalidInput
+    from partsdb.storage.database import make_engine, mask_url, resolve_url
+
+    resolved = resolve_url(url)
+    if resolved.get_backend_name() != "postgresql":
+        raise InvalidInput(f"--db: {mask_url(resolved)} is not valid; expected a PostgreSQL URL "
+                           "of an empty database (without --db the bench uses SQLite files "
+                           "of its own)")
+    return make_engine(resolved)
+
+
+def check_empty_server(url: str) -> None:
+    """Refuse (exit 2) a PostgreSQL database that holds any table or view: the bench empties
+    its database before each import and at the end, so it runs only on a throwaway one.
+    Nothing is written before this check passes."""
+    from sqlalchemy import inspect
+
+    from partsdb.errors import InvalidInput
+    from partsdb.storage.database import mask_url
+
+    engine = _server_engine(url)
+    try:
+        seen = inspect(engine)
+        found = [*seen.get_table_names(), *seen.get_view_names()]
+    finally:
+        engine.dispose()
+    if found:
+        raise InvalidInput(
+            f"--db: {mask_url(url)} is not empty ({len(found)} tables, e.g. "
+            f"{sorted(found)[0]}); expected an empty database the bench may fill and empty; "
+            "nothing was touched")
+
+
+def drop_bench_tables(url: str) -> None:
+    """Drop every table of the database at ``url`` (only ever one that
+    :func:`check_empty_server` found empty: every table in it is the bench's)."""
+    from sqlalchemy import inspect
+
+    engine = _server_engine(url)
+    try:
+        with engine.begin() as conn:
+            for name in inspect(conn).get_table_names():
+                conn.exec_driver_sql(f'DROP TABLE IF EXISTS "{name}" CASCADE')
+    finally:
+        engine.dispose()
+
+
 def run_bench(devices: int = DEFAULT_DEVICES, repeat: int = DEFAULT_REPEAT, *,
               workdir: str | os.PathLike[str] | None = None, progress: Progress | None = None,
-              seed: int = SEED,
-              extra: Callable[[Path], dict[str, float]] | None = None) -> BenchReport:
+              seed: int = SEED, db_url: str | None = None,
+              extra: Callable[[str], dict[str, float]] | None = None) -> BenchReport:
     """Build the synthetic catalog of ``devices`` rows and measure every figure (see module doc).
 
     ``workdir`` keeps the CSV and databases there (default: a temporary directory, removed).
-    ``extra(catalog_database)`` measures more figures on the bench's catalog database, last,
-    in this process (the CLI's ``--tui``: the terminal UI is a layer above this harness).
+    ``db_url``: a PostgreSQL database to run in instead of SQLite files; it must be empty
+    (:func:`check_empty_server`, checked first) and is emptied again at the end.
+    ``extra(catalog_database)`` measures more figures on the bench's catalog database (a path
+    or URL), last, in this process (the CLI's ``--tui``: the terminal UI is a layer above this
+    harness).
     """
     if isinstance(devices, bool) or not isinstance(devices, int) or devices < 100:
         raise ValueError(f"devices: {devices!r} is not valid; expected a whole number of 100 or more")
     if isinstance(repeat, bool) or not isinstance(repeat, int) or repeat < 1:
         raise ValueError(f"repeat: {repeat!r} is not valid; expected a whole number of 1 or more")
+    if db_url is not None:
+        check_empty_server(db_url)
     load_before = _load_average()
     with _workdir(workdir) as folder, _cache_in(folder / "column-cache"):
-        bench = _Bench(devices, repeat, folder, progress, seed)
+        bench = _Bench(devices, repeat, folder, progress, seed, db_url)
         try:
             bench.build_csv()
-            bench.measure_import()
+            # The mapped sheet first: on a server both share the one database, and the plain
+            # import's catalog must be the one left for the ranking and search figures.
             bench.measure_import_mapped()
+            bench.measure_import()
             bench.measure_rank()
             bench.measure_find()
             bench.measure_cli()
             if extra is not None:
                 bench.db.dispose()
                 bench.progress("the terminal UI", 0, 1)
-                bench.metrics.update(extra(folder / "catalog.sqlite"))
+                bench.metrics.update(extra(bench.catalog_target))
                 bench.progress("the terminal UI", 1, 1)
         finally:
             if bench.db is not None:
                 bench.db.dispose()
+            if db_url is not None:
+                drop_bench_tables(db_url)
     m = bench.metrics
     if m["rank_ms"] is not None and m["rank_floor_ms"]:
         m["rank_ratio"] = m["rank_ms"] / m["rank_floor_ms"]
     if m["find_ms"] is not None and m["find_floor_ms"]:
         m["find_ratio"] = m["find_ms"] / m["find_floor_ms"]
     m["peak_rss_mb"] = peak_rss_mb()
+    if db_url is not None:
+        bench.notes.insert(0, "database: PostgreSQL (the one --db names, emptied again at the "
+                              "end); rank_cold_ms reads the server, as a server catalog is never "
+                              "cached on disk")
     # Other work on the machine skews every figure; the load average says how much there was.
     bench.notes.append(f"1-minute load average {load_before} at the start, {_load_average()} at "
                        f"the end ({os.cpu_count()} cores)")

@@ -242,7 +242,8 @@ class Stored:
     unchanged: int = 0
 
 
-def add_many(session: Session, batches: Iterable[Iterable[tuple[Any, ...]]]) -> Stored:
+def add_many(session: Session, batches: Iterable[Iterable[tuple[Any, ...]]],
+             keys_checked: bool = False) -> Stored:
     """Store many records at once: new keys inserted, stored ones updated in place when changed.
 
     Each row holds the values of :data:`BULK_COLUMNS`, already parsed and checked (the importer
@@ -253,6 +254,9 @@ def add_many(session: Session, batches: Iterable[Iterable[tuple[Any, ...]]]) -> 
 
     The rows are written with the driver's own ``executemany`` on plain tuples: SQLAlchemy's
     per-row parameter processing cost more than the insert itself.
+
+    ``keys_checked``: the caller has already refused repeated keys across all its batches (the
+    importer does, compactly), so no set of every key is kept here.
     """
     from sqlalchemy import bindparam, update
 
@@ -261,7 +265,7 @@ def add_many(session: Session, batches: Iterable[Iterable[tuple[Any, ...]]]) -> 
     table = DeviceRow.__table__
     now = utcnow()
     done = Stored()
-    seen: set[str] = set()
+    seen: set[str] | None = None if keys_checked else set()
     filled = bool(session.scalar(select(func.count()).select_from(table)))
     connection = session.connection()
     marker = "?" if connection.dialect.paramstyle == "qmark" else "%s"
@@ -304,15 +308,16 @@ def _import_page_cache(connection: Any) -> Iterator[None]:
 
 
 def _add_batch(session: Session, connection: Any, sql: str, stamp: Any, now: Any,
-               rows: list[tuple[Any, ...]], seen: set[str], filled: bool,
+               rows: list[tuple[Any, ...]], seen: set[str] | None, filled: bool,
                updates: list[dict[str, Any]], done: Stored) -> None:
     """One batch of :func:`add_many`: checked for repeated keys, then inserted or queued."""
     keys = [row[0] for row in rows]
-    for key in keys:
-        if key in seen:
-            raise CatalogError(f"designation: the key {key!r} is given twice; expected each "
-                               "designation once")
-        seen.add(key)
+    if seen is not None:
+        for key in keys:
+            if key in seen:
+                raise CatalogError(f"designation: the key {key!r} is given twice; expected "
+                                   "each designation once")
+            seen.add(key)
     existing = _stored_rows(session, keys) if filled else {}
     inserts = []
     for row in rows:

@@ -1,13 +1,13 @@
 """CSV exchange of devices and stock (pandas), all-or-nothing.
 
-An import reads the whole file, checks every row, and writes nothing unless every row is good;
-the report lists every bad row by its line number in the file (the header is line 1). The file
-is read and parsed CHUNK_ROWS rows at a time into columns (float arrays, lists of shared
-strings), so the text cells of the whole file are never in memory at once; rows are written
-only after the last chunk has parsed. Plain numeric cells are parsed column-wise; only cells
-carrying units or R-notation take the slower per-cell path, so a catalog of 200,000 rows imports
-in seconds. Re-importing a file updates the records in place (matched by normalised
-designation), so it never duplicates.
+An import reads the whole file, checks every row, and keeps nothing unless every row is good;
+the report lists every bad row by its line number in the file (the header is line 1). A device
+file is streamed CHUNK_ROWS rows at a time: each chunk is parsed into columns (float arrays,
+lists of shared strings), checked and written inside the one transaction, which a bad row
+anywhere rolls back, so a million rows never sit in memory at once. Plain numeric cells are
+parsed column-wise; only cells carrying units or R-notation take the slower per-cell path, so a
+catalog of 200,000 rows imports in seconds. Re-importing a file updates the records in place
+(matched by normalised designation), so it never duplicates.
 
 Export writes SI base units and neutralises spreadsheet formula injection: a text cell starting
 with = + - @ TAB or CR gets a leading apostrophe (OWASP "CSV Injection"), while numbers such as
@@ -455,41 +455,54 @@ def import_devices(session: Session, path: str | Path | None = None,
     """Import device rows from a CSV file (or a frame of text cells); all or nothing.
 
     ``strict`` turns consistency warnings (designation vs fields) into errors. The file is
-    parsed in chunks of :data:`CHUNK_ROWS` rows; nothing is written until every chunk has
-    parsed and every row has passed.
+    streamed :data:`CHUNK_ROWS` rows at a time: each chunk is parsed, checked (repeated keys
+    against every earlier chunk through :class:`SeenKeys`) and written inside the caller's one
+    transaction while no row so far has a problem; after the first problem the rest is only
+    checked, so the report still lists every bad row, and :class:`ImportRejected` is raised at
+    the end, which rolls the whole transaction back (the session's owner does).
     """
+    from partsdb.services.seen_keys import SeenKeys
+
     if frame is None:
         if path is None:
             raise ValueError("import_devices needs a path or a frame")
         frames = read_csv_chunks(path)
     else:
         frames = _frame_chunks(frame)
-    parsed, problems = _parse_frames(frames)
-    designations: list[str | None] = parsed.values["designation"]
-    keys = [normalize(d) if d else "" for d in designations]
-    first_line: dict[str, int] = {}
-    for pos, key in enumerate(keys):
-        if not key:
-            continue
-        if key in first_line:
-            problems.setdefault(pos, []).append(
-                f"designation: {designations[pos]!r} repeats line {first_line[key]} "
-                f"(same normalised key {key})")
-        else:
-            first_line[key] = pos + 2
-
     report = ImportReport()
-    warnings = _consistency(parsed, problems, strict, report)
+    problems: dict[int, list[str]] = {}
+    seen = SeenKeys()
+
+    def batches() -> Iterator[Iterator[tuple[Any, ...]]]:
+        offset = 0
+        for chunk in frames:
+            _check_header(chunk)
+            n = len(chunk)
+            parsed, found = _parse_frames(iter([chunk]), check=False)
+            del chunk
+            designations: list[str | None] = parsed.values["designation"]
+            keys = [normalize(d) if d else "" for d in designations]
+            for pos, line in seen.repeats(keys, offset + 2).items():
+                found.setdefault(pos, []).append(
+                    f"designation: {designations[pos]!r} repeats line {line} "
+                    f"(same normalised key {keys[pos]})")
+            warnings = _consistency(parsed, found, strict, report, offset)
+            problems.update((offset + pos, msgs) for pos, msgs in found.items())
+            if not problems:
+                yield from _device_batches(parsed, keys, warnings)
+            offset += n
+
+    stored = catalog.add_many(session, batches(), keys_checked=True)
     if problems:
         raise ImportRejected([(pos + 2, "; ".join(msgs)) for pos, msgs in sorted(problems.items())])
-
-    _write_devices(session, parsed, keys, warnings, report)
+    report.added, report.updated, report.unchanged = stored.added, stored.updated, stored.unchanged
     return report
 
 
 def _consistency(parsed: _Columns, problems: dict[int, list[str]], strict: bool,
-                 report: ImportReport) -> list[str | None]:
-    """Stored warnings text per row (designation vs fields), for the rows without problems."""
+                 report: ImportReport, offset: int = 0) -> list[str | None]:
+    """Stored warnings text per row (designation vs fields), for the rows without problems
+    (``offset``: rows of the file before ``parsed``, for the report's line numbers)."""
     from partsdb.consistency import CHECKED_FIELDS, consistency_warnings
 
     out: list[str | None] = [None] * parsed.n
@@ -511,24 +524,26 @@ def _consistency(parsed: _Columns, problems: dict[int, list[str]], strict: bool,
                 if strict:
                     problems.setdefault(pos, []).append(f"{probe.designation}: {w} (--strict)")
                 else:
-                    report.warnings.append((pos + 2, f"{probe.designation}: {w}"))
+                    report.warnings.append((offset + pos + 2, f"{probe.designation}: {w}"))
     return out
 
 
 _WRITE_ROWS = 20_000
 
 
+def _device_batches(parsed: _Columns, keys: list[str], warnings: list[str | None]
+                    ) -> Iterator[Iterator[tuple[Any, ...]]]:
+    """The rows of ``parsed`` as :func:`catalog.add_many` takes them, a batch at a time."""
+    for start in range(0, parsed.n, _WRITE_ROWS):
+        stop = min(parsed.n, start + _WRITE_ROWS)
+        yield zip(keys[start:stop], *[parsed.plain(name, start, stop) for name in FIELD_NAMES],
+                  warnings[start:stop], strict=True)
+
+
 def _write_devices(session: Session, parsed: _Columns, keys: list[str],
                    warnings: list[str | None], report: ImportReport) -> None:
     """Hand the rows to the catalog service a batch at a time, straight from the columns."""
-
-    def batches() -> Iterator[Iterator[tuple[Any, ...]]]:
-        for start in range(0, parsed.n, _WRITE_ROWS):
-            stop = min(parsed.n, start + _WRITE_ROWS)
-            yield zip(keys[start:stop], *[parsed.plain(name, start, stop) for name in FIELD_NAMES],
-                      warnings[start:stop], strict=True)
-
-    stored = catalog.add_many(session, batches())
+    stored = catalog.add_many(session, _device_batches(parsed, keys, warnings))
     report.added, report.updated, report.unchanged = stored.added, stored.updated, stored.unchanged
 
 

@@ -153,3 +153,63 @@ def test_tui_figures_through_the_pilot() -> None:
 
     assert set(data) == {"devices", "machine", *METRICS, *TUI_METRICS}
     assert 0 < data["tui_first_screen_s"] < 60 and 0 < data["tui_keystroke_ms"] < 60_000
+
+
+# ---------------------------------------------------------------- on PostgreSQL (--db URL)
+
+@pytest.mark.postgres
+def test_bench_runs_on_an_empty_postgres_database(pg_url: str) -> None:
+    from sqlalchemy import create_engine, inspect
+
+    result = CliRunner().invoke(main, ["bench", "--devices", "300", "--repeat", "1",
+                                       "--db", pg_url, "--format", "json"])
+    assert result.exit_code == 0, result.output + (result.stderr or "")
+    data = json.loads(result.stdout)
+    assert set(data) == {"devices", "machine", *METRICS}
+    for name in METRICS:
+        assert isinstance(data[name], float) and math.isfinite(data[name]) and data[name] > 0, name
+    assert data["find_agreement"] == 1.0
+    # The bench's tables are gone again: the database is as empty as it was given.
+    engine = create_engine(pg_url)
+    try:
+        assert inspect(engine).get_table_names() == []
+    finally:
+        engine.dispose()
+
+
+@pytest.mark.postgres
+def test_bench_refuses_a_postgres_database_holding_a_shop(pg_url: str) -> None:
+    from sqlalchemy import func, select
+
+    from partsdb.services import catalog
+    from partsdb.storage.database import open_database
+    from partsdb.storage.models import DeviceRow
+
+    shop = open_database(pg_url, notify=None)
+    try:
+        with shop.session() as session:
+            catalog.add_device(session, {"designation": "OC375", "kind": "bjt",
+                                         "polarity": "pnp", "material": "ge"})
+    finally:
+        shop.dispose()
+    result = CliRunner().invoke(main, ["bench", "--devices", "300", "--repeat", "1",
+                                       "--db", pg_url])
+    assert result.exit_code == 2, result.output
+    lines = result.stderr.strip().splitlines()
+    assert len(lines) == 1 and "--db" in lines[0] and "not empty" in lines[0], lines
+    assert "devices" in lines[0] or "alembic_version" in lines[0] or "lots" in lines[0]
+    shop = open_database(pg_url, notify=None)
+    try:
+        with shop.session() as session:
+            assert session.scalar(select(func.count(DeviceRow.id))) == 1
+            assert catalog.get_device(session, "OC375") is not None
+    finally:
+        shop.dispose()
+
+
+def test_bench_refuses_a_sqlite_url(tmp_path: Path) -> None:
+    target = tmp_path / "shop.sqlite"
+    result = CliRunner().invoke(main, ["bench", "--devices", "300", "--db", f"sqlite:///{target}"])
+    assert result.exit_code == 2, result.output
+    assert "PostgreSQL" in result.stderr and len(result.stderr.strip().splitlines()) == 1
+    assert not target.exists()

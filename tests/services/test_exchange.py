@@ -400,3 +400,43 @@ def test_stock_import_names_each_problem(empty_db, tmp_path: Path, text: str, me
         exchange.import_stock(session, lots)
     with empty_db.session() as session:
         assert stock.lots_at(session, None) == []
+
+
+def test_a_bad_row_in_the_last_chunk_leaves_the_database_unchanged(  # type: ignore[no-untyped-def]
+        empty_db, tmp_path: Path, monkeypatch: pytest.MonkeyPatch) -> None:
+    # The import streams: earlier chunks are written before the last one is read, inside the
+    # one transaction, which the bad row rolls back (new rows and an update of a stored one).
+    with empty_db.session() as session:
+        exchange.import_devices(session, write(tmp_path / "old.csv", [GOOD_ROWS[0]]))
+    with empty_db.session() as session:
+        before = catalog.get_device(session, "QR 100")
+    monkeypatch.setattr(exchange, "CHUNK_ROWS", 2)
+    rows = [GOOD_ROWS[0].replace("45V", "47V"), *GOOD_ROWS[1:], *FIXED_ROWS,  # lines 2-6
+            BAD_ROWS[0].replace("QR103", "QR107")]                            # line 7: bad
+    with pytest.raises(ImportRejected) as info, empty_db.session() as session:
+        exchange.import_devices(session, write(tmp_path / "d.csv", rows))
+    assert [line for line, _ in info.value.problems] == [7]
+    assert device_count(empty_db) == 1
+    with empty_db.session() as session:
+        after = catalog.get_device(session, "QR 100")
+        assert catalog.get_device(session, "QR103") is None
+    assert before is not None and after == before and after.vceo == 45.0
+
+
+def test_seen_keys_finds_every_repeat_and_its_first_line() -> None:
+    from partsdb.services.seen_keys import SeenKeys
+
+    # The oracle: a plain dict of the first line of each key, over the whole sequence.
+    keys = [f"K{(i * 7919) % 1500}" if i % 3 else f"Ä{i % 40}" for i in range(3000)]
+    keys[10] = keys[11] = ""
+    seen, found, first = SeenKeys(), {}, {}
+    for start in range(0, len(keys), 250):
+        part = keys[start:start + 250]
+        found.update({start + pos: line for pos, line in seen.repeats(part, start + 2).items()})
+    for pos, key in enumerate(keys):
+        if key and key in first:
+            assert found.pop(pos) == first[key], pos
+        elif key:
+            first[key] = pos + 2
+    assert found == {}
+    assert len(seen) == len(first)

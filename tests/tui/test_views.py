@@ -674,3 +674,22 @@ async def test_spec_ptot_without_its_reference_is_refused(shop_db: Any) -> None:
         await pilot.pause()
         status = static_text(view.query_one("#sub-status", Static))
         assert "Ptot ref" in status and "ptot_ref" not in status and view.result is None
+
+
+async def test_a_view_built_on_its_first_show_keeps_what_is_typed_meanwhile(
+        shop_db: Any, monkeypatch: pytest.MonkeyPatch) -> None:
+    """Only the start view is built at start; with the others not built in the background
+    (as on a slow machine), F3 builds Devices on the spot and the keys typed at once land in
+    its field, none in the view left."""
+    from tui.app import PartsdbApp
+
+    monkeypatch.setattr(PartsdbApp, "_build_next_view", lambda self: None)
+    app = build_app(shop_db, start="substitute", cursor_blink=False)
+    async with app.run_test(size=SIZE) as pilot:
+        await pilot.pause()
+        assert app.built == {"substitute"} and not app.query("#devices")
+        await _burst(app, pilot, ["f3", "q", "x"])
+        await pilot.pause()
+        assert app.query_one("#dev-search").value == "qx"
+        assert app.query_one("#sub-query").value == ""
+        assert "devices" in app.built
