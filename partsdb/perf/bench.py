@@ -60,6 +60,7 @@ from typing import Any
 
 import numpy as np
 
+from partsdb.perf.server import check_empty_server, drop_bench_tables
 from partsdb.perf.synthetic import SEED
 
 DEFAULT_DEVICES = 200_000
@@ -570,54 +571,6 @@ def write_mapped_sheet(source: Path, target: Path) -> None:
             frame["package"] = frame["package"].str.lower().str.replace("-", "", regex=False)
             frame = frame.rename(columns=SHEET_HEADERS)
             frame.to_csv(out, sep=";", index=False, header=i == 0, lineterminator="\n")
-
-
-def _server_engine(url: str) -> Any:
-    from partsdb.errors import InvalidInput
-    from partsdb.storage.database import make_engine, mask_url, resolve_url
-
-    resolved = resolve_url(url)
-    if resolved.get_backend_name() != "postgresql":
-        raise InvalidInput(f"--db: {mask_url(resolved)} is not valid; expected a PostgreSQL URL "
-                           "of an empty database (without --db the bench uses SQLite files "
-                           "of its own)")
-    return make_engine(resolved)
-
-
-def check_empty_server(url: str) -> None:
-    """Refuse (exit 2) a PostgreSQL database that holds any table or view: the bench empties
-    its database before each import and at the end, so it runs only on a throwaway one.
-    Nothing is written before this check passes."""
-    from sqlalchemy import inspect
-
-    from partsdb.errors import InvalidInput
-    from partsdb.storage.database import mask_url
-
-    engine = _server_engine(url)
-    try:
-        seen = inspect(engine)
-        found = [*seen.get_table_names(), *seen.get_view_names()]
-    finally:
-        engine.dispose()
-    if found:
-        raise InvalidInput(
-            f"--db: {mask_url(url)} is not empty ({len(found)} tables, e.g. "
-            f"{sorted(found)[0]}); expected an empty database the bench may fill and empty; "
-            "nothing was touched")
-
-
-def drop_bench_tables(url: str) -> None:
-    """Drop every table of the database at ``url`` (only ever one that
-    :func:`check_empty_server` found empty: every table in it is the bench's)."""
-    from sqlalchemy import inspect
-
-    engine = _server_engine(url)
-    try:
-        with engine.begin() as conn:
-            for name in inspect(conn).get_table_names():
-                conn.exec_driver_sql(f'DROP TABLE IF EXISTS "{name}" CASCADE')
-    finally:
-        engine.dispose()
 
 
 def run_bench(devices: int = DEFAULT_DEVICES, repeat: int = DEFAULT_REPEAT, *,
