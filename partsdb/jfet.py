@@ -43,7 +43,7 @@ import math
 from dataclasses import dataclass, field
 from typing import Any
 
-from partsdb.errors import InvalidInput
+from partsdb.bias.stage import BiasError
 from partsdb.eseries import nearest
 
 JFET_NETWORKS: tuple[str, ...] = ("self", "divider")
@@ -56,15 +56,9 @@ CORNERS_NOTE = ("corners: (Idss min, |Vgs(off)| min) and (Idss max, |Vgs(off)| m
 FIX_TARGET = "the original's drain current at its typical Idss and Vgs(off)"
 
 
-class JfetError(InvalidInput):
-    """A JFET stage or device input that makes no sense: field, value, expectation."""
-
-    def __init__(self, field: str, value: object, expected: str) -> None:
-        self.field = field
-        self.value = value
-        self.expected = expected
-        what = "missing" if value is None else f"{value!r} is not valid"
-        super().__init__(f"{field}: {what}; expected {expected}")
+class JfetError(BiasError):
+    """A JFET stage or device input that makes no sense: field, value, expectation (the
+    bipolar stages' error, so one handler serves every network)."""
 
 
 def _positive(name: str, value: object, *, zero_ok: bool, expected: str) -> float:

@@ -35,7 +35,7 @@ from typing import Any
 
 from partsdb.derating import BUILTIN_POLICIES, STATUSES, UNDER, UNKNOWN, Policy
 from partsdb.errors import InvalidInput
-from partsdb.operating import Limit, _limit, grade_tj, tj_ratio
+from partsdb.operating import Limit, _limit, grade_tj, tj_ratio, worst_status
 from partsdb.thermal import (
     DEFAULT_CASE_TO_SINK,
     T_RATING,
@@ -192,9 +192,7 @@ class MosfetCheck:
 
     @property
     def worst(self) -> str:
-        order = {STATUSES[UNDER]: 3, "marginal": 2, STATUSES[UNKNOWN]: 1, "ok": 0}
-        return max((lim.status for lim in self.limits), key=order.__getitem__,
-                   default=STATUSES[UNKNOWN])
+        return worst_status(self.limits)
 
     def to_json(self) -> dict[str, Any]:
         p = self.point

@@ -100,6 +100,14 @@ def hyperbola(vce: Any, ic: Any, p_allowed: Any) -> tuple[Any, Any, Any]:
     return _out(ic_allowed), _out(vce_allowed), _out(fraction)
 
 
+
+def worst_status(limits: Any) -> str:
+    """The worst status over ``limits`` (under-rated > marginal > unknown > ok); unknown when
+    there are none. Shared by the bipolar and the MOSFET operating-point checks."""
+    order = {STATUSES[UNDER]: 3, "marginal": 2, STATUSES[UNKNOWN]: 1, "ok": 0}
+    return max((lim.status for lim in limits), key=order.__getitem__,
+               default=STATUSES[UNKNOWN])
+
 @dataclass
 class Limit:
     """One stress against its rating."""
@@ -147,9 +155,7 @@ class OperatingCheck:
     @property
     def worst(self) -> str:
         """The worst status over all limits (under-rated > marginal > unknown > ok)."""
-        order = {STATUSES[UNDER]: 3, "marginal": 2, STATUSES[UNKNOWN]: 1, "ok": 0}
-        return max((lim.status for lim in self.limits), key=order.__getitem__,
-                   default=STATUSES[UNKNOWN])
+        return worst_status(self.limits)
 
     def to_json(self) -> dict[str, Any]:
         return {
